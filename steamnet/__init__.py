@@ -1,5 +1,21 @@
-"""steamnet: plant steam network balance and let-down desuperheater checks."""
+"""steamnet: plant steam network balance and let-down desuperheater checks.
 
-from ._version import __version__
+Public API::
 
-__all__ = ["__version__"]
+    import steamnet
+    model = steamnet.load_model("cases/orlewick.toml")
+    study = steamnet.solve_cases(model)          # every case of the model
+    study.summary, study.headers, study.equipment, study.streams, study.water
+"""
+
+from ._version import FORMAT_VERSION, __version__
+from .errors import (ModelError, ModelErrors, NotConvergedError, PropertyRangeError,
+                     SteamnetError)
+from .model.model import Model, load_model, loads_model
+from .solve import CaseResult, StudyResult, solve_case, solve_cases
+
+__all__ = [
+    "__version__", "FORMAT_VERSION", "load_model", "loads_model", "Model", "solve_case",
+    "solve_cases", "CaseResult", "StudyResult", "SteamnetError", "ModelError",
+    "ModelErrors", "PropertyRangeError", "NotConvergedError",
+]

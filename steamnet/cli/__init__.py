@@ -1,0 +1,75 @@
+"""The ``steamnet`` command.
+
+Exit codes: 0 all cases solved (and, for station checks, nothing failed); 1 a case is
+infeasible or did not converge, or a check failed; 2 bad input (the message names the
+file, the item and the field); 3 an output file could not be written; 4 an internal
+error (please report it; ``--debug`` shows the traceback); 130 interrupted.
+"""
+
+from __future__ import annotations
+
+import sys
+import traceback
+
+import click
+
+from .._version import __version__
+from ..errors import ModelError, SteamnetError
+
+EXIT_OK, EXIT_FAIL, EXIT_INPUT, EXIT_OUTPUT, EXIT_INTERNAL, EXIT_INTERRUPT = 0, 1, 2, 3, 4, 130
+
+
+class _Group(click.Group):
+    """Turns every error into a one-line message and an exit code, never a traceback."""
+
+    def invoke(self, ctx):
+        debug = bool(ctx.params.get("debug"))
+        try:
+            return super().invoke(ctx)
+        except ModelError as exc:
+            click.echo(_error_text(exc), err=True)
+            ctx.exit(EXIT_INPUT)
+        except KeyboardInterrupt:
+            click.echo("interrupted: nothing half-written was kept", err=True)
+            ctx.exit(EXIT_INTERRUPT)
+        except SteamnetError as exc:
+            from ..io.atomic import OutputError
+            click.echo(f"error: {exc}", err=True)
+            ctx.exit(EXIT_OUTPUT if isinstance(exc, OutputError) else EXIT_FAIL)
+        except (click.exceptions.Exit, click.exceptions.Abort, click.ClickException):
+            raise
+        except Exception as exc:  # pragma: no cover - defensive
+            if debug:
+                traceback.print_exc()
+            click.echo(f"internal error: {type(exc).__name__}: {exc} (please report "
+                       "this; run with --debug for details)", err=True)
+            ctx.exit(EXIT_INTERNAL)
+
+
+def _error_text(exc: ModelError) -> str:
+    errors = getattr(exc, "errors", [exc])
+    lines = [f"error: {e}" for e in errors[:50]]
+    if len(errors) > 50:
+        lines.append(f"... and {len(errors) - 50} more")
+    return "\n".join(lines)
+
+
+@click.group(cls=_Group, context_settings={"help_option_names": ["-h", "--help"]})
+@click.version_option(__version__, "--version", prog_name="steamnet")
+@click.option("--debug", is_flag=True, hidden=True, help="Show tracebacks of internal "
+              "errors.")
+def main(debug: bool) -> None:
+    """steamnet: plant steam and spray-water balance, let-down station checks and an
+    Excel workbook of results.
+
+    Start with `steamnet solve cases/orlewick.toml`; see README.md and docs/.
+    """
+
+
+from . import commands  # noqa: E402,F401  (registers the subcommands)
+
+__all__ = ["main", "EXIT_OK", "EXIT_FAIL", "EXIT_INPUT", "EXIT_OUTPUT", "EXIT_INTERNAL"]
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

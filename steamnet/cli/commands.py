@@ -1,0 +1,88 @@
+"""Core subcommands: ``check`` and ``solve``."""
+
+from __future__ import annotations
+
+import click
+
+from ..model.model import load_model
+from ..solve import solve_cases
+from . import EXIT_FAIL, EXIT_OK, main
+
+
+def _fmt(v, nd=1):
+    try:
+        return f"{v:,.{nd}f}"
+    except (TypeError, ValueError):
+        return "-"
+
+
+def print_summary(study) -> None:
+    """A concise summary per case."""
+    m = study.model
+    click.echo(f"{m.site.name} ({m.source}, sha256 {m.sha256[:12]})")
+    for c in study.cases:
+        s = c.summary
+        mark = {"solved": "ok", "infeasible": "INFEASIBLE",
+                "not_converged": "NOT CONVERGED", "error": "ERROR"}[c.status]
+        click.echo(f"\ncase '{c.case}': {mark}")
+        if c.status != "solved":
+            click.echo(f"  {c.message}")
+            if c.status != "infeasible":
+                continue
+        click.echo(f"  steam raised {_fmt(s.get('steam_raised_t_h'))} t/h, fuel "
+                   f"{_fmt(s.get('fuel_mw'))} MW, power {_fmt(s.get('power_generated_mw'), 2)}"
+                   f" MW(e) + {_fmt(s.get('mechanical_power_mw'), 2)} MW shaft")
+        click.echo(f"  spray {_fmt(s.get('spray_t_h'))} t/h, deaerator steam "
+                   f"{_fmt(s.get('da_steam_t_h'))} t/h, make-up {_fmt(s.get('makeup_t_h'))} "
+                   f"t/h, vented {_fmt(s.get('vented_t_h'))} t/h, cost "
+                   f"{_fmt(s.get('cost_per_h'), 0)} {m.site.currency}/h")
+        if len(c.headers):
+            for _, h in c.headers.iterrows():
+                click.echo(f"    {h['header']:<12} {h['p_barg']:7.2f} bar(g) "
+                           f"{h['t_degc']:7.1f} degC  superheat {h['superheat_k']:6.1f} K  "
+                           f"throughput {h['inflow_t_h']:8.1f} t/h")
+        if c.status == "solved":
+            click.echo(f"  balance closes: mass {s['mass_residual_rel']:.1e}, energy "
+                       f"{s['energy_residual_rel']:.1e}, water "
+                       f"{s['water_residual_rel']:.1e} relative; {c.iterations} iterations")
+
+
+@main.command()
+@click.argument("model", type=click.Path(dir_okay=False))
+def check(model: str) -> None:
+    """Validate MODEL (the base and every case) without solving."""
+    m = load_model(model)
+    n_items = sum(len(v) for v in m.items.values())
+    click.echo(f"{model}: valid ({len(m.headers)} headers, {n_items} items, "
+               f"{len(m.cases)} cases)")
+
+
+@main.command()
+@click.argument("model", type=click.Path(dir_okay=False))
+@click.option("--case", "cases", multiple=True, help="Solve only this case (repeatable).")
+@click.option("--json", "json_path", type=click.Path(dir_okay=False),
+              help="Write every result to this JSON file (layout: docs/results.md).")
+@click.option("--quiet", is_flag=True, help="Print only problems.")
+@click.pass_context
+def solve(ctx, model: str, cases: tuple[str, ...], json_path: str | None,
+          quiet: bool) -> None:
+    """Solve every case of MODEL and print a summary per case.
+
+    Exit 0 when every case solved, 1 when any case is infeasible or did not converge.
+    """
+    m = load_model(model)
+    for name in cases:
+        m.case(name)
+    study = solve_cases(m, list(cases) if cases else None)
+    if not quiet:
+        print_summary(study)
+    else:
+        for c in study.cases:
+            if not c.ok:
+                click.echo(f"case '{c.case}': {c.status}: {c.message}")
+    if json_path:
+        from ..io.jsonout import write_json
+        write_json(study, json_path)
+        if not quiet:
+            click.echo(f"\nwrote {json_path}")
+    ctx.exit(EXIT_OK if study.all_solved else EXIT_FAIL)

@@ -1,0 +1,1 @@
+"""Output files: JSON export, atomic writes."""

@@ -1,0 +1,281 @@
+"""Checks across items, run on the base model and on every case before any solve.
+
+Each problem is a :class:`ModelError` naming the file, the item and the field; all are
+collected and raised together as :class:`ModelErrors`.
+"""
+
+from __future__ import annotations
+
+from collections import defaultdict
+
+import networkx as nx
+
+from .. import properties as props
+from ..errors import ModelError, ModelErrors, PropertyRangeError
+from ..graph import build_graph, steam_sources
+from .model import ITEM_LABELS, Model
+
+__all__ = ["validate_model", "swing_elements"]
+
+
+def _on(item) -> bool:
+    return getattr(item, "in_service", True)
+
+
+def swing_elements(model: Model) -> dict[str, list[tuple[str, str, int, float | None]]]:
+    """Per header, the elements that can close its balance by supplying steam:
+    (table, name, priority, share). Extractions are named 'turbine/header'."""
+    out: dict[str, list] = defaultdict(list)
+    for n, b in model.table("boiler").items():
+        if _on(b) and b.mode == "swing":
+            out[b.header].append(("boiler", n, b.priority, b.share))
+    for n, t in model.table("steam_transfer").items():
+        if _on(t) and t.mode == "swing" and t.direction == "import":
+            out[t.header].append(("steam_transfer", n, t.priority, t.share))
+    for n, t in model.table("turbine").items():
+        if _on(t) and t.mode == "swing":
+            out[t.outlet].append(("turbine", n, t.priority, t.share))
+    for n, t in model.table("extraction_turbine").items():
+        if _on(t) and t.mode != "tripped":
+            for e in t.extractions:
+                if e.mode == "swing":
+                    out[e.header].append(("extraction_turbine", f"{n}/{e.header}",
+                                          e.priority, e.share))
+    for n, s in model.table("letdown").items():
+        if _on(s) and s.mode == "auto":
+            out[s.outlet].append(("letdown", n, s.priority, s.share))
+    return out
+
+
+def absorbers(model: Model) -> dict[str, list[tuple[str, str, int]]]:
+    """Per header, the elements that take excess steam: swing exports, then vents."""
+    out: dict[str, list] = defaultdict(list)
+    for n, t in model.table("steam_transfer").items():
+        if _on(t) and t.mode == "swing" and t.direction == "export":
+            out[t.header].append(("steam_transfer", n, t.priority))
+    for n, v in model.table("vent").items():
+        if _on(v):
+            out[v.header].append(("vent", n, v.priority))
+    return out
+
+
+def validate_model(model: Model) -> None:
+    """Raise :class:`ModelErrors` listing every cross-item problem of ``model``."""
+    errs: list[ModelError] = []
+    src = model.source
+    case = f"case '{model.case_name}': " if model.case_name else ""
+
+    def err(table: str, name: str, field: str | None, msg: str) -> None:
+        errs.append(ModelError(msg, file=src, item=f"{case}{ITEM_LABELS[table]} '{name}'",
+                               field=field))
+
+    headers = model.headers
+    supplies = model.table("water_supply")
+    deaerators = model.table("deaerator")
+
+    def need_header(table, name, field, ref):
+        if ref not in headers:
+            known = ", ".join(headers) or "none"
+            err(table, name, field, f"header '{ref}' does not exist (headers: {known})")
+            return False
+        return True
+
+    def p(ref):
+        return headers[ref].pressure
+
+    # ------------------------------------------------------------ headers, IF97 range
+    if not headers:
+        errs.append(ModelError("the model has no [[header]]", file=src, item="header"))
+    for n, h in headers.items():
+        if not (props.P_MIN < h.pressure < props.P_CRIT):
+            err("header", n, "pressure", f"{h.pressure / 1e5:.4g} bar(a) is outside the "
+                "range this program solves (above the triple point, below the critical "
+                "pressure 220.64 bar(a), IAPWS-IF97)")
+    # ---------------------------------------------------------------- deaerator
+    if len(deaerators) > 1:
+        for n in list(deaerators)[1:]:
+            err("deaerator", n, None, "only one deaerator is supported per model")
+    for n, da in deaerators.items():
+        if need_header("deaerator", n, "header", da.header):
+            if da.pressure > p(da.header):
+                err("deaerator", n, "pressure", f"deaerator pressure is above its "
+                    f"heating-steam header '{da.header}'")
+        if not (props.P_MIN < da.pressure < props.P_CRIT):
+            err("deaerator", n, "pressure", "outside IAPWS-IF97 saturation range")
+    # ------------------------------------------------------------- water supplies
+    for n, ws in supplies.items():
+        if ws.source == "deaerator" and not deaerators:
+            err("water_supply", n, "source", "source 'deaerator' but the model has no "
+                "[[deaerator]]")
+        if ws.source == "deaerator" and deaerators:
+            da = next(iter(deaerators.values()))
+            if ws.pressure < da.pressure:
+                err("water_supply", n, "pressure", "supply pressure is below the "
+                    "deaerator pressure it is pumped from")
+        if ws.temperature is not None:
+            try:
+                props.state_pt(ws.pressure, ws.temperature)
+                if ws.pressure < props.P_CRIT and ws.temperature >= props.t_sat(ws.pressure):
+                    err("water_supply", n, "temperature", "water at or above saturation "
+                        "at the supply pressure")
+            except PropertyRangeError as exc:
+                err("water_supply", n, "temperature", str(exc))
+    # -------------------------------------------------------------------- boilers
+    for n, b in model.table("boiler").items():
+        ok = need_header("boiler", n, "header", b.header)
+        if b.feedwater not in supplies:
+            err("boiler", n, "feedwater", f"water supply '{b.feedwater}' does not exist")
+        elif ok and supplies[b.feedwater].pressure <= p(b.header):
+            err("boiler", n, "feedwater", f"feedwater supply '{b.feedwater}' pressure is "
+                f"not above the header pressure")
+        if b.blowdown_flash_header is not None:
+            if need_header("boiler", n, "blowdown_flash_header", b.blowdown_flash_header) \
+                    and ok and p(b.blowdown_flash_header) >= p(b.header):
+                err("boiler", n, "blowdown_flash_header", "the flash header must be at a "
+                    "lower pressure than the boiler")
+        if ok:
+            _check_superheated(err, "boiler", n, "steam_temperature", p(b.header),
+                               b.steam_temperature)
+        if b.mode == "fixed" and b.max_steam is not None and b.steam > b.max_steam:
+            err("boiler", n, "steam", "fixed steam is above max_steam")
+    for n, t in model.table("steam_transfer").items():
+        ok = need_header("steam_transfer", n, "header", t.header)
+        if ok and t.direction == "import":
+            _check_superheated(err, "steam_transfer", n, "steam_temperature",
+                               p(t.header), t.steam_temperature)
+    # ------------------------------------------------------------------- turbines
+    for n, t in model.table("turbine").items():
+        a = need_header("turbine", n, "inlet", t.inlet)
+        b = need_header("turbine", n, "outlet", t.outlet)
+        if a and b and p(t.outlet) >= p(t.inlet):
+            err("turbine", n, "outlet", f"outlet header '{t.outlet}' is not below the "
+                f"inlet header '{t.inlet}'")
+        if t.mode == "fixed_flow" and t.max_flow is not None and t.flow > t.max_flow:
+            err("turbine", n, "flow", "fixed flow is above max_flow")
+    for n, t in model.table("extraction_turbine").items():
+        if not need_header("extraction_turbine", n, "inlet", t.inlet):
+            continue
+        last = p(t.inlet)
+        seen = set()
+        for i, e in enumerate(t.extractions):
+            fld = f"extractions.{i}.header"
+            if e.header in seen:
+                err("extraction_turbine", n, fld, f"two extractions to '{e.header}'")
+            seen.add(e.header)
+            if need_header("extraction_turbine", n, fld, e.header):
+                if p(e.header) >= last:
+                    err("extraction_turbine", n, fld, f"extraction header '{e.header}' "
+                        "is not below the previous section's pressure")
+                last = p(e.header)
+        if t.exhaust is not None:
+            if need_header("extraction_turbine", n, "exhaust", t.exhaust) and \
+                    p(t.exhaust) >= last:
+                err("extraction_turbine", n, "exhaust", "exhaust header is not below the "
+                    "last extraction")
+        elif t.condenser_pressure is not None:
+            if t.condenser_pressure >= last:
+                err("extraction_turbine", n, "condenser_pressure", "condenser pressure "
+                    "is not below the last extraction")
+            if not props.P_MIN < t.condenser_pressure < props.P_CRIT:
+                err("extraction_turbine", n, "condenser_pressure", "outside IAPWS-IF97")
+        if t.condensate_return > 0 and not deaerators:
+            err("extraction_turbine", n, "condensate_return", "condensate is returned "
+                "but the model has no deaerator")
+    # ------------------------------------------------------------------- let-downs
+    for n, s in model.table("letdown").items():
+        a = need_header("letdown", n, "inlet", s.inlet)
+        b = need_header("letdown", n, "outlet", s.outlet)
+        if a and b and p(s.outlet) >= p(s.inlet):
+            err("letdown", n, "outlet", f"outlet header '{s.outlet}' is not below the "
+                f"inlet header '{s.inlet}'")
+        d = s.desuperheater
+        if d is not None:
+            if d.spray_supply not in supplies:
+                err("letdown", n, "desuperheater.spray_supply",
+                    f"water supply '{d.spray_supply}' does not exist")
+            if b and d.outlet_temperature is not None:
+                try:
+                    ts = props.t_sat(p(s.outlet))
+                    if d.outlet_temperature <= ts:
+                        err("letdown", n, "desuperheater.outlet_temperature",
+                            f"setpoint {d.outlet_temperature - 273.15:.1f} degC is at or "
+                            f"below saturation at the outlet ({ts - 273.15:.1f} degC)")
+                except PropertyRangeError as exc:
+                    err("letdown", n, "desuperheater.outlet_temperature", str(exc))
+        if s.mode == "fixed_flow" and s.max_flow is not None and s.flow > s.max_flow:
+            err("letdown", n, "flow", "fixed flow is above max_flow")
+    # ---------------------------------------------------------------- users, vents
+    for n, u in model.table("user").items():
+        need_header("user", n, "header", u.header)
+        if u.condensate_return > 0 and not deaerators:
+            err("user", n, "condensate_return", "condensate is returned but the model "
+                "has no deaerator")
+        if u.condensate_temperature is not None and u.condensate_temperature > 647.0:
+            err("user", n, "condensate_temperature", "not a liquid temperature")
+    for n, v in model.table("vent").items():
+        need_header("vent", n, "header", v.header)
+    if errs:
+        raise ModelErrors(errs)
+    _check_degrees_of_freedom(model, errs, case)
+    _check_reachability(model, errs, case)
+    if errs:
+        raise ModelErrors(errs)
+
+
+def _check_superheated(err, table, name, field, p, t) -> None:
+    try:
+        props.state_pt(p, t)
+        ts = props.t_sat(p)
+        if t <= ts:
+            err(table, name, field, f"{t - 273.15:.1f} degC is at or below saturation "
+                f"({ts - 273.15:.1f} degC) at the header pressure: steam must be "
+                "superheated")
+    except PropertyRangeError as exc:
+        err(table, name, field, str(exc))
+
+
+def _check_degrees_of_freedom(model: Model, errs: list, case: str) -> None:
+    sw = swing_elements(model)
+    ab = absorbers(model)
+    for h in model.headers:
+        item = f"{case}header '{h}'"
+        if not sw.get(h) and not ab.get(h):
+            errs.append(ModelError(
+                "no element can close this header's balance: it needs a swing boiler, a "
+                "let-down in mode 'auto', a swing turbine or extraction, a swing "
+                "import/export, or a vent; every flow on it is fixed",
+                file=model.source, item=item))
+            continue
+        by_prio: dict[int, list] = defaultdict(list)
+        for table, n, prio, share in sw.get(h, []):
+            by_prio[prio].append((table, n, share))
+        for prio, group in by_prio.items():
+            if len(group) > 1 and any(s is None for _, _, s in group):
+                names = ", ".join(f"{ITEM_LABELS[t]} '{n}'" for t, n, _ in group)
+                errs.append(ModelError(
+                    f"{names} hold this header at the same priority {prio}: give each a "
+                    "'share', or give them different priorities (sequence), so the split "
+                    "is defined", file=model.source, item=item, field="priority"))
+        by_prio_ab: dict[int, list] = defaultdict(list)
+        for table, n, prio in ab.get(h, []):
+            by_prio_ab[prio].append((table, n))
+        for prio, group in by_prio_ab.items():
+            if len(group) > 1:
+                names = ", ".join(f"{ITEM_LABELS[t]} '{n}'" for t, n in group)
+                errs.append(ModelError(
+                    f"{names} take excess steam at the same priority {prio}: give them "
+                    "different priorities", file=model.source, item=item,
+                    field="priority"))
+
+
+def _check_reachability(model: Model, errs: list, case: str) -> None:
+    g = build_graph(model)
+    sources = steam_sources(g)
+    reach: set = set()
+    for s in sources:
+        reach |= nx.descendants(g, s) | {s}
+    for n, u in model.table("user").items():
+        if _on(u) and ("header", u.header) in g and ("header", u.header) not in reach:
+            errs.append(ModelError(f"user on header '{u.header}' has no path from any "
+                                   "boiler or steam import", file=model.source,
+                                   item=f"{case}user '{n}'", field="header"))

@@ -1,0 +1,281 @@
+"""Public solve API: one case, or all cases of a model, into result tables.
+
+>>> import steamnet
+>>> model = steamnet.load_model("cases/orlewick.toml")          # doctest: +SKIP
+>>> study = steamnet.solve_cases(model)                         # doctest: +SKIP
+>>> study.summary[["case", "status", "fuel_mw"]]                # doctest: +SKIP
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Callable, Iterable
+
+import numpy as np
+import pandas as pd
+
+from .errors import ModelError, ModelErrors
+from .model.model import Model
+from .model.validate import validate_model
+from .solver.balance import Solution, solve_net
+from .solver.network import ItemPropertyError, build
+from .solver.results import (TH, equipment_table, header_table, residuals, stream_table,
+                             water_balance)
+
+__all__ = ["CaseResult", "StudyResult", "solve_case", "solve_cases", "case_cost"]
+
+#: Relative closure every solved case must meet (issue 2: 1e-6 relative).
+CLOSURE = 1e-6
+
+
+@dataclass(frozen=True)
+class CaseResult:
+    """The balance of one case.
+
+    Attributes
+    ----------
+    case : str
+        Case name (``"base"`` for the model without changes).
+    status : str
+        ``"solved"``, ``"infeasible"``, ``"not_converged"`` or ``"error"``.
+    message : str
+        One line: what happened; for an infeasible case, which header is short or long,
+        by how much, and which limits bind.
+    findings : list of dict
+        Structured infeasibility findings (header, side, amount_kg_s, limits, message).
+    iterations : int
+        Fixed-point iterations used.
+    summary : dict
+        Case totals (see docs/results.md).
+    headers, equipment, streams : pandas.DataFrame
+        Result tables (empty when the case did not solve).
+    water : dict
+        The plant water balance (kg/s).
+    residuals : dict
+        Mass/energy residuals (relative maxima and per header).
+    solution : Solution or None
+        The raw solution (flows, enthalpies, modes) for studies and station checks.
+    """
+
+    case: str
+    status: str
+    message: str
+    findings: list
+    iterations: int
+    summary: dict
+    headers: pd.DataFrame
+    equipment: pd.DataFrame
+    streams: pd.DataFrame
+    water: dict
+    residuals: dict
+    solution: Solution | None = field(default=None, repr=False, compare=False)
+
+    @property
+    def ok(self) -> bool:
+        return self.status == "solved"
+
+
+@dataclass
+class StudyResult:
+    """Results of many cases; the tables concatenate those of the solved cases."""
+
+    model: Model
+    cases: list[CaseResult]
+
+    def _cat(self, attr: str) -> pd.DataFrame:
+        frames = [getattr(c, attr) for c in self.cases if len(getattr(c, attr))]
+        return pd.concat(frames, ignore_index=True) if frames else pd.DataFrame()
+
+    @property
+    def summary(self) -> pd.DataFrame:
+        return pd.DataFrame([c.summary for c in self.cases])
+
+    @property
+    def headers(self) -> pd.DataFrame:
+        return self._cat("headers")
+
+    @property
+    def equipment(self) -> pd.DataFrame:
+        return self._cat("equipment")
+
+    @property
+    def streams(self) -> pd.DataFrame:
+        return self._cat("streams")
+
+    @property
+    def water(self) -> pd.DataFrame:
+        return pd.DataFrame([{"case": c.case, **{k.replace("_kg_s", "_t_h"): v * TH
+                                                  for k, v in c.water.items()
+                                                  if k.endswith("_kg_s")}}
+                             for c in self.cases if c.water])
+
+    @property
+    def all_solved(self) -> bool:
+        return all(c.ok for c in self.cases)
+
+    def case(self, name: str) -> CaseResult:
+        for c in self.cases:
+            if c.case == name:
+                return c
+        raise KeyError(name)
+
+
+def case_cost(model: Model, equipment: pd.DataFrame, water: dict, sol: Solution) -> dict:
+    """Operating cost per hour and its parts, in the site currency.
+
+    cost = fuel + make-up and external water + imported steam + pump power
+    - exported steam - electric power generated (valued at the electricity price).
+    """
+    pr = model.prices
+    net = sol.net
+    fuel = sum(_fuel_w(b, sol) * b["fuel_price"] for b in net.boilers)
+    water_cost = (water["makeup_kg_s"] + water["external_water_kg_s"]) * pr.makeup_water
+    imp = sum(sol.x[t["var"]] * t["price"] for t in net.transfers if t["dir"] == "import")
+    exp = sum(sol.x[t["var"]] * t["price"] for t in net.transfers if t["dir"] == "export")
+    gen = 0.0
+    if len(equipment):
+        g = equipment[(equipment["type"].isin(["turbine", "extraction_turbine"]))
+                      & (equipment.get("drive") == "generator")]
+        gen = float(g["power_kw"].sum()) * 1e3
+    pump = sum(ws["pump_work"] * _supply_flow(sol, name)
+               for name, ws in net.supplies.items())
+    per_s = fuel + water_cost + imp - exp - gen * pr.electricity + pump * pr.electricity
+    return {"cost_per_h": per_s * 3600, "fuel_cost_per_h": fuel * 3600,
+            "water_cost_per_h": water_cost * 3600, "power_value_per_h": gen * pr.electricity
+            * 3600, "pump_power_kw": pump / 1e3}
+
+
+def _fuel_w(b: dict, sol: Solution) -> float:
+    m = sol.x[b["var"]]
+    fw = m / (1 - b["bd"])
+    duty = m * (b["h"] - b["supply"]["h"]) + (fw - m) * (b["h_bd"] - b["supply"]["h"])
+    return duty / b["eff"] if b["eff"] else 0.0
+
+
+def _supply_flow(sol: Solution, name: str) -> float:
+    net, x, co = sol.net, sol.x, sol.co
+    m = sum(x[b["var"]] / (1 - b["bd"]) for b in net.boilers if b["supply"]["name"] == name)
+    m += sum(x[s["var"]] * c["r"] for s, c in zip(net.letdowns, co.ld)
+             if s["ds"] is not None and s["ds"]["supply"]["name"] == name)
+    return m
+
+
+def _empty(case: str, status: str, message: str, findings=None, iterations=0,
+           solution=None) -> CaseResult:
+    return CaseResult(case=case, status=status, message=message, findings=findings or [],
+                      iterations=iterations,
+                      summary={"case": case, "status": status, "message": message,
+                               "iterations": iterations},
+                      headers=pd.DataFrame(), equipment=pd.DataFrame(),
+                      streams=pd.DataFrame(), water={}, residuals={}, solution=solution)
+
+
+def solve_case(model: Model, case: str | None = None, *, start: dict | None = None,
+               streams: bool = True, max_iter: int = 200) -> CaseResult:
+    """Solve one case of ``model`` (the base model when ``case`` is None).
+
+    Never raises for a case that cannot balance: the result's status says
+    ``infeasible`` (with the header, the amount and the binding limits),
+    ``not_converged`` or ``error`` (for example a state outside IAPWS-IF97, naming the
+    equipment). Raises :class:`ModelError` only for a case that does not exist or whose
+    changes are invalid.
+    """
+    name = case or model.case_name or "base"
+    m = model.for_case(case) if case is not None else model
+    if case is not None:
+        validate_model(m)
+    try:
+        net = build(m)
+        sol = solve_net(net, start=start, max_iter=max_iter)
+    except ItemPropertyError as exc:
+        return _empty(name, "error", f"outside IAPWS-IF97: {exc}")
+    if sol.status in ("error", "not_converged"):
+        return _empty(name, sol.status, sol.message, iterations=sol.iterations,
+                      solution=sol)
+    try:
+        res = residuals(sol)
+        eq = equipment_table(sol, name)
+        hd = header_table(sol, name, res)
+        st = stream_table(sol, name) if streams else pd.DataFrame()
+    except ItemPropertyError as exc:
+        return _empty(name, "error", f"outside IAPWS-IF97: {exc}", solution=sol)
+    except Exception as exc:  # a property error raised while tabulating
+        from .errors import PropertyRangeError
+        if isinstance(exc, PropertyRangeError):
+            return _empty(name, "error", f"outside IAPWS-IF97: {exc}", solution=sol)
+        raise
+    wb = res["water"]
+    status, message, findings = sol.status, sol.message, list(sol.findings)
+    if status == "solved":
+        worst = max(res["mass_rel"], res["energy_rel"], res["water_rel"])
+        if not (worst <= CLOSURE):
+            status = "not_converged"
+            message = (f"balance does not close: mass {res['mass_rel']:.2e}, energy "
+                       f"{res['energy_rel']:.2e}, water {res['water_rel']:.2e} relative "
+                       f"(limit {CLOSURE:g})")
+    cost = case_cost(m, eq, wb, sol)
+    summary = _summary(name, status, message, sol, eq, wb, res, cost)
+    if status != "solved":
+        # keep the tables of an infeasible case: they show where it stands, marked
+        pass
+    return CaseResult(case=name, status=status, message=message, findings=findings,
+                      iterations=sol.iterations, summary=summary, headers=hd,
+                      equipment=eq, streams=st, water=wb, residuals=res, solution=sol)
+
+
+def _summary(name, status, message, sol, eq, wb, res, cost) -> dict:
+    def total(typ, col, cond=None):
+        if not len(eq) or col not in eq:
+            return 0.0
+        sel = eq[eq["type"].isin(typ)]
+        if cond is not None:
+            sel = sel[cond(sel)]
+        v = sel[col].sum()
+        return float(v) if np.isfinite(v) else 0.0
+    gen = total(["turbine", "extraction_turbine"], "power_kw",
+                lambda s: s["drive"] == "generator") / 1e3
+    mech = total(["turbine", "extraction_turbine"], "power_kw",
+                 lambda s: s["drive"] == "mechanical") / 1e3
+    return {
+        "case": name, "status": status, "message": message,
+        "iterations": sol.iterations,
+        "steam_raised_t_h": total(["boiler"], "flow_t_h"),
+        "fuel_mw": total(["boiler"], "fuel_mw"),
+        "power_generated_mw": gen, "mechanical_power_mw": mech,
+        "import_t_h": total(["import"], "flow_t_h"),
+        "export_t_h": total(["export"], "flow_t_h"),
+        "spray_t_h": wb["spray_kg_s"] * TH, "da_steam_t_h": wb["da_steam_kg_s"] * TH,
+        "makeup_t_h": (wb["makeup_kg_s"] + wb["external_water_kg_s"]) * TH,
+        "vented_t_h": wb["vented_kg_s"] * TH,
+        "condensate_returned_t_h": wb["condensate_returned_kg_s"] * TH,
+        "cost_per_h": cost["cost_per_h"], "fuel_cost_per_h": cost["fuel_cost_per_h"],
+        "mass_residual_rel": res["mass_rel"], "energy_residual_rel": res["energy_rel"],
+        "water_residual_rel": res["water_rel"], "solve_ms": sol.seconds * 1e3,
+    }
+
+
+def solve_cases(model: Model, cases: Iterable[str] | None = None, *,
+                progress: Callable[[int, int, str], None] | None = None,
+                warm_start: bool = True) -> StudyResult:
+    """Solve every case of ``model`` (or the named ones; the base model when it has no
+    cases). A case that cannot balance is reported and the others still run."""
+    names = list(cases) if cases is not None else [c.name for c in model.cases]
+    out: list[CaseResult] = []
+    if not names:
+        out.append(solve_case(model))
+        return StudyResult(model, out)
+    start = None
+    for i, n in enumerate(names):
+        try:
+            r = solve_case(model, n, start=start if warm_start else None)
+        except ModelErrors as exc:
+            r = _empty(n, "error", str(exc))
+        except ModelError as exc:
+            r = _empty(n, "error", str(exc))
+        if r.solution is not None and r.ok and warm_start:
+            start = {"h": r.solution.h, "modes": r.solution.modes}
+        out.append(r)
+        if progress:
+            progress(i + 1, len(names), n)
+    return StudyResult(model, out)

@@ -1,0 +1,562 @@
+"""The steam and water balance of one case (engineering.md sections 5 and 6).
+
+Method
+------
+Each header's pressure controller moves its swing elements in sequence: groups of equal
+priority (split by set shares) fill from their minimum to their maximum, the next group
+taking over when one runs out; excess steam goes to swing exports and then to vents, and
+only then. For a given *operating mode* of every header (which group, or which absorber,
+is the one moving) and given enthalpies, the balance is a square linear system in the
+flows: one mass balance per header, the deaerator's mass and energy balances, and one
+defining equation for every other flow (fixed value, at a limit, or a share of its
+group). The solver alternates
+
+1. solve that system (numpy, or scipy.sparse for large networks);
+2. move the mode of any header whose moving group left its range (one step in the
+   sequence), and clamp extraction flows to the limits of their turbine sections;
+3. recompute the header enthalpies by mixing (h = (sum m_in h_in - heat loss) / sum
+   m_in), and from them the turbine expansion lines, spray ratios and duty-based flows;
+
+until the modes no longer change and the enthalpies and flows stop moving. The answer is
+unique because the sequence and the shares decide every split; a header whose sequence is
+exhausted is reported short (or long) by the amount left over, with the limits that bind.
+"""
+
+from __future__ import annotations
+
+import math
+import time
+
+import numpy as np
+
+from .network import (INF, CaseInfeasible, Coeffs, ItemPropertyError, Net, build,
+                      coefficients)
+
+__all__ = ["solve_net", "Solution", "build"]
+
+_SPARSE_ABOVE = 250
+
+
+class Solution:
+    """Raw result of :func:`solve_net`."""
+
+    def __init__(self, net: Net, x: np.ndarray, h: list[float], co: Coeffs,
+                 modes: list, iterations: int, status: str, findings: list[dict],
+                 message: str, seconds: float):
+        self.net, self.x, self.h, self.co = net, x, h, co
+        self.modes, self.iterations, self.status = modes, iterations, status
+        self.findings, self.message, self.seconds = findings, message, seconds
+
+
+# --------------------------------------------------------------------------- modes
+def _initial_modes(net: Net) -> list[tuple[str, int]]:
+    modes = []
+    for hs in net.swing:
+        modes.append(("supply", 0) if hs.groups else ("absorb", 0))
+    return modes
+
+
+def _group_bounds(net: Net, g, eff: dict[int, tuple[float, float]]) -> tuple[float, float]:
+    lo, hi = 0.0, INF
+    for vi, w in zip(g.members, g.weights):
+        vlo, vhi = eff.get(vi, (net.vars[vi].lo, net.vars[vi].hi))
+        lo = max(lo, vlo / w)
+        hi = min(hi, vhi / w)
+    return lo, hi
+
+
+# ------------------------------------------------------------------------ assembly
+def _fw_terms(net: Net, co: Coeffs) -> list[tuple[int, float]]:
+    """(var, coefficient) of the feedwater drawn from the deaerator."""
+    out = []
+    for b in net.boilers:
+        if b["supply"]["from_da"]:
+            out.append((b["var"], 1.0 / (1.0 - b["bd"])))
+    for s, c in zip(net.letdowns, co.ld):
+        if s["ds"] is not None and s["ds"]["supply"]["from_da"] and c["r"] > 0:
+            out.append((s["var"], c["r"]))
+    return out
+
+
+def _header_terms(net: Net, co: Coeffs):
+    """Mass-balance terms: rows[h] = list of (var, coefficient); const[h] = fixed net
+    outflow (users)."""
+    nh = len(net.headers)
+    rows: list[list[tuple[int, float]]] = [[] for _ in range(nh)]
+    const = [0.0] * nh
+    for b in net.boilers:
+        rows[b["header"]].append((b["var"], 1.0))
+        if b["flash"] is not None:
+            bd = b["bd"] / (1.0 - b["bd"])
+            rows[b["flash"]["header"]].append((b["var"], bd * b["flash"]["fraction"]))
+    for t in net.transfers:
+        rows[t["header"]].append((t["var"], 1.0 if t["dir"] == "import" else -1.0))
+    for t in net.turbines:
+        rows[t["inlet"]].append((t["var"], -1.0))
+        rows[t["outlet"]].append((t["var"], 1.0))
+    for t in net.xturbines:
+        rows[t["inlet"]].append((t["in_var"], -1.0))
+        for e in t["exts"]:
+            rows[e["header"]].append((e["var"], 1.0))
+        if t["exhaust"] is not None:
+            rows[t["exhaust"]].append((t["in_var"], 1.0))
+            for e in t["exts"]:
+                rows[t["exhaust"]].append((e["var"], -1.0))
+    for s, c in zip(net.letdowns, co.ld):
+        rows[s["inlet"]].append((s["var"], -1.0))
+        rows[s["outlet"]].append((s["var"], 1.0 + c["r"]))
+    for v in net.vents:
+        rows[v["header"]].append((v["var"], -1.0))
+    for u, m in zip(net.users, co.user_flow):
+        const[u["header"]] += m
+    if net.deaerator is not None:
+        rows[net.deaerator["header"]].append((net.deaerator["steam_var"], -1.0))
+    return rows, const
+
+
+def _da_rows(net: Net, co: Coeffs, h: list[float]):
+    """Deaerator mass and energy rows: (terms, rhs) twice."""
+    da = net.deaerator
+    vf = da["vent_fraction"]
+    fw = _fw_terms(net, co)
+    h_fw, h_vent = da["sat"].hf, da["sat"].hg
+    mass = [(da["steam_var"], 1.0), (da["makeup_var"], 1.0)]
+    energy = [(da["steam_var"], h[da["header"]]), (da["makeup_var"], net.makeup_h)]
+    for vi, c in fw:
+        mass.append((vi, -(1.0 + vf) * c))
+        energy.append((vi, -(h_fw + vf * h_vent) * c))
+    r_mass = r_energy = 0.0
+    for u, m in zip(net.users, co.user_flow):
+        if u["ret"] > 0:
+            r_mass -= u["ret"] * m
+            r_energy -= u["ret"] * m * u["h_ret"]
+    for t in net.xturbines:
+        if t["ret"] > 0:
+            mass.append((t["in_var"], t["ret"]))
+            energy.append((t["in_var"], t["ret"] * t["cond_h"]))
+            for e in t["exts"]:
+                mass.append((e["var"], -t["ret"]))
+                energy.append((e["var"], -t["ret"] * t["cond_h"]))
+    return (mass, r_mass), (energy, r_energy)
+
+
+def _status_rows(net: Net, co: Coeffs, modes, eff):
+    """Defining equation of every flow that is not the moving one of its header."""
+    rows: list[tuple[list[tuple[int, float]], float]] = []
+    free: set[int] = set()
+    if net.deaerator is not None:
+        free |= {net.deaerator["steam_var"], net.deaerator["makeup_var"]}
+    grouped: set[int] = set()
+    for hs, mode in zip(net.swing, modes):
+        kind, k = mode
+        for gi, g in enumerate(hs.groups):
+            grouped.update(g.members)
+            glo, ghi = _group_bounds(net, g, eff)
+            if kind == "supply" and gi == k:
+                first = g.members[0]
+                free.add(first)
+                for vi, w in zip(g.members[1:], g.weights[1:]):
+                    rows.append(([(vi, 1.0), (first, -w / g.weights[0])], 0.0))
+                continue
+            level = ghi if (kind == "supply" and gi < k) else glo
+            for vi, w in zip(g.members, g.weights):
+                rows.append(([(vi, 1.0)], w * level))
+        for ai, vi in enumerate(hs.absorbers):
+            grouped.add(vi)
+            if kind == "absorb" and ai == k:
+                free.add(vi)
+            elif kind == "absorb" and ai < k:
+                rows.append(([(vi, 1.0)], net.vars[vi].hi))
+            else:
+                rows.append(([(vi, 1.0)], 0.0))
+    for t, c in zip(net.turbines, co.turb):
+        if t["var"] in grouped:
+            continue
+        if t["mode"] == "fixed_power":
+            rows.append(([(t["var"], 1.0)], c["flow"]))
+        else:
+            rows.append(([(t["var"], 1.0)], net.vars[t["var"]].fixed))
+    for t, c in zip(net.xturbines, co.xturb):
+        it = t["item"]
+        if t["mode"] == "fixed_flow":
+            rows.append(([(t["in_var"], 1.0)], it.flow))
+        else:  # fixed power: sum_k sigma_k dh_k = shaft power
+            dh = c["dh"]
+            terms = [(t["in_var"], sum(dh))]
+            for i, e in enumerate(t["exts"]):
+                terms.append((e["var"], -sum(dh[i + 1:])))
+            rows.append((terms, it.power / t["eta_mg"]))
+        for e in t["exts"]:
+            if e["mode"] == "fixed":
+                rows.append(([(e["var"], 1.0)], net.vars[e["var"]].fixed))
+    for v in net.vars:
+        if v.index in free or v.index in grouped:
+            continue
+        if v.kind in ("boiler", "transfer", "letdown"):
+            rows.append(([(v.index, 1.0)], v.fixed if v.fixed is not None else 0.0))
+    return rows
+
+
+def _assemble(net: Net, co: Coeffs, h, modes, eff):
+    n = len(net.vars)
+    hrows, hconst = _header_terms(net, co)
+    eqs: list[tuple[list[tuple[int, float]], float]] = []
+    for terms, c in zip(hrows, hconst):
+        eqs.append((terms, c))
+    if net.deaerator is not None:
+        eqs.extend(_da_rows(net, co, h))
+    eqs.extend(_status_rows(net, co, modes, eff))
+    if len(eqs) != n:
+        raise RuntimeError(f"balance system is not square: {len(eqs)} equations for "
+                           f"{n} flows (model validation should have caught this)")
+    r, c, v = [], [], []
+    b = np.empty(n)
+    for i, (terms, rhs) in enumerate(eqs):
+        for vi, coef in terms:
+            r.append(i)
+            c.append(vi)
+            v.append(coef)
+        b[i] = rhs
+    return (np.array(r, dtype=int), np.array(c, dtype=int), np.array(v)), b
+
+
+def _linear_solve(n: int, triplets, b: np.ndarray) -> np.ndarray | None:
+    r, c, v = triplets
+    if n > _SPARSE_ABOVE:
+        import scipy.sparse as sp
+        import scipy.sparse.linalg as spla
+        a = sp.csc_matrix((v, (r, c)), shape=(n, n))
+        try:
+            x = spla.spsolve(a, b)
+        except Exception:
+            return None
+        if not np.all(np.isfinite(x)):
+            return None
+        return np.asarray(x)
+    a = np.zeros((n, n))
+    np.add.at(a, (r, c), v)
+    try:
+        x = np.linalg.solve(a, b)
+    except np.linalg.LinAlgError:
+        return None
+    return x
+
+
+# -------------------------------------------------------------------- enthalpy mix
+def header_inflows(net: Net, co: Coeffs, x: np.ndarray):
+    """Per header: list of (source label, flow, enthalpy) entering it."""
+    ins: list[list[tuple[str, float, float]]] = [[] for _ in net.headers]
+    for b in net.boilers:
+        ins[b["header"]].append((f"boiler '{b['name']}'", x[b["var"]], b["h"]))
+        if b["flash"] is not None:
+            fh = b["flash"]["header"]
+            m = x[b["var"]] * b["bd"] / (1 - b["bd"]) * b["flash"]["fraction"]
+            ins[fh].append((f"boiler '{b['name']}' blowdown flash", m, net.sat[fh].hg))
+    for t in net.transfers:
+        if t["dir"] == "import":
+            ins[t["header"]].append((f"import '{t['name']}'", x[t["var"]], t["h"]))
+    for t, c in zip(net.turbines, co.turb):
+        ins[t["outlet"]].append((f"turbine '{t['name']}'", x[t["var"]], c["h_out"]))
+    for t, c in zip(net.xturbines, co.xturb):
+        rest = x[t["in_var"]]
+        for j, e in enumerate(t["exts"]):
+            ins[e["header"]].append((f"extraction turbine '{t['name']}'", x[e["var"]],
+                                     c["h"][j + 1]))
+            rest -= x[e["var"]]
+        if t["exhaust"] is not None:
+            ins[t["exhaust"]].append((f"extraction turbine '{t['name']}' exhaust", rest,
+                                      c["h"][-1]))
+    for s, c in zip(net.letdowns, co.ld):
+        ins[s["outlet"]].append((f"letdown '{s['name']}'", x[s["var"]] * (1 + c["r"]),
+                                 c["h_out"]))
+    return ins
+
+
+def _mix(net: Net, co: Coeffs, x: np.ndarray, h_old: list[float]) -> list[float]:
+    ins = header_inflows(net, co, x)
+    out = []
+    for i, lst in enumerate(ins):
+        m = sum(f for _, f, _ in lst)
+        if m > 1e-12:
+            out.append((sum(f * hh for _, f, hh in lst) - net.q_loss[i]) / m)
+        else:
+            out.append(h_old[i])
+    return out
+
+
+def _initial_h(net: Net) -> list[float]:
+    """Start from saturated vapour plus the superheat of the boilers feeding the plant."""
+    h = [s.hg + 100e3 for s in net.sat]
+    for b in net.boilers:
+        h[b["header"]] = max(b["h"], net.sat[b["header"]].hg)
+    return h
+
+
+# -------------------------------------------------------------- extraction limits
+def _extraction_bounds(net: Net, co: Coeffs, x: np.ndarray | None) -> dict:
+    """Effective range of each swing extraction flow given the other extractions of
+    its turbine, so that the throttle and exhaust flows stay within their limits."""
+    eff: dict[int, tuple[float, float]] = {}
+    if x is None:
+        return eff
+    for t, c in zip(net.xturbines, co.xturb):
+        it = t["item"]
+        dh = c["dh"]
+        tot = sum(dh)
+        for i, e in enumerate(t["exts"]):
+            if e["mode"] != "swing":
+                continue
+            others = [(j, o) for j, o in enumerate(t["exts"]) if j != i]
+            lo, hi = e["lo"], e["hi"]
+            after_i = sum(dh[i + 1:])
+            if t["mode"] == "fixed_power":
+                base = it.power / t["eta_mg"] + sum(x[o["var"]] * sum(dh[j + 1:])
+                                                    for j, o in others)
+                # throttle s1 = (base + e after_i) / tot ; exhaust = s1 - e - sum others
+                a_s1, b_s1 = after_i / tot, base / tot
+            else:
+                a_s1, b_s1 = 0.0, it.flow
+            s_oth = sum(x[o["var"]] for _, o in others)
+            a_ex, b_ex = a_s1 - 1.0, b_s1 - s_oth
+            cons = [(a_s1, b_s1, it.min_flow, INF if it.max_flow is None else it.max_flow),
+                    (a_ex, b_ex, it.min_exhaust_flow,
+                     INF if it.max_exhaust_flow is None else it.max_exhaust_flow)]
+            for a, bb, vmin, vmax in cons:
+                # vmin <= a e + bb <= vmax
+                if abs(a) < 1e-15:
+                    continue
+                l1, l2 = (vmin - bb) / a, (vmax - bb) / a
+                if a < 0:
+                    l1, l2 = l2, l1
+                lo, hi = max(lo, l1), min(hi, l2)
+            eff[e["var"]] = (lo, hi)
+    return eff
+
+
+# ---------------------------------------------------------------------------- main
+def _item_label(net: Net, vi: int) -> str:
+    v = net.vars[vi]
+    labels = {"boiler": "boiler", "transfer": "steam transfer", "turbine": "turbine",
+              "xt_in": "extraction turbine", "xt_ext": "extraction",
+              "letdown": "letdown", "vent": "vent", "da_steam": "deaerator",
+              "da_makeup": "deaerator"}
+    return f"{labels[v.kind]} '{v.item}'"
+
+
+def _fmt_th(kg_s: float) -> str:
+    return f"{kg_s * 3.6:.2f} t/h"
+
+
+def _limit_text(net: Net, vi: int, which: str, eff) -> str:
+    lo, hi = eff.get(vi, (net.vars[vi].lo, net.vars[vi].hi))
+    val = hi if which == "max" else lo
+    return f"{_item_label(net, vi)} at its {which}imum {_fmt_th(val)}"
+
+
+def _update_modes(net: Net, x: np.ndarray, modes, eff, tol: float):
+    """Move each header whose moving element left its range; return the new modes and
+    the list of headers whose sequence is exhausted (short or long)."""
+    new = list(modes)
+    exhausted = []
+    for hi, (hs, (kind, k)) in enumerate(zip(net.swing, modes)):
+        if kind == "supply":
+            g = hs.groups[k]
+            glo, ghi = _group_bounds(net, g, eff)
+            val = x[g.members[0]] / g.weights[0]
+            if val > ghi + tol:
+                if k + 1 < len(hs.groups):
+                    new[hi] = ("supply", k + 1)
+                else:
+                    exhausted.append((hi, "short", val - ghi))
+            elif val < glo - tol:
+                if k > 0:
+                    new[hi] = ("supply", k - 1)
+                elif hs.absorbers:
+                    new[hi] = ("absorb", 0)
+                else:
+                    exhausted.append((hi, "long", glo - val))
+        else:
+            vi = hs.absorbers[k]
+            val = x[vi]
+            cap = net.vars[vi].hi
+            if val < -tol:
+                if k > 0:
+                    new[hi] = ("absorb", k - 1)
+                elif hs.groups:
+                    new[hi] = ("supply", 0)
+                else:
+                    exhausted.append((hi, "short", -val))
+            elif val > cap + tol:
+                if k + 1 < len(hs.absorbers):
+                    new[hi] = ("absorb", k + 1)
+                else:
+                    exhausted.append((hi, "long", val - cap))
+    return new, exhausted
+
+
+def _exhausted_findings(net: Net, exhausted, modes, eff) -> list[dict]:
+    out = []
+    for hi, side, amount in exhausted:
+        hs = net.swing[hi]
+        name = net.headers[hi]
+        if side == "short":
+            limits = [_limit_text(net, vi, "max", eff) for g in hs.groups
+                      for vi in g.members]
+            msg = (f"header '{name}' is short of steam by {_fmt_th(amount)}: every "
+                   "element that can supply it is at its limit")
+        else:
+            limits = [_limit_text(net, vi, "min", eff) for g in hs.groups
+                      for vi in g.members]
+            limits += [f"{_item_label(net, vi)} at its capacity "
+                       f"{_fmt_th(net.vars[vi].hi)}" for vi in hs.absorbers]
+            if not hs.absorbers:
+                limits.append("no vent or swing export on this header")
+            msg = (f"header '{name}' has {_fmt_th(amount)} of steam in excess: its "
+                   "suppliers are at their minimum and nothing more can take it")
+        out.append({"kind": "infeasible", "header": name, "side": side,
+                    "amount_kg_s": amount, "limits": limits,
+                    "message": msg + (" (" + "; ".join(limits) + ")" if limits else "")})
+    return out
+
+
+def _derived_findings(net: Net, co: Coeffs, x: np.ndarray, tol: float) -> list[dict]:
+    """Flows that are not swing variables but must still be physical."""
+    out = []
+    da = net.deaerator
+    if da is not None:
+        d, mu = x[da["steam_var"]], x[da["makeup_var"]]
+        if d < -tol:
+            out.append({"kind": "infeasible", "header": net.headers[da["header"]],
+                        "side": "deaerator", "amount_kg_s": -d, "limits": [],
+                        "message": f"deaerator '{da['name']}' would need negative heating "
+                        f"steam ({_fmt_th(d)}): returns and make-up bring more heat than "
+                        "the feedwater takes"})
+        if mu < -tol:
+            out.append({"kind": "infeasible", "header": net.headers[da["header"]],
+                        "side": "deaerator", "amount_kg_s": -mu, "limits": [],
+                        "message": f"deaerator '{da['name']}' would need negative make-up "
+                        f"({_fmt_th(mu)}): more water returns than the plant uses"})
+    for t, c in zip(net.turbines, co.turb):
+        it = t["item"]
+        m = x[t["var"]]
+        if t["mode"] == "fixed_power":
+            hi = INF if it.max_flow is None else it.max_flow
+            if m > hi + tol or m < it.min_flow - tol:
+                out.append({"kind": "infeasible", "header": net.headers[t["inlet"]],
+                            "side": "turbine", "amount_kg_s": m, "limits": [],
+                            "message": f"turbine '{t['name']}' needs {_fmt_th(m)} for its "
+                            f"fixed power, outside its range {_fmt_th(it.min_flow)} to "
+                            f"{_fmt_th(hi)}"})
+    for t, c in zip(net.xturbines, co.xturb):
+        it = t["item"]
+        s1 = x[t["in_var"]]
+        ex = s1 - sum(x[e["var"]] for e in t["exts"])
+        hi = INF if it.max_flow is None else it.max_flow
+        hx = INF if it.max_exhaust_flow is None else it.max_exhaust_flow
+        bad = []
+        if s1 > hi + tol or s1 < it.min_flow - tol:
+            bad.append(f"throttle flow {_fmt_th(s1)} outside {_fmt_th(it.min_flow)} to "
+                       f"{_fmt_th(hi)}")
+        if ex > hx + tol or ex < it.min_exhaust_flow - tol:
+            bad.append(f"exhaust flow {_fmt_th(ex)} outside "
+                       f"{_fmt_th(it.min_exhaust_flow)} to {_fmt_th(hx)}")
+        for e in t["exts"]:
+            if x[e["var"]] < -tol:
+                bad.append(f"extraction to '{net.headers[e['header']]}' negative")
+        if bad:
+            out.append({"kind": "infeasible", "header": net.headers[t["inlet"]],
+                        "side": "turbine", "amount_kg_s": 0.0, "limits": bad,
+                        "message": f"extraction turbine '{t['name']}': " + "; ".join(bad)})
+    for u, m in zip(net.users, co.user_flow):
+        if not math.isfinite(m):
+            out.append({"kind": "infeasible", "header": net.headers[u["header"]],
+                        "side": "user", "amount_kg_s": 0.0, "limits": [],
+                        "message": f"user '{u['name']}': header steam carries no heat "
+                        "above saturated liquid, so its duty cannot be met"})
+    return out
+
+
+def solve_net(net: Net, *, max_iter: int = 200, tol_h: float = 1e-6,
+              tol_x: float = 1e-10, start: dict | None = None) -> Solution:
+    """Solve the balance of one case (see the module docstring).
+
+    Parameters
+    ----------
+    net : Net
+        Numeric structure from :func:`build`.
+    max_iter : int
+        Iteration limit; beyond it the case is reported not converged [-]
+    tol_h : float
+        Largest change of any header enthalpy between iterations at convergence [J/kg]
+    tol_x : float
+        Largest change of any flow between iterations at convergence [kg/s]
+    start : dict, optional
+        ``{"h": [...], "modes": [...]}`` from a previous, similar case (warm start).
+    """
+    t0 = time.perf_counter()
+    n = len(net.vars)
+    h = list(start["h"]) if start and len(start["h"]) == len(net.headers) else _initial_h(net)
+    modes = (list(start["modes"]) if start and len(start["modes"]) == len(net.swing)
+             and _modes_valid(net, start["modes"]) else _initial_modes(net))
+    x: np.ndarray | None = None
+    exhausted: list = []
+    history: dict = {}
+    scale = max(1.0, sum(abs(u) for u in [b["item"].max_steam or 0 for b in net.boilers]))
+    tol_mode = 1e-9 * scale
+    co = coefficients(net, h, None)
+    it = 0
+    for it in range(1, max_iter + 1):
+        eff = _extraction_bounds(net, co, x)
+        trip, b = _assemble(net, co, h, modes, eff)
+        x_new = _linear_solve(n, trip, b)
+        if x_new is None:
+            return Solution(net, np.full(n, np.nan), h, co, modes, it, "error",
+                            [], "the balance equations are singular in this operating "
+                            "mode (a header may have no way to close its balance)",
+                            time.perf_counter() - t0)
+        new_modes, exhausted = _update_modes(net, x_new, modes, eff, tol_mode)
+        h_new = _mix(net, co, x_new, h)
+        dh = max((abs(a - bb) for a, bb in zip(h_new, h)), default=0.0)
+        dx = float(np.max(np.abs(x_new - x))) if x is not None else INF
+        x, h = x_new, h_new
+        mode_changed = new_modes != modes
+        if mode_changed:
+            key = tuple(new_modes)
+            history[key] = history.get(key, 0) + 1
+            if history[key] > 3:   # cycling between modes: move one header at a time
+                first = next(i for i, (a, bb) in enumerate(zip(modes, new_modes)) if a != bb)
+                new_modes = list(modes)
+                new_modes[first] = _step(modes[first], new_modes[first])
+            modes = new_modes
+        co = coefficients(net, h, x)
+        if not mode_changed and dh < tol_h and dx < tol_x:
+            break
+    else:
+        return Solution(net, x, h, co, modes, it, "not_converged", [],
+                        f"not converged after {max_iter} iterations "
+                        f"(last enthalpy change {dh:.3g} J/kg, flow change {dx:.3g} kg/s)",
+                        time.perf_counter() - t0)
+    x = np.where(np.abs(x) < 1e-12, 0.0, x)     # no -0.0 or 1e-16 flows in reports
+    eff = _extraction_bounds(net, co, x)
+    findings = _exhausted_findings(net, exhausted, modes, eff)
+    findings += _derived_findings(net, co, x, tol_mode)
+    status = "infeasible" if findings else "solved"
+    msg = "; ".join(f["message"] for f in findings) if findings else "solved"
+    return Solution(net, x, h, co, modes, it, status, findings, msg,
+                    time.perf_counter() - t0)
+
+
+def _step(old, new):
+    return new
+
+
+def _modes_valid(net: Net, modes) -> bool:
+    for hs, (kind, k) in zip(net.swing, modes):
+        if kind == "supply" and not (0 <= k < len(hs.groups)):
+            return False
+        if kind == "absorb" and not (0 <= k < len(hs.absorbers)):
+            return False
+    return True
+
+
+__all__ += ["CaseInfeasible", "ItemPropertyError", "header_inflows"]

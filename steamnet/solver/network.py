@@ -1,0 +1,401 @@
+"""Numeric form of one case: variables, fixed properties and per-iteration coefficients.
+
+:func:`build` turns a validated :class:`~steamnet.model.Model` into a :class:`Net`: one
+flow variable per running element (boiler steam, transfer, turbine flow, extraction
+turbine throttle and extraction flows, let-down steam, vent, deaerator heating steam and
+make-up), the constant states (boiler outlet, feedwater, make-up, returns) and, for each
+header, its swing sequence (groups in priority order) and its absorbers (swing exports,
+vents). :func:`coefficients` evaluates everything that depends on the header
+enthalpies: turbine expansion lines, desuperheater spray ratios, duty-based user flows.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+from .. import properties as props
+from ..errors import PropertyRangeError
+
+INF = math.inf
+
+
+class CaseInfeasible(Exception):
+    """The case cannot balance; carries findings for the report."""
+
+    def __init__(self, message: str, findings: list[dict]):
+        super().__init__(message)
+        self.findings = findings
+
+
+class ItemPropertyError(Exception):
+    """A property call of one item fell outside IAPWS-IF97."""
+
+    def __init__(self, item: str, exc: PropertyRangeError):
+        super().__init__(f"{item}: {exc}")
+        self.item = item
+
+
+@dataclass
+class Var:
+    """One unknown flow [kg/s]."""
+
+    index: int
+    kind: str            # boiler, transfer, turbine, xt_in, xt_ext, letdown, vent,
+    #                      da_steam, da_makeup
+    item: str            # item name (extraction: "turbine/header")
+    table: str
+    lo: float = 0.0
+    hi: float = INF
+    fixed: float | None = None      # value when not free (None: swing or solved)
+
+
+@dataclass
+class Group:
+    """Swing elements of equal priority on one header, sharing load by set fractions."""
+
+    priority: int
+    members: list[int]   # var indices
+    weights: list[float]  # normalised shares (sum 1)
+
+
+@dataclass
+class HeaderSwing:
+    groups: list[Group] = field(default_factory=list)
+    absorbers: list[int] = field(default_factory=list)   # var indices, in order
+
+
+@dataclass
+class Net:
+    """Numeric structure of one case (constant across the fixed-point iterations)."""
+
+    model: object
+    headers: list[str]
+    hidx: dict[str, int]
+    p: list[float]                  # header pressures [Pa]
+    sat: list                       # props.Saturation per header
+    q_loss: list[float]             # header heat loss [W]
+    vars: list[Var]
+    swing: list[HeaderSwing]
+    boilers: list[dict]
+    transfers: list[dict]
+    turbines: list[dict]
+    xturbines: list[dict]
+    letdowns: list[dict]
+    vents: list[dict]
+    users: list[dict]
+    supplies: dict[str, dict]
+    deaerator: dict | None
+    makeup_h: float
+    makeup_t: float
+
+
+def _prop(item: str, func, *args):
+    try:
+        return func(*args)
+    except PropertyRangeError as exc:
+        raise ItemPropertyError(item, exc) from None
+
+
+def _share_groups(entries: list[tuple[int, int, float | None]]) -> list[Group]:
+    """entries: (priority, var index, share) -> groups sorted by priority."""
+    by: dict[int, list] = {}
+    for prio, vi, share in entries:
+        by.setdefault(prio, []).append((vi, share))
+    groups = []
+    for prio in sorted(by):
+        mem = by[prio]
+        shares = [1.0 if s is None else s for _, s in mem]
+        tot = sum(shares)
+        groups.append(Group(prio, [vi for vi, _ in mem], [s / tot for s in shares]))
+    return groups
+
+
+def build(model) -> Net:
+    """Numeric structure of ``model`` (one case)."""
+    on = lambda it: getattr(it, "in_service", True)  # noqa: E731
+    headers = sorted(model.headers, key=lambda n: (-model.headers[n].pressure, n))
+    hidx = {h: i for i, h in enumerate(headers)}
+    p = [model.headers[h].pressure for h in headers]
+    sat = [_prop(f"header '{h}'", props.saturation, model.headers[h].pressure)
+           for h in headers]
+    vars_: list[Var] = []
+    swing_entries: list[list] = [[] for _ in headers]
+    absorb_entries: list[list] = [[] for _ in headers]
+
+    def new_var(kind, item, table, lo=0.0, hi=None, fixed=None):
+        v = Var(len(vars_), kind, item, table, lo, INF if hi is None else hi, fixed)
+        vars_.append(v)
+        return v.index
+
+    # deaerator and water supplies
+    da = None
+    for n, d in model.table("deaerator").items():
+        dsat = _prop(f"deaerator '{n}'", props.saturation, d.pressure)
+        da = {"name": n, "header": hidx[d.header], "p": d.pressure, "sat": dsat,
+              "vent_fraction": d.vent_fraction}
+    supplies: dict[str, dict] = {}
+    for n, ws in model.table("water_supply").items():
+        if ws.source == "deaerator":
+            h0 = da["sat"].hf
+            pump_w = 0.0
+            if ws.pump_efficiency is not None:
+                pump_w = da["sat"].vf * (ws.pressure - da["p"]) / ws.pump_efficiency
+            st = _prop(f"water supply '{n}'", props.state_ph, ws.pressure, h0 + pump_w)
+            supplies[n] = {"name": n, "h": st.h, "t": st.t, "p": ws.pressure,
+                           "from_da": True, "pump_work": pump_w}
+        else:
+            st = _prop(f"water supply '{n}'", props.state_pt, ws.pressure, ws.temperature)
+            supplies[n] = {"name": n, "h": st.h, "t": st.t, "p": ws.pressure,
+                           "from_da": False, "pump_work": 0.0}
+    mk_p = da["p"] if da else model.site.atmospheric_pressure
+    mk = _prop("site makeup_temperature", props.state_pt, max(mk_p, 2 * props.P_MIN),
+               model.site.makeup_temperature)
+
+    boilers = []
+    for n, b in model.table("boiler").items():
+        if not on(b) or b.mode == "off":
+            continue
+        hi = hidx[b.header]
+        st = _prop(f"boiler '{n}'", props.state_pt, p[hi], b.steam_temperature)
+        ws = supplies[b.feedwater]
+        fixed = b.steam if b.mode == "fixed" else None
+        vi = new_var("boiler", n, "boiler", b.min_steam if b.mode == "swing" else 0.0,
+                     b.max_steam, fixed)
+        flash = None
+        if b.blowdown_flash_header:
+            fh = hidx[b.blowdown_flash_header]
+            frac = max(0.0, (sat[hi].hf - sat[fh].hf) / sat[fh].hfg)
+            flash = {"header": fh, "fraction": frac}
+        boilers.append({"name": n, "var": vi, "header": hi, "h": st.h, "t": st.t,
+                        "supply": ws, "bd": b.blowdown, "h_bd": sat[hi].hf,
+                        "eff": b.efficiency, "kind": b.kind, "flash": flash,
+                        "fuel_price": (b.fuel_price if b.fuel_price is not None
+                                       else model.prices.fuel), "item": b})
+        if b.mode == "swing":
+            swing_entries[hi].append((b.priority, vi, b.share))
+
+    transfers = []
+    for n, t in model.table("steam_transfer").items():
+        if not on(t) or t.mode == "off":
+            continue
+        hi = hidx[t.header]
+        fixed = t.flow if t.mode == "fixed" else None
+        vi = new_var("transfer", n, "steam_transfer",
+                     t.min_flow if t.mode == "swing" else 0.0, t.max_flow, fixed)
+        h_imp = None
+        if t.direction == "import":
+            h_imp = _prop(f"steam transfer '{n}'", props.state_pt, p[hi],
+                          t.steam_temperature).h
+        transfers.append({"name": n, "var": vi, "header": hi, "dir": t.direction,
+                          "h": h_imp, "price": t.price, "item": t})
+        if t.mode == "swing":
+            if t.direction == "import":
+                swing_entries[hi].append((t.priority, vi, t.share))
+            else:
+                absorb_entries[hi].append((t.priority, vi))
+
+    turbines = []
+    for n, t in model.table("turbine").items():
+        if not on(t) or t.mode == "tripped":
+            continue
+        lo = t.min_flow if t.mode == "swing" else 0.0
+        vi = new_var("turbine", n, "turbine", lo, t.max_flow,
+                     t.flow if t.mode == "fixed_flow" else None)
+        eta_mg = t.mechanical_efficiency * (t.generator_efficiency
+                                            if t.drive == "generator" else 1.0)
+        turbines.append({"name": n, "var": vi, "inlet": hidx[t.inlet],
+                         "outlet": hidx[t.outlet], "mode": t.mode, "eta_mg": eta_mg,
+                         "item": t})
+        if t.mode == "swing":
+            swing_entries[hidx[t.outlet]].append((t.priority, vi, t.share))
+
+    xturbines = []
+    for n, t in model.table("extraction_turbine").items():
+        if not on(t) or t.mode == "tripped":
+            continue
+        vin = new_var("xt_in", n, "extraction_turbine", 0.0, INF,
+                      t.flow if t.mode == "fixed_flow" else None)
+        exts = []
+        for e in t.extractions:
+            vname = f"{n}/{e.header}"
+            ve = new_var("xt_ext", vname, "extraction_turbine",
+                         e.min_flow if e.mode == "swing" else 0.0, e.max_flow,
+                         e.flow if e.mode == "fixed" else None)
+            exts.append({"var": ve, "header": hidx[e.header], "mode": e.mode,
+                         "lo": e.min_flow if e.mode == "swing" else 0.0,
+                         "hi": INF if e.max_flow is None else e.max_flow})
+            if e.mode == "swing":
+                swing_entries[hidx[e.header]].append((e.priority, ve, e.share))
+        pressures = [p[hidx[t.inlet]]] + [p[x["header"]] for x in exts]
+        if t.exhaust is not None:
+            pressures.append(p[hidx[t.exhaust]])
+        else:
+            pressures.append(t.condenser_pressure)
+        eta_mg = t.mechanical_efficiency * (t.generator_efficiency
+                                            if t.drive == "generator" else 1.0)
+        cond_h = None
+        if t.exhaust is None and t.condensate_return > 0:
+            if t.condensate_temperature is not None:
+                cond_h = _liquid_h(f"extraction turbine '{n}'", t.condensate_temperature,
+                                   da["p"] if da else t.condenser_pressure)
+            else:
+                cond_h = _prop(f"extraction turbine '{n}'", props.saturation,
+                               t.condenser_pressure).hf
+        xturbines.append({"name": n, "in_var": vin, "inlet": hidx[t.inlet], "exts": exts,
+                          "exhaust": None if t.exhaust is None else hidx[t.exhaust],
+                          "pressures": pressures, "etas": list(t.section_efficiencies),
+                          "eta_mg": eta_mg, "mode": t.mode, "item": t,
+                          "ret": t.condensate_return if t.exhaust is None else 0.0,
+                          "cond_h": cond_h})
+
+    letdowns = []
+    for n, s in model.table("letdown").items():
+        if not on(s) or s.mode == "closed":
+            continue
+        lo = s.min_flow if s.mode == "auto" else 0.0
+        vi = new_var("letdown", n, "letdown", lo, s.max_flow,
+                     s.flow if s.mode == "fixed_flow" else None)
+        ho = hidx[s.outlet]
+        d = s.desuperheater
+        ds = None
+        if d is not None:
+            t_set = (d.outlet_temperature if d.outlet_temperature is not None
+                     else sat[ho].t + d.approach)
+            h_set = _prop(f"letdown '{n}'", props.state_pt, p[ho], t_set).h
+            ds = {"t_set": t_set, "h_set": h_set, "supply": supplies[d.spray_supply]}
+        letdowns.append({"name": n, "var": vi, "inlet": hidx[s.inlet], "outlet": ho,
+                         "ds": ds, "item": s})
+        if s.mode == "auto":
+            swing_entries[ho].append((s.priority, vi, s.share))
+
+    vents = []
+    for n, v in model.table("vent").items():
+        if not on(v):
+            continue
+        hi = hidx[v.header]
+        vi = new_var("vent", n, "vent", 0.0, v.max_flow)
+        vents.append({"name": n, "var": vi, "header": hi})
+        absorb_entries[hi].append((v.priority + 1000, vi))   # exports before vents
+
+    users = []
+    for n, u in model.table("user").items():
+        if not on(u):
+            continue
+        hi = hidx[u.header]
+        h_ret = None
+        if u.condensate_return > 0:
+            h_ret = _liquid_h(f"user '{n}'", u.condensate_temperature,
+                              da["p"] if da else p[hi])
+        users.append({"name": n, "header": hi, "demand": u.demand, "duty": u.duty,
+                      "ret": u.condensate_return, "h_ret": h_ret, "item": u})
+
+    if da is not None:
+        da["steam_var"] = new_var("da_steam", da["name"], "deaerator")
+        da["makeup_var"] = new_var("da_makeup", da["name"], "deaerator")
+
+    swing = []
+    for hi in range(len(headers)):
+        hs = HeaderSwing(groups=_share_groups(swing_entries[hi]),
+                         absorbers=[vi for _, vi in sorted(absorb_entries[hi])])
+        swing.append(hs)
+    return Net(model=model, headers=headers, hidx=hidx, p=p, sat=sat,
+               q_loss=[model.headers[h].heat_loss for h in headers], vars=vars_,
+               swing=swing, boilers=boilers, transfers=transfers, turbines=turbines,
+               xturbines=xturbines, letdowns=letdowns, vents=vents, users=users,
+               supplies=supplies, deaerator=da, makeup_h=mk.h,
+               makeup_t=model.site.makeup_temperature)
+
+
+def _liquid_h(item: str, t: float, p_min: float) -> float:
+    """Enthalpy of liquid water at ``t`` [K], at a pressure just above saturation."""
+    p = p_min
+    if t < props.T_CRIT - 1:
+        try:
+            p = max(p_min, props.p_sat(t) * 1.001 + 100.0)
+        except PropertyRangeError as exc:
+            raise ItemPropertyError(item, exc) from None
+    return _prop(item, props.state_pt, p, t).h
+
+
+# --------------------------------------------------------------------- coefficients
+@dataclass
+class Coeffs:
+    """Everything that depends on the header enthalpies, for one iteration."""
+
+    turb: list[dict]
+    xturb: list[dict]
+    ld: list[dict]
+    user_flow: list[float]
+
+
+def expansion(item: str, p_in: float, h_in: float, p_out: float, eta: float) -> dict:
+    """One turbine section: isentropic-efficiency expansion (engineering.md section 5)."""
+    st_in = _prop(item, props.state_ph, p_in, h_in)
+    st_is = _prop(item, props.state_ps, p_out, st_in.s)
+    h_out = h_in - eta * (h_in - st_is.h)
+    return {"h_in": h_in, "h_is": st_is.h, "h_out": h_out, "dh": h_in - h_out,
+            "s_in": st_in.s}
+
+
+def coefficients(net: Net, h: list[float], x: list[float] | None) -> Coeffs:
+    """Per-iteration coefficients from header enthalpies ``h`` and the last flows ``x``."""
+    turb = []
+    for t in net.turbines:
+        it = t["item"]
+        pin, pout = net.p[t["inlet"]], net.p[t["outlet"]]
+        h_in = h[t["inlet"]]
+        name = f"turbine '{t['name']}'"
+        if it.isentropic_efficiency is not None:
+            ex = expansion(name, pin, h_in, pout, it.isentropic_efficiency)
+            c = {"h_out": ex["h_out"], "dh": ex["dh"], "h_is": ex["h_is"], "willans": False}
+            if t["mode"] == "fixed_power":
+                c["flow"] = it.power / (t["eta_mg"] * ex["dh"])
+        else:
+            st_in = _prop(name, props.state_ph, pin, h_in)
+            h_is = _prop(name, props.state_ps, pout, st_in.s).h
+            m0, k = it.willans_no_load, it.willans_slope
+            c = {"willans": True, "h_is": h_is, "m0": m0, "k": k}
+            if t["mode"] == "fixed_power":
+                m = m0 + k * it.power
+                c["flow"] = m
+            else:
+                m = x[t["var"]] if x is not None else (it.flow or max(m0 * 2, 1.0))
+            w_out = max(0.0, (m - m0) / k) if m > 0 else 0.0
+            shaft = w_out / t["eta_mg"]
+            dh = shaft / m if m > 0 else 0.0
+            c.update({"h_out": h_in - dh, "dh": dh})
+        turb.append(c)
+    xturb = []
+    for t in net.xturbines:
+        name = f"extraction turbine '{t['name']}'"
+        hs = [h[t["inlet"]]]
+        dhs = []
+        for j, eta in enumerate(t["etas"]):
+            ex = expansion(name, t["pressures"][j], hs[-1], t["pressures"][j + 1], eta)
+            hs.append(ex["h_out"])
+            dhs.append(ex["dh"])
+        xturb.append({"h": hs, "dh": dhs})
+    ld = []
+    for s in net.letdowns:
+        h_in = h[s["inlet"]]
+        ds = s["ds"]
+        if ds is None:
+            ld.append({"r": 0.0, "h_out": h_in, "reachable": True, "h_w": None})
+            continue
+        h_set, h_w = ds["h_set"], ds["supply"]["h"]
+        if h_in > h_set:
+            r = (h_in - h_set) / (h_set - h_w)      # engineering.md section 5
+            ld.append({"r": r, "h_out": h_set, "reachable": True, "h_w": h_w})
+        else:
+            ld.append({"r": 0.0, "h_out": h_in, "reachable": h_in >= h_set - 1e-6,
+                       "h_w": h_w})
+    uf = []
+    for u in net.users:
+        if u["demand"] is not None:
+            uf.append(u["demand"])
+        else:
+            hi = u["header"]
+            dh = h[hi] - net.sat[hi].hf
+            uf.append(u["duty"] / dh if dh > 0 else math.inf)
+    return Coeffs(turb=turb, xturb=xturb, ld=ld, user_flow=uf)

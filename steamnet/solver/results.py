@@ -1,0 +1,355 @@
+"""Result tables of a solved case, and the residuals that prove the balance closes.
+
+All tables are long-form pandas DataFrames with a ``case`` column, so the tables of many
+cases concatenate. Column names carry their unit (``flow_t_h``, ``t_degc``, ``p_barg``,
+``h_kj_kg``, ``power_kw``, ``duty_mw``); docs/results.md lists every column.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pandas as pd
+
+from .. import properties as props
+from .balance import Solution, header_inflows
+from .network import coefficients
+
+TH = 3.6          # kg/s -> t/h
+KJ = 1e-3         # J/kg -> kJ/kg
+C0 = 273.15
+
+
+def _h_out_flows(sol: Solution):
+    """Per header: list of (label, flow) leaving it, with the final coefficients."""
+    net, co, x = sol.net, sol.co, sol.x
+    outs: list[list[tuple[str, float]]] = [[] for _ in net.headers]
+    for t in net.transfers:
+        if t["dir"] == "export":
+            outs[t["header"]].append((f"export '{t['name']}'", x[t["var"]]))
+    for t in net.turbines:
+        outs[t["inlet"]].append((f"turbine '{t['name']}'", x[t["var"]]))
+    for t in net.xturbines:
+        outs[t["inlet"]].append((f"extraction turbine '{t['name']}'", x[t["in_var"]]))
+    for s in net.letdowns:
+        outs[s["inlet"]].append((f"letdown '{s['name']}'", x[s["var"]]))
+    for v in net.vents:
+        outs[v["header"]].append((f"vent '{v['name']}'", x[v["var"]]))
+    for u, m in zip(net.users, co.user_flow):
+        outs[u["header"]].append((f"user '{u['name']}'", m))
+    if net.deaerator is not None:
+        da = net.deaerator
+        outs[da["header"]].append((f"deaerator '{da['name']}'", x[da["steam_var"]]))
+    return outs
+
+
+def residuals(sol: Solution) -> dict:
+    """Mass and energy residuals of every header, the deaerator and the plant water
+    balance, recomputed from the final flows and enthalpies.
+
+    Returns a dict with per-header arrays ``mass_kg_s``, ``energy_w``, the relative
+    maxima ``mass_rel``, ``energy_rel``, ``water_rel`` and the deaerator residuals.
+    """
+    net, x = sol.net, sol.x
+    co = coefficients(net, sol.h, x)          # coefficients at the final enthalpies
+    ins = header_inflows(net, co, x)
+    outs = _h_out_flows(sol)
+    mass, energy, through = [], [], []
+    for i in range(len(net.headers)):
+        m_in = sum(f for _, f, _ in ins[i])
+        e_in = sum(f * hh for _, f, hh in ins[i])
+        m_out = sum(f for _, f in outs[i])
+        mass.append(m_in - m_out)
+        energy.append(e_in - net.q_loss[i] - m_out * sol.h[i])
+        through.append(max(m_in, m_out))
+    total = max(1e-9, sum(through))
+    e_scale = max(1e-9, sum(t * abs(h) for t, h in zip(through, sol.h)))
+    # desuperheater energy balance m_s h_in + m_w h_w = (m_s + m_w) h_out
+    ds_res = 0.0
+    for s, c in zip(net.letdowns, co.ld):
+        if s["ds"] is None or c["r"] == 0:
+            continue
+        m = x[s["var"]]
+        ds_res = max(ds_res, abs(m * sol.h[s["inlet"]] + m * c["r"] * c["h_w"]
+                                 - m * (1 + c["r"]) * c["h_out"]))
+    da_mass = da_energy = 0.0
+    wb = water_balance(sol, co)
+    if net.deaerator is not None:
+        da_mass, da_energy = wb["da_mass_residual_kg_s"], wb["da_energy_residual_w"]
+    water_scale = max(1e-9, wb["water_in_kg_s"])
+    return {
+        "mass_kg_s": mass, "energy_w": energy,
+        "mass_rel": max((abs(m) for m in mass), default=0.0) / total,
+        "energy_rel": max(max((abs(e) for e in energy), default=0.0), ds_res,
+                          abs(da_energy)) / e_scale,
+        "da_mass_kg_s": da_mass, "da_energy_w": da_energy,
+        "water_rel": abs(wb["water_residual_kg_s"]) / water_scale,
+        "water": wb,
+    }
+
+
+def water_balance(sol: Solution, co=None) -> dict:
+    """The plant water balance: every kilogram that enters leaves.
+
+    In: make-up to the deaerator, external water supplies, imported steam.
+    Out: vented steam, exported steam, condensate not returned (users and condenser),
+    blowdown not recovered as flash steam, deaerator vent. Steam held in the headers
+    does not accumulate (steady state), so in - out must be zero.
+    """
+    net, x = sol.net, sol.x
+    co = co or sol.co
+    makeup = external = imports = 0.0
+    vented = exported = lost_condensate = blowdown = flash = da_vent = 0.0
+    fw_da = 0.0
+    for b in net.boilers:
+        fw = x[b["var"]] / (1 - b["bd"])
+        bd = fw - x[b["var"]]
+        blowdown += bd
+        if b["flash"] is not None:
+            flash += bd * b["flash"]["fraction"]
+        if b["supply"]["from_da"]:
+            fw_da += fw
+        else:
+            external += fw
+    spray = 0.0
+    for s, c in zip(net.letdowns, co.ld):
+        m_w = x[s["var"]] * c["r"]
+        spray += m_w
+        if s["ds"] is not None and c["r"] > 0:
+            if s["ds"]["supply"]["from_da"]:
+                fw_da += m_w
+            else:
+                external += m_w
+    for t in net.transfers:
+        if t["dir"] == "import":
+            imports += x[t["var"]]
+        else:
+            exported += x[t["var"]]
+    for v in net.vents:
+        vented += x[v["var"]]
+    returned = 0.0
+    ret_energy = 0.0
+    for u, m in zip(net.users, co.user_flow):
+        lost_condensate += m * (1 - u["ret"])
+        returned += m * u["ret"]
+        if u["ret"] > 0:
+            ret_energy += m * u["ret"] * u["h_ret"]
+    condensed = 0.0
+    for t in net.xturbines:
+        if t["exhaust"] is None:
+            ex = x[t["in_var"]] - sum(x[e["var"]] for e in t["exts"])
+            condensed += ex
+            lost_condensate += ex * (1 - t["ret"])
+            returned += ex * t["ret"]
+            if t["ret"] > 0:
+                ret_energy += ex * t["ret"] * t["cond_h"]
+    da_steam = da_mu = da_mass = da_energy = 0.0
+    if net.deaerator is not None:
+        da = net.deaerator
+        da_steam, da_mu = x[da["steam_var"]], x[da["makeup_var"]]
+        da_vent = da["vent_fraction"] * fw_da
+        makeup = da_mu
+        da_mass = da_steam + da_mu + returned - fw_da - da_vent
+        da_energy = (da_steam * sol.h[da["header"]] + da_mu * net.makeup_h + ret_energy
+                     - fw_da * da["sat"].hf - da_vent * da["sat"].hg)
+    water_in = makeup + external + imports
+    water_out = vented + exported + lost_condensate + (blowdown - flash) + da_vent
+    return {
+        "makeup_kg_s": makeup, "external_water_kg_s": external, "imports_kg_s": imports,
+        "vented_kg_s": vented, "exported_kg_s": exported,
+        "condensate_lost_kg_s": lost_condensate, "condensate_returned_kg_s": returned,
+        "blowdown_kg_s": blowdown, "blowdown_flash_kg_s": flash, "da_vent_kg_s": da_vent,
+        "da_steam_kg_s": da_steam, "feedwater_from_da_kg_s": fw_da, "spray_kg_s": spray,
+        "condenser_kg_s": condensed, "water_in_kg_s": water_in,
+        "water_out_kg_s": water_out, "water_residual_kg_s": water_in - water_out,
+        "da_mass_residual_kg_s": da_mass, "da_energy_residual_w": da_energy,
+    }
+
+
+# ------------------------------------------------------------------------ tables
+def header_table(sol: Solution, case: str, res: dict) -> pd.DataFrame:
+    net, x = sol.net, sol.x
+    ins = header_inflows(net, sol.co, x)
+    outs = _h_out_flows(sol)
+    p_atm = net.model.site.atmospheric_pressure
+    rows = []
+    for i, name in enumerate(net.headers):
+        st = props.state_ph(net.p[i], sol.h[i])
+        sat = net.sat[i]
+        rows.append({
+            "case": case, "header": name,
+            "p_bara": net.p[i] / 1e5, "p_barg": (net.p[i] - p_atm) / 1e5,
+            "t_degc": st.t - C0, "t_sat_degc": sat.t - C0,
+            "superheat_k": (st.t - sat.t) if not st.is_wet else 0.0,
+            "h_kj_kg": sol.h[i] * KJ,
+            "quality": st.x if st.is_wet else np.nan, "wet": st.is_wet,
+            "inflow_t_h": sum(f for _, f, _ in ins[i]) * TH,
+            "outflow_t_h": sum(f for _, f in outs[i]) * TH,
+            "heat_loss_kw": net.q_loss[i] / 1e3,
+            "mass_residual_t_h": res["mass_kg_s"][i] * TH,
+            "energy_residual_kw": res["energy_w"][i] / 1e3,
+        })
+    return pd.DataFrame(rows)
+
+
+def _row(case, item, typ, frm, to, mode, flow, **kw):
+    d = {"case": case, "item": item, "type": typ, "from": frm, "to": to, "mode": mode,
+         "flow_t_h": flow * TH}
+    d.update(kw)
+    return d
+
+
+def _limit_state(value, lo, hi, tol=1e-7):
+    if hi is not None and math.isfinite(hi) and value >= hi - tol * max(1, hi):
+        return "at maximum"
+    if lo is not None and lo > 0 and value <= lo + tol * max(1, lo):
+        return "at minimum"
+    return ""
+
+
+def equipment_table(sol: Solution, case: str) -> pd.DataFrame:
+    net, x, co = sol.net, sol.x, sol.co
+    H = net.headers
+    rows = []
+    for b in net.boilers:
+        it = b["item"]
+        m = x[b["var"]]
+        fw = m / (1 - b["bd"])
+        bd = fw - m
+        duty = m * (b["h"] - b["supply"]["h"]) + bd * (b["h_bd"] - b["supply"]["h"])
+        fuel = duty / b["eff"] if b["eff"] else 0.0
+        rows.append(_row(case, b["name"], "boiler", b["supply"]["name"], H[b["header"]],
+                         it.mode, m, t_out_degc=b["t"] - C0, h_out_kj_kg=b["h"] * KJ,
+                         feedwater_t_h=fw * TH, blowdown_t_h=bd * TH,
+                         duty_mw=duty / 1e6, fuel_mw=fuel / 1e6,
+                         min_t_h=(it.min_steam if it.mode == "swing" else np.nan) * TH,
+                         max_t_h=(it.max_steam if it.max_steam is not None else np.nan) * TH,
+                         load_percent=(100 * m / it.max_steam if it.max_steam else np.nan),
+                         limit=_limit_state(m, it.min_steam if it.mode == "swing" else None,
+                                            it.max_steam)))
+    for t in net.transfers:
+        it = t["item"]
+        m = x[t["var"]]
+        frm, to = ("outside", H[t["header"]]) if t["dir"] == "import" else \
+            (H[t["header"]], "outside")
+        rows.append(_row(case, t["name"], t["dir"], frm, to, it.mode, m,
+                         max_t_h=(it.max_flow if it.max_flow is not None else np.nan) * TH,
+                         limit=_limit_state(m, it.min_flow if it.mode == "swing" else None,
+                                            it.max_flow)))
+    for t, c in zip(net.turbines, co.turb):
+        it = t["item"]
+        m = x[t["var"]]
+        shaft = m * c["dh"]
+        st_out = props.state_ph(net.p[t["outlet"]], c["h_out"])
+        eta_is = c["dh"] / (c["h_out"] + c["dh"] - c["h_is"]) if c["dh"] > 0 else np.nan
+        rows.append(_row(case, t["name"], "turbine", H[t["inlet"]], H[t["outlet"]],
+                         it.mode, m, power_kw=shaft * t["eta_mg"] / 1e3,
+                         shaft_power_kw=shaft / 1e3, drive=it.drive,
+                         h_out_kj_kg=c["h_out"] * KJ, t_out_degc=st_out.t - C0,
+                         exhaust_quality=st_out.x if st_out.is_wet else np.nan,
+                         isentropic_efficiency=eta_is,
+                         min_t_h=it.min_flow * TH,
+                         max_t_h=(it.max_flow if it.max_flow is not None else np.nan) * TH,
+                         load_percent=(100 * m / it.max_flow if it.max_flow else np.nan),
+                         limit=_limit_state(m, it.min_flow if it.mode == "swing" else None,
+                                            it.max_flow)))
+    for t, c in zip(net.xturbines, co.xturb):
+        it = t["item"]
+        s = x[t["in_var"]]
+        flows = [s]
+        for e in t["exts"]:
+            flows.append(flows[-1] - x[e["var"]])
+        shaft = sum(f * d for f, d in zip(flows, c["dh"]))
+        p_ex = t["pressures"][-1]
+        st_ex = props.state_ph(p_ex, c["h"][-1])
+        q = st_ex.x if st_ex.is_wet else np.nan
+        to = H[t["exhaust"]] if t["exhaust"] is not None else "condenser"
+        cond_duty = 0.0
+        if t["exhaust"] is None:
+            cond_duty = flows[-1] * (c["h"][-1] - props.saturation(p_ex).hf)
+        rows.append(_row(case, t["name"], "extraction_turbine", H[t["inlet"]], to,
+                         it.mode, s, power_kw=shaft * t["eta_mg"] / 1e3,
+                         shaft_power_kw=shaft / 1e3, drive=it.drive,
+                         exhaust_t_h=flows[-1] * TH, h_out_kj_kg=c["h"][-1] * KJ,
+                         t_out_degc=st_ex.t - C0, exhaust_quality=q,
+                         condenser_duty_mw=cond_duty / 1e6,
+                         min_t_h=it.min_flow * TH,
+                         max_t_h=(it.max_flow if it.max_flow is not None else np.nan) * TH,
+                         load_percent=(100 * s / it.max_flow if it.max_flow else np.nan),
+                         limit=_limit_state(s, it.min_flow, it.max_flow),
+                         quality_below_limit=bool(st_ex.is_wet and q < it.min_exhaust_quality)))
+        for j, e in enumerate(t["exts"]):
+            rows.append(_row(case, f"{t['name']}/{H[e['header']]}", "extraction",
+                             t["name"], H[e["header"]], e["mode"], x[e["var"]],
+                             h_out_kj_kg=c["h"][j + 1] * KJ,
+                             t_out_degc=props.state_ph(t["pressures"][j + 1],
+                                                       c["h"][j + 1]).t - C0,
+                             max_t_h=e["hi"] * TH if math.isfinite(e["hi"]) else np.nan,
+                             limit=_limit_state(x[e["var"]], e["lo"] if e["mode"] == "swing"
+                                                else None, e["hi"])))
+    for s, c in zip(net.letdowns, co.ld):
+        it = s["item"]
+        m = x[s["var"]]
+        st_out = props.state_ph(net.p[s["outlet"]], c["h_out"])
+        rows.append(_row(case, s["name"], "letdown", H[s["inlet"]], H[s["outlet"]],
+                         it.mode, m, spray_t_h=m * c["r"] * TH,
+                         steam_out_t_h=m * (1 + c["r"]) * TH, h_out_kj_kg=c["h_out"] * KJ,
+                         t_out_degc=st_out.t - C0,
+                         t_set_degc=(s["ds"]["t_set"] - C0) if s["ds"] else np.nan,
+                         setpoint_reachable=c["reachable"],
+                         max_t_h=(it.max_flow if it.max_flow is not None else np.nan) * TH,
+                         load_percent=(100 * m / it.max_flow if it.max_flow else np.nan),
+                         limit=_limit_state(m, it.min_flow if it.mode == "auto" else None,
+                                            it.max_flow)))
+    for v in net.vents:
+        m = x[v["var"]]
+        cap = net.vars[v["var"]].hi
+        rows.append(_row(case, v["name"], "vent", H[v["header"]], "atmosphere", "excess",
+                         m, max_t_h=cap * TH if math.isfinite(cap) else np.nan,
+                         limit=_limit_state(m, None, cap)))
+    for u, m in zip(net.users, co.user_flow):
+        it = u["item"]
+        duty = m * (sol.h[u["header"]] - net.sat[u["header"]].hf)
+        rows.append(_row(case, u["name"], "user", H[u["header"]], "process",
+                         "duty" if it.duty is not None else "demand", m,
+                         duty_mw=duty / 1e6, condensate_return_t_h=m * u["ret"] * TH,
+                         group=it.group))
+    if net.deaerator is not None:
+        da = net.deaerator
+        wb = water_balance(sol)
+        rows.append(_row(case, da["name"], "deaerator", H[da["header"]], "feedwater",
+                         "balance", x[da["steam_var"]], makeup_t_h=wb["makeup_kg_s"] * TH,
+                         feedwater_t_h=wb["feedwater_from_da_kg_s"] * TH,
+                         vent_t_h=wb["da_vent_kg_s"] * TH,
+                         t_out_degc=da["sat"].t - C0))
+    return pd.DataFrame(rows)
+
+
+def stream_table(sol: Solution, case: str) -> pd.DataFrame:
+    """Every steam and water stream: from, to, flow, pressure, temperature, enthalpy."""
+    net, x, co = sol.net, sol.x, sol.co
+    H = net.headers
+    rows = []
+
+    def add(name, frm, to, medium, m, p, h):
+        st = props.state_ph(p, h)
+        rows.append({"case": case, "stream": name, "from": frm, "to": to,
+                     "medium": medium, "flow_t_h": m * TH, "p_bara": p / 1e5,
+                     "t_degc": st.t - C0, "h_kj_kg": h * KJ,
+                     "quality": st.x if st.is_wet else np.nan})
+    for b in net.boilers:
+        add(f"{b['name']} steam", b["name"], H[b["header"]], "steam", x[b["var"]],
+            net.p[b["header"]], b["h"])
+        add(f"{b['name']} feedwater", b["supply"]["name"], b["name"], "water",
+            x[b["var"]] / (1 - b["bd"]), b["supply"]["p"], b["supply"]["h"])
+    for t, c in zip(net.turbines, co.turb):
+        add(f"{t['name']} exhaust", t["name"], H[t["outlet"]], "steam", x[t["var"]],
+            net.p[t["outlet"]], c["h_out"])
+    for s, c in zip(net.letdowns, co.ld):
+        if s["ds"] is not None:
+            add(f"{s['name']} spray", s["ds"]["supply"]["name"], s["name"], "water",
+                x[s["var"]] * c["r"], s["ds"]["supply"]["p"], s["ds"]["supply"]["h"])
+        add(f"{s['name']} outlet", s["name"], H[s["outlet"]], "steam",
+            x[s["var"]] * (1 + c["r"]), net.p[s["outlet"]], c["h_out"])
+    return pd.DataFrame(rows)

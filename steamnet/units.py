@@ -1,0 +1,270 @@
+"""Quantities with units, as written in model files, read into SI.
+
+Every quantity in a model file is a string with its unit: ``"42 bar(g)"``, ``"400 degC"``,
+``"120 t/h"``, ``"3.5 MW"``. A bare number is an error, except for pure numbers (a
+fraction such as an efficiency, written ``"88 %"`` or ``0.88``; a coefficient such as
+FL). Unit conversion is done by pint; the trade's gauge/absolute pressure suffixes,
+flow-coefficient pseudo-units and prices are handled here. Internally everything is SI:
+Pa (absolute), K, kg/s, W, J/kg, m, s.
+
+Conversions are cached per unit string, so a table of 8,760 hourly values with the unit in
+its heading costs one pint parse.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from enum import Enum
+from functools import lru_cache
+
+import pint
+
+from .errors import ModelError
+
+__all__ = ["Kind", "parse_quantity", "parse_number_with_unit", "unit_factor", "UREG",
+           "format_pressure", "STANDARD_ATMOSPHERE"]
+
+#: Standard atmosphere [Pa] (ISO 2533; the conventional 1.01325 bar).
+STANDARD_ATMOSPHERE = 101325.0
+
+UREG = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+UREG.define("tph = tonne / hour")
+
+
+class Kind(str, Enum):
+    """What a field measures; decides the accepted units and the SI unit."""
+
+    PRESSURE = "pressure"                     # absolute Pa; gauge/absolute explicit
+    PRESSURE_DIFFERENCE = "pressure_difference"  # Pa
+    TEMPERATURE = "temperature"               # K
+    TEMPERATURE_DIFFERENCE = "temperature_difference"  # K
+    MASS_FLOW = "mass_flow"                   # kg/s
+    POWER = "power"                           # W
+    SPECIFIC_ENTHALPY = "specific_enthalpy"   # J/kg
+    STEAM_RATE = "steam_rate"                 # kg/J (Willans slope, e.g. t/MWh)
+    LENGTH = "length"                         # m
+    TIME = "time"                             # s
+    VELOCITY = "velocity"                     # m/s
+    FRACTION = "fraction"                     # -
+    RATIO = "ratio"                           # - ("10:1" or a number)
+    FLOW_COEFFICIENT = "flow_coefficient"     # Kv in m3/h ("120 Kv" or "140 Cv")
+    PRICE_ENERGY = "price_energy"             # currency per J
+    PRICE_MASS = "price_mass"                 # currency per kg
+    NUMBER = "number"                         # a pure number (FL, xT, Fd)
+
+
+_SI = {
+    Kind.PRESSURE: "Pa", Kind.PRESSURE_DIFFERENCE: "Pa", Kind.TEMPERATURE: "K",
+    Kind.TEMPERATURE_DIFFERENCE: "K", Kind.MASS_FLOW: "kg/s", Kind.POWER: "W",
+    Kind.SPECIFIC_ENTHALPY: "J/kg", Kind.STEAM_RATE: "kg/J", Kind.LENGTH: "m",
+    Kind.TIME: "s", Kind.VELOCITY: "m/s",
+}
+
+_EXAMPLES = {
+    Kind.PRESSURE: "'42 bar(g)', '600 psig', '1.2 bar(a)'",
+    Kind.PRESSURE_DIFFERENCE: "'3.5 bar', '50 psi'",
+    Kind.TEMPERATURE: "'400 degC', '750 degF', '673 K'",
+    Kind.TEMPERATURE_DIFFERENCE: "'10 K', '18 degF'",
+    Kind.MASS_FLOW: "'120 t/h', '15 kg/s', '80 klb/h'",
+    Kind.POWER: "'3.5 MW', '800 kW', '1200 hp'",
+    Kind.SPECIFIC_ENTHALPY: "'2800 kJ/kg', '1200 Btu/lb'",
+    Kind.STEAM_RATE: "'4.2 t/MWh', '9 lb/kWh'",
+    Kind.LENGTH: "'300 mm', '12 in', '8 m'",
+    Kind.TIME: "'0.2 s'",
+    Kind.VELOCITY: "'40 m/s', '120 ft/s'",
+    Kind.FRACTION: "'88 %' or 0.88",
+    Kind.RATIO: "'10:1' or 10",
+    Kind.FLOW_COEFFICIENT: "'120 Kv' (m3/h) or '140 Cv' (US gal/min)",
+    Kind.PRICE_ENERGY: "'9.5 EUR/GJ', '32 EUR/MWh'",
+    Kind.PRICE_MASS: "'1.8 EUR/t'",
+    Kind.NUMBER: "0.9",
+}
+
+# Pressure units the gauge/absolute suffix may follow (pint names on the right).
+_PRESSURE_UNITS = {
+    "pa": "Pa", "kpa": "kPa", "mpa": "MPa", "bar": "bar", "mbar": "mbar", "psi": "psi",
+    "kgf/cm2": "kgf/cm**2", "kg/cm2": "kgf/cm**2", "inhg": "inHg",
+}
+_GAUGE_RE = re.compile(r"^(?P<base>.+?)\s*(?:\((?P<p>[gaGA])\)|(?P<s>[ga]))$")
+_NUM_RE = re.compile(r"^\s*(?P<num>[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(?P<unit>.*?)\s*$")
+_RATIO_RE = re.compile(r"^\s*(?P<a>\d+\.?\d*)\s*:\s*(?P<b>\d+\.?\d*)\s*$")
+_FLOW_COEFF = {"kv": 1.0, "cv": None}   # Cv converted with fluids' factor below
+
+
+def _err(msg: str) -> ModelError:
+    return ModelError(msg)
+
+
+def _split_pressure_unit(unit: str) -> tuple[str, bool]:
+    """Pint unit and gauge flag of a pressure unit such as 'bar(g)', 'psia', 'kPa(a)'."""
+    u = unit.strip()
+    low = u.lower().replace(" ", "")
+    if low in ("barg", "psig", "kpag", "mpag"):
+        return _PRESSURE_UNITS[low[:-1]], True
+    if low in ("bara", "psia", "kpaa", "mpaa"):
+        return _PRESSURE_UNITS[low[:-1]], False
+    m = _GAUGE_RE.match(low)
+    if m and m.group("p"):
+        base = m.group("base")
+        if base in _PRESSURE_UNITS:
+            return _PRESSURE_UNITS[base], m.group("p").lower() == "g"
+    if low in _PRESSURE_UNITS:
+        raise _err(f"pressure unit '{unit}' does not say gauge or absolute: write "
+                   f"'{unit}(g)' or '{unit}(a)'")
+    raise _err(f"'{unit}' is not a pressure unit; write for example "
+               f"{_EXAMPLES[Kind.PRESSURE]}")
+
+
+@lru_cache(maxsize=4096)
+def unit_factor(unit: str, kind: Kind) -> tuple[float, float, bool]:
+    """(scale, offset, gauge) such that SI = scale * value + offset (+ p_atm if gauge).
+
+    Raises
+    ------
+    ModelError
+        The unit is unknown or of the wrong dimension for ``kind``.
+    """
+    kind = Kind(kind)
+    gauge = False
+    u = unit.strip()
+    if kind in (Kind.FRACTION, Kind.NUMBER, Kind.RATIO):
+        if u in ("", "-"):
+            return 1.0, 0.0, False
+        if kind is Kind.FRACTION and u in ("%", "percent"):
+            return 0.01, 0.0, False
+        raise _err(f"'{unit}' is not a unit for a {kind.value}; write {_EXAMPLES[kind]}")
+    if kind is Kind.FLOW_COEFFICIENT:
+        low = u.lower()
+        if low == "kv":
+            return 1.0, 0.0, False
+        if low == "cv":
+            # Kv = Cv / 1.156 (IEC 60534-1 / ISA-75.01.01 definitions; via fluids)
+            from fluids.control_valve import Cv_to_Kv
+            return float(Cv_to_Kv(1.0)), 0.0, False
+        raise _err(f"'{unit}' is not a flow-coefficient unit; write {_EXAMPLES[kind]}")
+    if not u:
+        raise _err(f"a {kind.value.replace('_', ' ')} needs a unit, e.g. {_EXAMPLES[kind]}")
+    if kind is Kind.PRESSURE:
+        u, gauge = _split_pressure_unit(u)
+    if kind is Kind.TEMPERATURE_DIFFERENCE:
+        low = u.lower()
+        u = {"k": "K", "degc": "delta_degC", "°c": "delta_degC", "degf": "delta_degF",
+             "°f": "delta_degF", "r": "degR", "degr": "degR"}.get(low, u)
+    if kind is Kind.TEMPERATURE and u.upper() in ("C", "F"):
+        raise _err(f"write 'degC' or 'degF', not '{unit}'")
+    try:
+        q = UREG.Quantity(1.0, u)
+        target = _SI[kind]
+        if kind is Kind.TEMPERATURE:
+            a = UREG.Quantity(0.0, u).to(target).magnitude
+            b = UREG.Quantity(1.0, u).to(target).magnitude
+            return float(b - a), float(a), False
+        return float(q.to(target).magnitude), 0.0, gauge
+    except (pint.errors.UndefinedUnitError, pint.errors.DimensionalityError,
+            pint.errors.OffsetUnitCalculusError, AttributeError, TypeError, ValueError,
+            AssertionError, KeyError) as exc:
+        if isinstance(exc, pint.errors.DimensionalityError):
+            raise _err(f"'{unit}' is not a unit of {kind.value.replace('_', ' ')}; write "
+                       f"for example {_EXAMPLES[kind]}") from None
+        raise _err(f"unknown unit '{unit}'; write for example {_EXAMPLES[kind]}") from None
+    except Exception:  # pint raises a variety of parse errors on odd text
+        raise _err(f"unknown unit '{unit}'; write for example {_EXAMPLES[kind]}") from None
+
+
+def parse_number_with_unit(value: float, unit: str, kind: Kind, *,
+                           p_atm: float = STANDARD_ATMOSPHERE) -> float:
+    """Convert ``value`` in ``unit`` to SI (for tables with the unit in the heading)."""
+    scale, offset, gauge = unit_factor(unit, Kind(kind))
+    si = value * scale + offset
+    if gauge:
+        si += p_atm
+    return si
+
+
+def _price_factor(unit: str, kind: Kind, currency: str) -> float:
+    u = unit.strip()
+    if "/" not in u:
+        raise _err(f"a price is written as currency per unit, e.g. {_EXAMPLES[kind]}")
+    cur, per = u.split("/", 1)
+    if cur.strip() != currency:
+        raise _err(f"price in '{cur.strip()}' but the site currency is '{currency}'")
+    target = "1/J" if kind is Kind.PRICE_ENERGY else "1/kg"
+    try:
+        return float(UREG.Quantity(1.0, "1/(" + per.strip() + ")").to(target).magnitude)
+    except Exception:
+        raise _err(f"'{per.strip()}' is not a unit of "
+                   f"{'energy' if kind is Kind.PRICE_ENERGY else 'mass'}; write for "
+                   f"example {_EXAMPLES[kind]}") from None
+
+
+def parse_quantity(value, kind: Kind | str, *, p_atm: float = STANDARD_ATMOSPHERE,
+                   currency: str = "EUR") -> float:
+    """Read one quantity as written in a model file and return it in SI.
+
+    Parameters
+    ----------
+    value : str or float
+        ``"42 bar(g)"``; a bare number only for fractions, ratios and pure numbers.
+    kind : Kind
+        What the field measures.
+    p_atm : float
+        Local atmospheric pressure for gauge pressures [Pa]
+    currency : str
+        The site's currency code, for prices.
+
+    Returns
+    -------
+    float
+        The value in SI (absolute Pa, K, kg/s, W, J/kg, m, s; prices per J or per kg).
+
+    Raises
+    ------
+    ModelError
+        Missing or wrong unit, or text that is not a number.
+
+    Examples
+    --------
+    >>> parse_quantity("42 bar(g)", Kind.PRESSURE)
+    4301325.0
+    >>> round(parse_quantity("120 t/h", Kind.MASS_FLOW), 4)
+    33.3333
+    """
+    kind = Kind(kind)
+    if isinstance(value, bool):
+        raise _err(f"expected a {kind.value.replace('_', ' ')}, got {value!r}")
+    if isinstance(value, (int, float)):
+        if not math.isfinite(value):
+            raise _err(f"{value!r} is not a finite number")
+        if kind in (Kind.FRACTION, Kind.RATIO, Kind.NUMBER):
+            return float(value)
+        raise _err(f"bare number {value!r}: a {kind.value.replace('_', ' ')} needs its "
+                   f"unit, e.g. {_EXAMPLES[kind]}")
+    if not isinstance(value, str):
+        raise _err(f"expected a quantity such as {_EXAMPLES[kind]}, got {type(value).__name__}")
+    if kind is Kind.RATIO:
+        m = _RATIO_RE.match(value)
+        if m:
+            a, b = float(m.group("a")), float(m.group("b"))
+            if b == 0:
+                raise _err(f"ratio '{value}' divides by zero")
+            return a / b
+    m = _NUM_RE.match(value)
+    if not m:
+        raise _err(f"'{value}' is not a number with a unit; write for example "
+                   f"{_EXAMPLES[kind]}")
+    num = float(m.group("num"))
+    if not math.isfinite(num):
+        raise _err(f"'{value}' is not a finite number")
+    unit = m.group("unit")
+    if kind in (Kind.PRICE_ENERGY, Kind.PRICE_MASS):
+        return num * _price_factor(unit, kind, currency)
+    si = parse_number_with_unit(num, unit, kind, p_atm=p_atm)
+    if not math.isfinite(si):
+        raise _err(f"'{value}' is too large")
+    return si
+
+
+def format_pressure(p_pa: float, p_atm: float = STANDARD_ATMOSPHERE) -> str:
+    """Human-readable gauge pressure, e.g. '42.0 bar(g)'."""
+    return f"{(p_pa - p_atm) / 1e5:.2f} bar(g)"
