@@ -134,9 +134,9 @@ def case_cost(model: Model, equipment: pd.DataFrame, water: dict, sol: Solution)
     imp = sum(sol.x[t["var"]] * t["price"] for t in net.transfers if t["dir"] == "import")
     exp = sum(sol.x[t["var"]] * t["price"] for t in net.transfers if t["dir"] == "export")
     gen = 0.0
-    if len(equipment):
+    if len(equipment) and {"drive", "power_kw"} <= set(equipment.columns):
         g = equipment[(equipment["type"].isin(["turbine", "extraction_turbine"]))
-                      & (equipment.get("drive") == "generator")]
+                      & (equipment["drive"] == "generator")]
         gen = float(g["power_kw"].sum()) * 1e3
     pump = sum(ws["pump_work"] * _supply_flow(sol, name)
                for name, ws in net.supplies.items())
@@ -229,6 +229,8 @@ def _summary(name, status, message, sol, eq, wb, res, cost) -> dict:
         if not len(eq) or col not in eq:
             return 0.0
         sel = eq[eq["type"].isin(typ)]
+        if cond is not None and "drive" not in sel:
+            return 0.0
         if cond is not None:
             sel = sel[cond(sel)]
         v = sel[col].sum()
