@@ -1,0 +1,17 @@
+"""Pure engineering functions of steamnet, SI units at the interface.
+
+One module per topic: :mod:`steamnet.calc.valve` (IEC 60534-2-1 sizing through
+``fluids`` and valve travel) and :mod:`steamnet.calc.desuperheater` (spray balance,
+control gains, evaporation distance). Nothing here reads a model or keeps state.
+"""
+
+from .desuperheater import (evaporation_distance, gain_per_ratio, gain_per_spray,
+                            spray_water_flow)
+from .valve import (Characteristic, ValveSizing, cv_to_kv, kv_to_cv, size_gas_valve,
+                    size_liquid_valve, size_steam_valve, size_water_valve, valve_travel)
+
+__all__ = [
+    "Characteristic", "ValveSizing", "cv_to_kv", "kv_to_cv", "size_gas_valve",
+    "size_liquid_valve", "size_steam_valve", "size_water_valve", "valve_travel",
+    "evaporation_distance", "gain_per_ratio", "gain_per_spray", "spray_water_flow",
+]

@@ -1,0 +1,192 @@
+"""Spray desuperheater: energy balance, control gains and evaporation distance.
+
+Pure functions in SI units. The outlet enthalpy comes from the caller (usually
+h(P_out, T_set) from :mod:`steamnet.properties`); nothing here calls the property
+layer.
+
+Warnings
+--------
+Unevaporated spray water causes water hammer, thermal shock and erosion. These
+functions give the steady-state balance only; whether the water evaporates in the
+available pipe length depends on the nozzle, the velocity and the approach to
+saturation, for which the maker's data govern.
+
+References
+----------
+.. [1] IAPWS R7-97(2012), Revised Release on the IAPWS Industrial Formulation 1997 for
+   the Thermodynamic Properties of Water and Steam (the enthalpies).
+.. [2] steamnet engineering notes, section 5 (desuperheater balance) and section 8
+   (control gain); the 1/(steam + spray) dependence of the gain follows from the
+   energy balance and is common practice, no source.
+"""
+
+from __future__ import annotations
+
+import math
+
+from ..errors import ModelError
+
+__all__ = ["spray_water_flow", "gain_per_spray", "gain_per_ratio",
+           "evaporation_distance"]
+
+
+def _finite(**values: float) -> None:
+    for name, val in values.items():
+        if not math.isfinite(val):
+            raise ModelError(f"{name} must be a finite number, got {val!r}")
+
+
+def spray_water_flow(m_steam: float, h_steam: float, h_out: float,
+                     h_water: float) -> float:
+    """Spray water flow that brings a steam flow to an outlet enthalpy.
+
+    Mass and energy balance of a spray attemperator:
+
+    .. math::
+        \\dot m_w = \\dot m_s \\frac{h_s - h_{out}}{h_{out} - h_w}
+
+    Parameters
+    ----------
+    m_steam : float
+        Steam mass flow entering the desuperheater [kg/s]
+    h_steam : float
+        Specific enthalpy of the entering steam [J/kg]
+    h_out : float
+        Specific enthalpy wanted at the outlet [J/kg]
+    h_water : float
+        Specific enthalpy of the spray water [J/kg]
+
+    Returns
+    -------
+    m_water : float
+        Spray water flow [kg/s]; 0 when h_steam <= h_out (no spray needed: the
+        outlet is then at h_steam, and below the setpoint if h_steam < h_out)
+
+    Raises
+    ------
+    ModelError
+        Negative steam flow, or spray water not colder than the outlet
+        (h_water >= h_out) while spray is needed.
+
+    Examples
+    --------
+    >>> spray_water_flow(10.0, 3.2e6, 2.9e6, 0.4e6)
+    1.2
+    """
+    _finite(m_steam=m_steam, h_steam=h_steam, h_out=h_out, h_water=h_water)
+    if m_steam < 0:
+        raise ModelError(f"steam flow must not be negative, got {m_steam!r} kg/s")
+    if h_steam <= h_out or m_steam == 0:
+        return 0.0
+    if h_water >= h_out:
+        raise ModelError(
+            f"spray water enthalpy {h_water / 1e3:.1f} kJ/kg is not below the outlet "
+            f"enthalpy {h_out / 1e3:.1f} kJ/kg: the water cannot cool the steam")
+    return m_steam * (h_steam - h_out) / (h_out - h_water)
+
+
+def gain_per_spray(h_water: float, h_out: float, cp_out: float, m_steam: float,
+                   m_spray: float) -> float:
+    """Gain of outlet temperature to spray flow, dT_out / dm_w.
+
+    From h_out = (m_s h_s + m_w h_w) / (m_s + m_w) at fixed steam flow and enthalpy:
+
+    .. math::
+        \\frac{\\partial T_{out}}{\\partial \\dot m_w} =
+        \\frac{h_w - h_{out}}{c_{p,out} (\\dot m_s + \\dot m_w)}
+
+    Parameters
+    ----------
+    h_water : float
+        Specific enthalpy of the spray water [J/kg]
+    h_out : float
+        Specific enthalpy at the outlet [J/kg]
+    cp_out : float
+        Isobaric heat capacity of the outlet steam [J/(kg K)]
+    m_steam : float
+        Steam mass flow [kg/s]
+    m_spray : float
+        Spray water flow [kg/s]
+
+    Returns
+    -------
+    gain : float
+        dT_out / dm_w, negative (more water, colder outlet) [K/(kg/s)]
+
+    Notes
+    -----
+    The gain falls as 1 / (steam + spray flow): a loop tuned at full flow is
+    sluggish there and too lively at minimum flow (common practice, no source).
+    """
+    _finite(h_water=h_water, h_out=h_out, cp_out=cp_out, m_steam=m_steam,
+            m_spray=m_spray)
+    total = m_steam + m_spray
+    if not (cp_out > 0 and total > 0 and m_steam >= 0 and m_spray >= 0):
+        raise ModelError("gain_per_spray needs cp_out > 0 and a positive total flow, "
+                         f"got cp_out={cp_out!r}, m_steam={m_steam!r}, "
+                         f"m_spray={m_spray!r}")
+    return (h_water - h_out) / (cp_out * total)
+
+
+def gain_per_ratio(h_water: float, h_steam: float, cp_out: float,
+                   ratio: float) -> float:
+    """Gain of outlet temperature to the spray/steam ratio, dT_out / dR.
+
+    With R = m_w / m_s, h_out = (h_s + R h_w) / (1 + R), so
+
+    .. math::
+        \\frac{\\partial T_{out}}{\\partial R} =
+        \\frac{h_w - h_s}{c_{p,out} (1 + R)^2}
+
+    which does not depend on the flow itself: spraying in ratio to steam flow keeps
+    the loop gain nearly constant.
+
+    Parameters
+    ----------
+    h_water : float
+        Specific enthalpy of the spray water [J/kg]
+    h_steam : float
+        Specific enthalpy of the entering steam [J/kg]
+    cp_out : float
+        Isobaric heat capacity of the outlet steam [J/(kg K)]
+    ratio : float
+        Spray to steam mass flow ratio R [-]
+
+    Returns
+    -------
+    gain : float
+        dT_out / dR, negative [K per unit ratio]
+    """
+    _finite(h_water=h_water, h_steam=h_steam, cp_out=cp_out, ratio=ratio)
+    if not (cp_out > 0 and ratio >= 0):
+        raise ModelError(f"gain_per_ratio needs cp_out > 0 and ratio >= 0, got "
+                         f"cp_out={cp_out!r}, ratio={ratio!r}")
+    return (h_water - h_steam) / (cp_out * (1.0 + ratio) ** 2)
+
+
+def evaporation_distance(velocity: float, time: float) -> float:
+    """Pipe length the steam travels while the spray evaporates.
+
+    .. math::
+        L = u \\, t_{evap}
+
+    Parameters
+    ----------
+    velocity : float
+        Mean steam velocity in the outlet pipe [m/s]
+    time : float
+        Evaporation time of the spray [s]
+
+    Returns
+    -------
+    distance : float
+        Straight run needed before the temperature element [m]
+
+    >>> evaporation_distance(30.0, 0.2)
+    6.0
+    """
+    _finite(velocity=velocity, time=time)
+    if velocity < 0 or time < 0:
+        raise ModelError(f"velocity and time must not be negative, got {velocity!r} "
+                         f"m/s, {time!r} s")
+    return velocity * time

@@ -1,0 +1,351 @@
+"""Data of a let-down station and its operating points, SI units.
+
+Frozen dataclasses only; every optional field is None when the model does not give
+it, and a check that needs a missing field reports ``not_assessed`` instead of
+passing. :class:`StationLimits` holds the default limits of the station checks with
+the label of where each comes from.
+
+References
+----------
+.. [1] steamnet engineering notes, section 8 (let-down station checks and default
+   limits).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+from dataclasses import dataclass, field
+from types import MappingProxyType
+from typing import ClassVar, Mapping
+
+from ..calc.valve import Characteristic
+from ..errors import ModelError
+
+__all__ = ["ValveData", "DesuperheaterData", "StationLimits", "StationData",
+           "StationPoint", "CHARACTERISTICS", "ATOMISATIONS"]
+
+#: Allowed inherent characteristics: the values of :class:`steamnet.calc.Characteristic`.
+CHARACTERISTICS = tuple(c.value for c in Characteristic)
+#: Allowed kinds of spray atomisation.
+ATOMISATIONS = ("mechanical", "steam_assisted", "other")
+
+
+def _positive(item: str, **values: float | None) -> None:
+    """Raise ModelError for a given value that is not a positive finite number."""
+    for name, val in values.items():
+        if val is not None and not (isinstance(val, (int, float))
+                                    and math.isfinite(val) and val > 0):
+            raise ModelError(f"must be a positive number, got {val!r}", item=item,
+                             field=name)
+
+
+@dataclass(frozen=True, slots=True)
+class ValveData:
+    """A control valve as the model gives it.
+
+    Attributes
+    ----------
+    rated_kv : float or None
+        Rated flow coefficient at full travel [m3/h]
+    characteristic : str or None
+        Inherent characteristic, ``"linear"`` or ``"equal_percentage"`` [-]
+    rangeability : float or None
+        Inherent rangeability (equal percentage) [-]
+    fl : float or None
+        Liquid pressure recovery factor [-]
+    xt : float or None
+        Pressure differential ratio factor at choked flow [-]
+    fd : float or None
+        Valve style modifier [-]
+    diameter : float or None
+        Nominal diameter [m]
+    """
+
+    rated_kv: float | None = None
+    characteristic: str | None = None
+    rangeability: float | None = None
+    fl: float | None = None
+    xt: float | None = None
+    fd: float | None = None
+    diameter: float | None = None
+
+    def __post_init__(self):
+        _positive("valve", rated_kv=self.rated_kv, fl=self.fl, xt=self.xt, fd=self.fd,
+                  diameter=self.diameter)
+        if self.characteristic is not None and self.characteristic not in CHARACTERISTICS:
+            raise ModelError(f"unknown characteristic {self.characteristic!r}; allowed: "
+                             + ", ".join(CHARACTERISTICS), item="valve",
+                             field="characteristic")
+        if self.rangeability is not None and not (math.isfinite(self.rangeability)
+                                                  and self.rangeability > 1):
+            raise ModelError(f"must be above 1, got {self.rangeability!r}", item="valve",
+                             field="rangeability")
+
+
+@dataclass(frozen=True, slots=True)
+class DesuperheaterData:
+    """A spray desuperheater as the model gives it (maker's data).
+
+    Attributes
+    ----------
+    atomisation : str or None
+        ``"mechanical"``, ``"steam_assisted"`` or ``"other"`` [-]
+    rated_min_steam : float or None
+        Rated minimum steam flow [kg/s]
+    rated_max_steam : float or None
+        Rated maximum steam flow [kg/s]
+    max_spray : float or None
+        Maximum spray water flow [kg/s]
+    min_spray : float or None
+        Minimum controllable spray water flow [kg/s]
+    evaporation_time : float or None
+        Time the spray needs to evaporate, maker's figure [s]
+    """
+
+    atomisation: str | None = None
+    rated_min_steam: float | None = None
+    rated_max_steam: float | None = None
+    max_spray: float | None = None
+    min_spray: float | None = None
+    evaporation_time: float | None = None
+
+    def __post_init__(self):
+        _positive("desuperheater", rated_min_steam=self.rated_min_steam,
+                  rated_max_steam=self.rated_max_steam, max_spray=self.max_spray,
+                  min_spray=self.min_spray, evaporation_time=self.evaporation_time)
+        if self.atomisation is not None and self.atomisation not in ATOMISATIONS:
+            raise ModelError(f"unknown atomisation {self.atomisation!r}; allowed: "
+                             + ", ".join(ATOMISATIONS), item="desuperheater",
+                             field="atomisation")
+        if (self.rated_min_steam is not None and self.rated_max_steam is not None
+                and self.rated_min_steam >= self.rated_max_steam):
+            raise ModelError("rated minimum steam flow must be below the rated maximum",
+                             item="desuperheater", field="rated_min_steam")
+        if (self.min_spray is not None and self.max_spray is not None
+                and self.min_spray >= self.max_spray):
+            raise ModelError("minimum spray flow must be below the maximum",
+                             item="desuperheater", field="min_spray")
+
+
+_SOURCES = {
+    "spray_capacity_warn": "common practice, no source",
+    "spray_capacity_fail": "common practice, no source",
+    "approach_fail": "common practice, no source",
+    "approach_warn": "common practice, no source",
+    "valve_travel_warn_high": "common practice for control valves, no source",
+    "valve_travel_fail_high": "common practice for control valves, no source",
+    "valve_travel_warn_low": "common practice for control valves, no source",
+    "spray_pressure_margin_fail": "from memory, common practice",
+    "velocity_warn_low": "from memory",
+    "velocity_warn_high": "from memory",
+    "evaporation_time_default": "from memory; maker's figure wins",
+    "gain_spread_warn": "common practice, no source",
+}
+_KINDS = {
+    "spray_capacity_warn": "fraction",
+    "spray_capacity_fail": "fraction",
+    "approach_fail": "temperature_difference",
+    "approach_warn": "temperature_difference",
+    "valve_travel_warn_high": "fraction",
+    "valve_travel_fail_high": "fraction",
+    "valve_travel_warn_low": "fraction",
+    "spray_pressure_margin_fail": "pressure_difference",
+    "velocity_warn_low": "velocity",
+    "velocity_warn_high": "velocity",
+    "evaporation_time_default": "time",
+    "gain_spread_warn": "ratio",
+}
+
+
+@dataclass(frozen=True, slots=True)
+class StationLimits:
+    """Limits of the let-down station checks, SI units (fractions as 0..1).
+
+    Defaults from the engineering notes, section 8; :attr:`LIMIT_SOURCES` gives the
+    source label of each and :attr:`LIMIT_KINDS` the kind of quantity, so that a
+    model loader can parse a table of overrides with units generically.
+
+    Attributes
+    ----------
+    spray_capacity_warn : float
+        Warn when required spray exceeds this fraction of the maximum spray [-]
+    spray_capacity_fail : float
+        Fail when required spray exceeds this fraction of the maximum spray [-]
+    approach_fail : float
+        Fail when the outlet is less than this above saturation [K]
+    approach_warn : float
+        Warn when the outlet is less than this above saturation [K]
+    valve_travel_warn_high : float
+        Warn above this travel [-]
+    valve_travel_fail_high : float
+        Fail above this travel [-]
+    valve_travel_warn_low : float
+        Warn below this travel [-]
+    spray_pressure_margin_fail : float
+        Fail when spray supply pressure minus steam pressure is below this, for
+        mechanically atomised nozzles [Pa]
+    velocity_warn_low : float
+        Warn below this outlet velocity (poor atomisation) [m/s]
+    velocity_warn_high : float
+        Warn above this outlet velocity (erosion, noise) [m/s]
+    evaporation_time_default : float
+        Evaporation time used when the maker gives none [s]
+    gain_spread_warn : float
+        Warn when the largest control gain exceeds the smallest by this ratio [-]
+    """
+
+    spray_capacity_warn: float = 0.85
+    spray_capacity_fail: float = 1.00
+    approach_fail: float = 8.0
+    approach_warn: float = 10.0
+    valve_travel_warn_high: float = 0.80
+    valve_travel_fail_high: float = 0.95
+    valve_travel_warn_low: float = 0.10
+    spray_pressure_margin_fail: float = 3.5e5
+    velocity_warn_low: float = 6.0
+    velocity_warn_high: float = 75.0
+    evaporation_time_default: float = 0.2
+    gain_spread_warn: float = 3.0
+
+    LIMIT_SOURCES: ClassVar[Mapping[str, str]] = MappingProxyType(_SOURCES)
+    LIMIT_KINDS: ClassVar[Mapping[str, str]] = MappingProxyType(_KINDS)
+
+    def __post_init__(self):
+        _positive("station_limits", **{f.name: getattr(self, f.name)
+                                       for f in dataclasses.fields(self)})
+        order = [("spray_capacity_warn", "spray_capacity_fail"),
+                 ("approach_fail", "approach_warn"),
+                 ("valve_travel_warn_low", "valve_travel_warn_high"),
+                 ("valve_travel_warn_high", "valve_travel_fail_high"),
+                 ("velocity_warn_low", "velocity_warn_high")]
+        for low, high in order:
+            if getattr(self, low) > getattr(self, high):
+                raise ModelError(f"{low}={getattr(self, low)!r} must not exceed "
+                                 f"{high}={getattr(self, high)!r}",
+                                 item="station_limits", field=low)
+        if self.gain_spread_warn <= 1:
+            raise ModelError("must be above 1", item="station_limits",
+                             field="gain_spread_warn")
+
+    @classmethod
+    def names(cls) -> tuple[str, ...]:
+        """Names of all limits, in declaration order."""
+        return tuple(f.name for f in dataclasses.fields(cls))
+
+    def with_overrides(self, **si_values: float) -> "StationLimits":
+        """A copy with some limits replaced.
+
+        Parameters
+        ----------
+        **si_values : float
+            New values by limit name, in SI units (fractions as 0..1, K, Pa, m/s,
+            s) [various]
+
+        Returns
+        -------
+        limits : StationLimits
+            The new limits [-]
+
+        Raises
+        ------
+        ModelError
+            An unknown limit name (the message lists the known ones) or a value that
+            breaks the order of the limits.
+        """
+        unknown = sorted(set(si_values) - set(self.names()))
+        if unknown:
+            raise ModelError(f"unknown station limit(s) {', '.join(unknown)}; known: "
+                             + ", ".join(self.names()), item="station_limits")
+        return dataclasses.replace(self, **si_values)
+
+
+@dataclass(frozen=True, slots=True)
+class StationData:
+    """A let-down station: valve, optional desuperheater and spray valve, limits.
+
+    Attributes
+    ----------
+    name : str
+        Station name [-]
+    valve : ValveData or None
+        Let-down (steam) valve [-]
+    desuperheater : DesuperheaterData or None
+        None for a station without spray [-]
+    spray_valve : ValveData or None
+        Spray water control valve [-]
+    outlet_pipe_diameter : float or None
+        Inside diameter of the pipe after the desuperheater [m]
+    sensor_distance : float or None
+        Straight run from the spray nozzle to the temperature element [m]
+    limits : StationLimits
+        Check limits for this station [-]
+    """
+
+    name: str
+    valve: ValveData | None = None
+    desuperheater: DesuperheaterData | None = None
+    spray_valve: ValveData | None = None
+    outlet_pipe_diameter: float | None = None
+    sensor_distance: float | None = None
+    limits: StationLimits = field(default_factory=StationLimits)
+
+    def __post_init__(self):
+        _positive(f"station '{self.name}'", outlet_pipe_diameter=self.outlet_pipe_diameter,
+                  sensor_distance=self.sensor_distance)
+
+
+@dataclass(frozen=True, slots=True)
+class StationPoint:
+    """One operating point of a station in one case, as the balance yields it.
+
+    Attributes
+    ----------
+    case : str
+        Case name [-]
+    station : str
+        Station name [-]
+    p_in : float
+        Inlet (upstream header) pressure [Pa]
+    h_in : float
+        Inlet steam enthalpy [J/kg]
+    p_out : float
+        Outlet (downstream header) pressure [Pa]
+    m_steam : float
+        Steam flow through the let-down valve [kg/s]
+    m_spray : float
+        Spray water flow [kg/s]
+    h_out : float
+        Outlet enthalpy after the desuperheater [J/kg]
+    h_water : float or None
+        Spray water enthalpy [J/kg]
+    t_water : float or None
+        Spray water temperature [K]
+    p_water : float or None
+        Spray water supply pressure at the spray valve inlet [Pa]
+    setpoint_reachable : bool
+        False when the steam arrives colder than the outlet setpoint [-]
+    """
+
+    case: str
+    station: str
+    p_in: float
+    h_in: float
+    p_out: float
+    m_steam: float
+    m_spray: float
+    h_out: float
+    h_water: float | None = None
+    t_water: float | None = None
+    p_water: float | None = None
+    setpoint_reachable: bool = True
+
+    def __post_init__(self):
+        item = f"station '{self.station}', case '{self.case}'"
+        _positive(item, p_in=self.p_in, p_out=self.p_out, p_water=self.p_water,
+                  t_water=self.t_water)
+        for name in ("m_steam", "m_spray"):
+            val = getattr(self, name)
+            if not (math.isfinite(val) and val >= 0):
+                raise ModelError(f"must be zero or positive, got {val!r}", item=item,
+                                 field=name)
