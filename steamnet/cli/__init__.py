@@ -73,3 +73,4 @@ __all__ = ["main", "EXIT_OK", "EXIT_FAIL", "EXIT_INPUT", "EXIT_OUTPUT", "EXIT_IN
 
 if __name__ == "__main__":  # pragma: no cover
     sys.exit(main())
+from . import stations  # noqa: E402,F401

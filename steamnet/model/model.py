@@ -403,6 +403,8 @@ def _build(doc: dict, *, source: str, sha256: str) -> Model:
                   cases=tuple(cases), source=source, sha256=sha256)
     from .validate import validate_model  # late import: validate uses Model
     validate_model(model)
+    from ..stations.run import station_data
+    station_data(model)          # station limits and valve data are checked on load
     for c in cases:
         if c.based_on is not None and not any(o.name == c.based_on for o in cases):
             errors.append(ModelError(f"based_on '{c.based_on}': no such case",

@@ -1,0 +1,228 @@
+"""Run the station checks over solved cases: model data in, tables out.
+
+:func:`station_data` turns each let-down of the model (with its valve, desuperheater,
+spray valve, pipe and limits) into a :class:`StationData`; :func:`station_points` takes
+each station's operating point from a solved case; :func:`run_checks` runs every check of
+:mod:`steamnet.stations.checks` in every case and across cases and returns a
+:class:`StationReport` of pandas tables.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import pandas as pd
+
+from .. import properties as props
+from ..calc.desuperheater import gain_per_ratio, gain_per_spray
+from ..errors import ModelError, ModelErrors
+from ..units import Kind, parse_quantity
+from .checks import check_across_cases, check_point
+from .data import DesuperheaterData, StationData, StationLimits, StationPoint, ValveData
+from .rows import SEVERITY, Status
+
+__all__ = ["StationReport", "station_data", "station_points", "run_checks",
+           "parse_limits"]
+
+TH = 3.6
+CHECK_COLUMNS = ["case", "station", "check", "value", "limit", "unit", "status", "basis",
+                 "source", "advice"]
+
+
+@dataclass(frozen=True)
+class StationReport:
+    """Station check results.
+
+    Attributes
+    ----------
+    checks : pandas.DataFrame
+        One row per check, station and case (and ``"all cases"`` rows for the checks
+        across cases): CHECK_COLUMNS; ``status`` is ok, warn, fail, not_assessed or
+        not_applicable; ``value`` and ``limit`` are in ``unit``.
+    envelopes : pandas.DataFrame
+        One row per station: least and most steam and spray with their cases, the
+        turndown used against the rated one, and the worst verdict of every check.
+    gains : pandas.DataFrame
+        Control gain of each station in each case: per unit spray flow [K per t/h] and
+        per unit spray-to-steam ratio [K], against the steam flow.
+    """
+
+    checks: pd.DataFrame
+    envelopes: pd.DataFrame
+    gains: pd.DataFrame
+
+    @property
+    def failed(self) -> bool:
+        return bool(len(self.checks)) and bool((self.checks["status"] == "fail").any())
+
+    def worst_first(self) -> pd.DataFrame:
+        """Checks sorted fail, warn, not assessed, ok; not-applicable rows dropped."""
+        c = self.checks[self.checks["status"] != "not_applicable"].copy()
+        c["_sev"] = c["status"].map({s.value: v for s, v in SEVERITY.items()})
+        return c.sort_values(["_sev", "station", "case"], ascending=[False, True, True],
+                             kind="stable").drop(columns="_sev")
+
+
+def parse_limits(table: dict, *, base: StationLimits | None = None, file=None,
+                 item="station_limits") -> StationLimits:
+    """StationLimits from a table of overrides written with units."""
+    base = base or StationLimits()
+    kinds = StationLimits.LIMIT_KINDS
+    values = {}
+    errors = []
+    for key, raw in (table or {}).items():
+        if key not in kinds:
+            errors.append(ModelError(f"unknown station limit '{key}' (known: "
+                                     f"{', '.join(kinds)})", file=file, item=item,
+                                     field=key))
+            continue
+        try:
+            values[key] = parse_quantity(raw, Kind(kinds[key]))
+        except ModelError as exc:
+            errors.append(exc.with_context(file=file, item=item, field=key))
+    if errors:
+        raise ModelErrors(errors)
+    try:
+        return base.with_overrides(**values)
+    except ModelError as exc:
+        raise ModelErrors([exc.with_context(file=file, item=item)]) from None
+
+
+def _valve(v) -> ValveData | None:
+    if v is None:
+        return None
+    return ValveData(rated_kv=v.rated_coefficient, characteristic=v.characteristic,
+                     rangeability=v.rangeability, fl=v.fl, xt=v.xt, fd=v.fd,
+                     diameter=v.diameter)
+
+
+def station_data(model) -> dict[str, StationData]:
+    """StationData of every let-down of ``model``, limits site-wide then per station.
+
+    Raises
+    ------
+    ModelErrors
+        A limit that is unknown, has a wrong unit or breaks the order of the limits,
+        naming the file and the station.
+    """
+    site = parse_limits(model.station_limits, file=model.source)
+    out = {}
+    errors = []
+    for name, s in model.table("letdown").items():
+        try:
+            limits = parse_limits(s.limits, base=site, file=model.source,
+                                  item=f"letdown '{name}' limits") if s.limits else site
+        except ModelErrors as exc:
+            errors.extend(exc.errors)
+            continue
+        d = s.desuperheater
+        ds = None
+        if d is not None:
+            rated_min = d.rated_min_steam
+            if rated_min is None and d.turndown and d.rated_max_steam:
+                rated_min = d.rated_max_steam / d.turndown
+            ds = DesuperheaterData(atomisation=d.atomisation, rated_min_steam=rated_min,
+                                   rated_max_steam=d.rated_max_steam,
+                                   max_spray=d.max_spray, min_spray=d.min_spray,
+                                   evaporation_time=d.evaporation_time)
+        try:
+            out[name] = StationData(name=name, valve=_valve(s.valve), desuperheater=ds,
+                                    spray_valve=_valve(s.spray_valve),
+                                    outlet_pipe_diameter=s.outlet_pipe_diameter,
+                                    sensor_distance=s.sensor_distance, limits=limits)
+        except ModelError as exc:
+            errors.append(exc.with_context(file=model.source, item=f"letdown '{name}'"))
+    if errors:
+        raise ModelErrors(errors)
+    return out
+
+
+def station_points(case_result) -> list[StationPoint]:
+    """The operating point of every running let-down in one solved case."""
+    sol = case_result.solution
+    if sol is None or case_result.status not in ("solved", "infeasible"):
+        return []
+    net, x, co = sol.net, sol.x, sol.co
+    pts = []
+    for s, c in zip(net.letdowns, co.ld):
+        ds = s["ds"]
+        m = float(x[s["var"]])
+        pts.append(StationPoint(
+            case=case_result.case, station=s["name"], p_in=net.p[s["inlet"]],
+            h_in=sol.h[s["inlet"]], p_out=net.p[s["outlet"]], m_steam=max(m, 0.0),
+            m_spray=max(m * c["r"], 0.0), h_out=c["h_out"],
+            h_water=ds["supply"]["h"] if ds else None,
+            t_water=ds["supply"]["t"] if ds else None,
+            p_water=ds["supply"]["p"] if ds else None,
+            setpoint_reachable=bool(c["reachable"])))
+    return pts
+
+
+def _gain_rows(point: StationPoint) -> dict | None:
+    if point.h_water is None or point.m_steam <= 0:
+        return None
+    st = props.state_ph(point.p_out, point.h_out)
+    if st.is_wet:
+        return None
+    g = gain_per_spray(point.h_water, point.h_out, st.cp, point.m_steam, point.m_spray)
+    r = point.m_spray / point.m_steam
+    gr = gain_per_ratio(point.h_water, point.h_in, st.cp, r)
+    return {"case": point.case, "station": point.station,
+            "steam_t_h": point.m_steam * TH, "spray_t_h": point.m_spray * TH,
+            "ratio": r, "gain_k_per_t_h": g / TH, "gain_per_ratio_k": gr}
+
+
+def run_checks(study, *, data: dict[str, StationData] | None = None) -> StationReport:
+    """Every station check in every solved (or infeasible) case, and across cases.
+
+    Cases that did not solve are skipped; their stations get no rows.
+    """
+    model = study.model
+    data = data if data is not None else station_data(model)
+    rows = []
+    per_station: dict[str, list] = {}
+    per_rows: dict[str, list] = {}
+    gains = []
+    for cr in study.cases:
+        for p in station_points(cr):
+            if p.station not in data:
+                continue
+            r = check_point(data[p.station], p)
+            rows.extend(r)
+            per_station.setdefault(p.station, []).append(p)
+            per_rows.setdefault(p.station, []).extend(r)
+            g = _gain_rows(p)
+            if g:
+                gains.append(g)
+    envs = []
+    for name, pts in per_station.items():
+        across, env = check_across_cases(data[name], pts, point_rows=per_rows[name])
+        rows.extend(across)
+        envs.append(_flatten_envelope(env, across))
+    checks = pd.DataFrame([{**{k: getattr(r, k) for k in CHECK_COLUMNS},
+                            "status": Status(r.status).value} for r in rows],
+                          columns=CHECK_COLUMNS)
+    return StationReport(checks=checks, envelopes=pd.DataFrame(envs),
+                         gains=pd.DataFrame(gains, columns=["case", "station", "steam_t_h",
+                                                            "spray_t_h", "ratio",
+                                                            "gain_k_per_t_h",
+                                                            "gain_per_ratio_k"]))
+
+
+def _flatten_envelope(env: dict, across) -> dict:
+    out = {"station": env["station"], "cases_with_flow": len(env.get("cases") or [])}
+    for key in ("steam_min", "steam_max", "spray_min", "spray_max"):
+        v = env.get(key)
+        out[f"{key}_t_h"] = v["value"] * TH if v else None
+        out[f"{key}_case"] = v["case"] if v else None
+    out["turndown_used"] = env.get("turndown_used")
+    out["turndown_rated"] = env.get("turndown_rated")
+    worst = env.get("worst") or {}
+    for r in across:
+        worst[r.check] = max([worst.get(r.check, Status.NOT_APPLICABLE), Status(r.status)],
+                             key=SEVERITY.__getitem__)
+    overall = max(worst.values(), key=SEVERITY.__getitem__, default=Status.NOT_APPLICABLE)
+    out["worst"] = Status(overall).value
+    for k, v in worst.items():
+        out[f"worst_{k}"] = Status(v).value
+    return out
