@@ -29,6 +29,9 @@ class _Group(click.Group):
         except ModelError as exc:
             click.echo(_error_text(exc), err=True)
             ctx.exit(EXIT_INPUT)
+        except BrokenPipeError:          # output piped into `head` and closed
+            sys.stderr.close()
+            ctx.exit(EXIT_OK)
         except KeyboardInterrupt:
             click.echo("interrupted: nothing half-written was kept", err=True)
             ctx.exit(EXIT_INTERRUPT)
