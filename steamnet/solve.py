@@ -23,7 +23,8 @@ from .solver.network import ItemPropertyError, build
 from .solver.results import (TH, equipment_table, header_table, residuals, stream_table,
                              water_balance)
 
-__all__ = ["CaseResult", "StudyResult", "solve_case", "solve_cases", "case_cost"]
+__all__ = ["CaseResult", "StudyResult", "solve_case", "solve_model", "solve_cases",
+           "case_cost", "totals"]
 
 #: Relative closure every solved case must meet (issue 2: 1e-6 relative).
 CLOSURE = 1e-6
@@ -121,7 +122,37 @@ class StudyResult:
         raise KeyError(name)
 
 
-def case_cost(model: Model, equipment: pd.DataFrame, water: dict, sol: Solution) -> dict:
+def totals(sol: Solution) -> dict:
+    """Plant totals straight from the solution [SI]: steam raised, fuel, power by drive,
+    imports and exports (the same numbers the tables sum up)."""
+    net, x, co = sol.net, sol.x, sol.co
+    fuel = sum(_fuel_w(b, sol) for b in net.boilers)
+    gen = mech = 0.0
+    for t, c in zip(net.turbines, co.turb):
+        p = x[t["var"]] * c["dh"] * t["eta_mg"]
+        if t["item"].drive == "generator":
+            gen += p
+        else:
+            mech += p
+    for t, c in zip(net.xturbines, co.xturb):
+        flow = x[t["in_var"]]
+        shaft = flow * c["dh"][0]
+        for e, dh in zip(t["exts"], c["dh"][1:]):
+            flow -= x[e["var"]]
+            shaft += flow * dh
+        if t["item"].drive == "generator":
+            gen += shaft * t["eta_mg"]
+        else:
+            mech += shaft * t["eta_mg"]
+    return {
+        "steam_raised": float(sum(x[b["var"]] for b in net.boilers)),
+        "fuel": fuel, "power_generated": gen, "mechanical_power": mech,
+        "imports": float(sum(x[t["var"]] for t in net.transfers if t["dir"] == "import")),
+        "exports": float(sum(x[t["var"]] for t in net.transfers if t["dir"] == "export")),
+    }
+
+
+def case_cost(model: Model, water: dict, sol: Solution, tot: dict | None = None) -> dict:
     """Operating cost per hour and its parts, in the site currency.
 
     cost = fuel + make-up and external water + imported steam + pump power
@@ -129,15 +160,12 @@ def case_cost(model: Model, equipment: pd.DataFrame, water: dict, sol: Solution)
     """
     pr = model.prices
     net = sol.net
+    tot = tot or totals(sol)
     fuel = sum(_fuel_w(b, sol) * b["fuel_price"] for b in net.boilers)
     water_cost = (water["makeup_kg_s"] + water["external_water_kg_s"]) * pr.makeup_water
     imp = sum(sol.x[t["var"]] * t["price"] for t in net.transfers if t["dir"] == "import")
     exp = sum(sol.x[t["var"]] * t["price"] for t in net.transfers if t["dir"] == "export")
-    gen = 0.0
-    if len(equipment) and {"drive", "power_kw"} <= set(equipment.columns):
-        g = equipment[(equipment["type"].isin(["turbine", "extraction_turbine"]))
-                      & (equipment["drive"] == "generator")]
-        gen = float(g["power_kw"].sum()) * 1e3
+    gen = tot["power_generated"]
     pump = sum(ws["pump_work"] * _supply_flow(sol, name)
                for name, ws in net.supplies.items())
     per_s = fuel + water_cost + imp - exp - gen * pr.electricity + pump * pr.electricity
@@ -172,7 +200,8 @@ def _empty(case: str, status: str, message: str, findings=None, iterations=0,
 
 
 def solve_case(model: Model, case: str | None = None, *, start: dict | None = None,
-               streams: bool = True, max_iter: int = 200) -> CaseResult:
+               tables: bool = True, streams: bool = True, max_iter: int = 200,
+               tol_h: float | None = None) -> CaseResult:
     """Solve one case of ``model`` (the base model when ``case`` is None).
 
     Never raises for a case that cannot balance: the result's status says
@@ -180,14 +209,32 @@ def solve_case(model: Model, case: str | None = None, *, start: dict | None = No
     ``not_converged`` or ``error`` (for example a state outside IAPWS-IF97, naming the
     equipment). Raises :class:`ModelError` only for a case that does not exist or whose
     changes are invalid.
+
+    Parameters
+    ----------
+    tables : bool
+        Build the result DataFrames (headers, equipment, streams). Long sweeps turn it
+        off and keep only the summary, the water balance and the solution [-]
+    tol_h : float, optional
+        Convergence tolerance on header enthalpies [J/kg]; default
+        :data:`steamnet.solver.balance.TOL_H_REL` times the enthalpy.
     """
     name = case or model.case_name or "base"
     m = model.for_case(case) if case is not None else model
     if case is not None:
         validate_model(m)
+    return solve_model(m, name, start=start, tables=tables, streams=streams,
+                       max_iter=max_iter, tol_h=tol_h)
+
+
+def solve_model(m: Model, name: str, *, start: dict | None = None, tables: bool = True,
+                streams: bool = True, max_iter: int = 200,
+                tol_h: float | None = None) -> CaseResult:
+    """Solve an already validated model (one case) under the case name ``name``."""
+    from .errors import PropertyRangeError
     try:
         net = build(m)
-        sol = solve_net(net, start=start, max_iter=max_iter)
+        sol = solve_net(net, start=start, max_iter=max_iter, tol_h=tol_h)
     except ItemPropertyError as exc:
         return _empty(name, "error", f"outside IAPWS-IF97: {exc}")
     if sol.status in ("error", "not_converged"):
@@ -195,16 +242,15 @@ def solve_case(model: Model, case: str | None = None, *, start: dict | None = No
                       solution=sol)
     try:
         res = residuals(sol)
-        eq = equipment_table(sol, name)
-        hd = header_table(sol, name, res)
-        st = stream_table(sol, name) if streams else pd.DataFrame()
-    except ItemPropertyError as exc:
+        tot = totals(sol)
+        if tables:
+            eq = equipment_table(sol, name)
+            hd = header_table(sol, name, res)
+            st = stream_table(sol, name) if streams else pd.DataFrame()
+        else:
+            eq = hd = st = pd.DataFrame()
+    except (ItemPropertyError, PropertyRangeError) as exc:
         return _empty(name, "error", f"outside IAPWS-IF97: {exc}", solution=sol)
-    except Exception as exc:  # a property error raised while tabulating
-        from .errors import PropertyRangeError
-        if isinstance(exc, PropertyRangeError):
-            return _empty(name, "error", f"outside IAPWS-IF97: {exc}", solution=sol)
-        raise
     wb = res["water"]
     status, message, findings = sol.status, sol.message, list(sol.findings)
     if status == "solved":
@@ -214,39 +260,23 @@ def solve_case(model: Model, case: str | None = None, *, start: dict | None = No
             message = (f"balance does not close: mass {res['mass_rel']:.2e}, energy "
                        f"{res['energy_rel']:.2e}, water {res['water_rel']:.2e} relative "
                        f"(limit {CLOSURE:g})")
-    cost = case_cost(m, eq, wb, sol)
-    summary = _summary(name, status, message, sol, eq, wb, res, cost)
-    if status != "solved":
-        # keep the tables of an infeasible case: they show where it stands, marked
-        pass
+    cost = case_cost(m, wb, sol, tot)
+    summary = _summary(name, status, message, sol, tot, wb, res, cost)
+    # an infeasible case keeps its tables: they show where it stands (marked by status)
     return CaseResult(case=name, status=status, message=message, findings=findings,
                       iterations=sol.iterations, summary=summary, headers=hd,
                       equipment=eq, streams=st, water=wb, residuals=res, solution=sol)
 
 
-def _summary(name, status, message, sol, eq, wb, res, cost) -> dict:
-    def total(typ, col, cond=None):
-        if not len(eq) or col not in eq:
-            return 0.0
-        sel = eq[eq["type"].isin(typ)]
-        if cond is not None and "drive" not in sel:
-            return 0.0
-        if cond is not None:
-            sel = sel[cond(sel)]
-        v = sel[col].sum()
-        return float(v) if np.isfinite(v) else 0.0
-    gen = total(["turbine", "extraction_turbine"], "power_kw",
-                lambda s: s["drive"] == "generator") / 1e3
-    mech = total(["turbine", "extraction_turbine"], "power_kw",
-                 lambda s: s["drive"] == "mechanical") / 1e3
+def _summary(name, status, message, sol, tot, wb, res, cost) -> dict:
     return {
         "case": name, "status": status, "message": message,
         "iterations": sol.iterations,
-        "steam_raised_t_h": total(["boiler"], "flow_t_h"),
-        "fuel_mw": total(["boiler"], "fuel_mw"),
-        "power_generated_mw": gen, "mechanical_power_mw": mech,
-        "import_t_h": total(["import"], "flow_t_h"),
-        "export_t_h": total(["export"], "flow_t_h"),
+        "steam_raised_t_h": tot["steam_raised"] * TH,
+        "fuel_mw": tot["fuel"] / 1e6,
+        "power_generated_mw": tot["power_generated"] / 1e6,
+        "mechanical_power_mw": tot["mechanical_power"] / 1e6,
+        "import_t_h": tot["imports"] * TH, "export_t_h": tot["exports"] * TH,
         "spray_t_h": wb["spray_kg_s"] * TH, "da_steam_t_h": wb["da_steam_kg_s"] * TH,
         "makeup_t_h": (wb["makeup_kg_s"] + wb["external_water_kg_s"]) * TH,
         "vented_t_h": wb["vented_kg_s"] * TH,

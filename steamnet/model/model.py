@@ -187,7 +187,9 @@ class Model:
             prices = _validate_one(Prices, prices_raw, file=self.source, item=origin,
                                    context=ctx, prefix="prices")
         items = {t: dict(v) for t, v in self.items.items()}
-        if site_touched:  # gauge pressures depend on the site: validate everything again
+        if site_touched and (site.atmospheric_pressure != self.site.atmospheric_pressure
+                             or site.currency != self.site.currency):
+            # gauge pressures and prices depend on the site: validate everything again
             touched = {(t, n) for t, rows in raw.items() if t in EQUIPMENT_TABLES
                        for n in rows}
         errors: list[ModelError] = []

@@ -35,6 +35,9 @@ from .network import (INF, CaseInfeasible, Coeffs, ItemPropertyError, Net, build
 __all__ = ["solve_net", "Solution", "build"]
 
 _SPARSE_ABOVE = 250
+#: Default convergence tolerance on header enthalpies, relative to the enthalpy [-]:
+#: 1e-10 of about 2.8e6 J/kg is 2.8e-4 J/kg, far inside the 1e-6 closure of a case.
+TOL_H_REL = 1e-10
 
 
 class Solution:
@@ -476,8 +479,8 @@ def _derived_findings(net: Net, co: Coeffs, x: np.ndarray, tol: float) -> list[d
     return out
 
 
-def solve_net(net: Net, *, max_iter: int = 200, tol_h: float = 1e-6,
-              tol_x: float = 1e-10, start: dict | None = None) -> Solution:
+def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
+              tol_x: float = 1e-9, start: dict | None = None) -> Solution:
     """Solve the balance of one case (see the module docstring).
 
     Parameters
@@ -486,8 +489,9 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float = 1e-6,
         Numeric structure from :func:`build`.
     max_iter : int
         Iteration limit; beyond it the case is reported not converged [-]
-    tol_h : float
-        Largest change of any header enthalpy between iterations at convergence [J/kg]
+    tol_h : float, optional
+        Largest change of any header enthalpy between iterations at convergence; default
+        TOL_H_REL x the largest header enthalpy (about 3e-4 J/kg) [J/kg]
     tol_x : float
         Largest change of any flow between iterations at convergence [kg/s]
     start : dict, optional
@@ -495,6 +499,8 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float = 1e-6,
     """
     t0 = time.perf_counter()
     n = len(net.vars)
+    if tol_h is None:
+        tol_h = TOL_H_REL * max(abs(s.hg) for s in net.sat)
     h = list(start["h"]) if start and len(start["h"]) == len(net.headers) else _initial_h(net)
     modes = (list(start["modes"]) if start and len(start["modes"]) == len(net.swing)
              and _modes_valid(net, start["modes"]) else _initial_modes(net))
