@@ -313,10 +313,12 @@ def _refine_t(p: float, t: float, target: float, key: str, region: int) -> dict:
         else:
             err = target - d["s"]
             dt = err * d["T"] / d["cp"]
-        if abs(dt) < 1e-10 * t:
-            break
+        # Apply even the last, small step: stopping before it left h (or s) off the
+        # input by up to 1e-9 relative. After it the error is of order dt**2.
         t = t + dt
         d = f(t, pm)
+        if abs(dt) < 1e-10 * t:
+            break
     return d
 
 
