@@ -334,6 +334,9 @@ def _ph(p: float, h: float) -> State:
                          v=sat.vf + x * (sat.vg - sat.vf), cp=math.nan, cv=math.nan,
                          x=x, phase="wet", region=4)
         if h <= sat.hf:
+            if hk < _if97._Region1(T_MIN, pm)["h"]:
+                raise PropertyRangeError(f"{_fmt(p, h=h)} is below the enthalpy of water "
+                                         "at 273.15 K: outside IAPWS-IF97")
             t0 = _if97._Backward1_T_Ph(pm, hk)
             t0 = min(t0, sat.t)
             d = _refine_t(p, t0, hk, "h", 1)

@@ -360,3 +360,15 @@ def test_cache_returns_identical_object_and_stats_count_uncached():
     assert prop.stats()["evaluations"] == n + 1
     prop.reset_stats()
     assert prop.stats() == {"evaluations": 0, "seconds": 0.0}
+
+
+# ------------------------------------------------------- bugs found by these tests
+def test_ph_below_273K_raises():
+    """A (P,h) below the enthalpy of water at 273.15 K is outside IF97 (it used to come
+    back as liquid at 261 K)."""
+    h_min = prop.state_pt(1e5, 273.15).h
+    with pytest.raises(PropertyRangeError, match="273.15 K"):
+        prop.state_ph(1e5, -50e3)
+    with pytest.raises(PropertyRangeError):
+        prop.state_ph(1e5, h_min - 1.0)
+    assert abs(prop.state_ph(1e5, h_min + 1.0).t - 273.15) < 1e-3
