@@ -199,7 +199,8 @@ def _single_phase(t: float, p: float) -> State:
     """State from (T, P) off the saturation line, by the region of IF97 it falls in."""
     region = _if97._Bound_TP(t, p * _MPA)
     if region == 1:
-        return _from_region(_if97._Region1(t, p * _MPA), 1, "liquid")
+        phase = "liquid" if p < P_CRIT else "supercritical"   # as state_ph and state_ps
+        return _from_region(_if97._Region1(t, p * _MPA), 1, phase)
     if region == 2:
         phase = "vapour" if p < P_CRIT else "supercritical"
         return _from_region(_if97._Region2(t, p * _MPA), 2, phase)

@@ -372,3 +372,14 @@ def test_ph_below_273K_raises():
     with pytest.raises(PropertyRangeError):
         prop.state_ph(1e5, h_min - 1.0)
     assert abs(prop.state_ph(1e5, h_min + 1.0).t - 273.15) < 1e-3
+
+
+def test_phase_label_does_not_depend_on_the_inputs():
+    """The same region-1 state above the critical pressure had phase 'liquid' from (P,T)
+    and 'supercritical' from (P,h) and (P,s)."""
+    a = prop.state_pt(30e6, 300.0)
+    b = prop.state_ph(30e6, a.h)
+    c = prop.state_ps(30e6, a.s)
+    assert a.region == b.region == c.region == 1
+    assert a.phase == b.phase == c.phase == "supercritical"
+    assert prop.state_pt(20e6, 300.0).phase == "liquid"
