@@ -138,6 +138,7 @@ class Saturation:
 
 # --------------------------------------------------------------------------- counters
 _STATS = {"evaluations": 0, "seconds": 0.0}
+_DEPTH = [0]      # nesting of timed evaluations: only the outermost one adds its time
 
 
 def stats() -> dict:
@@ -160,11 +161,14 @@ def clear_cache() -> None:
 def _timed(func):
     def wrapper(*args):
         t0 = time.perf_counter()
+        _DEPTH[0] += 1
         try:
             return func(*args)
         finally:
+            _DEPTH[0] -= 1
             _STATS["evaluations"] += 1
-            _STATS["seconds"] += time.perf_counter() - t0
+            if not _DEPTH[0]:
+                _STATS["seconds"] += time.perf_counter() - t0
     wrapper.__name__ = func.__name__
     wrapper.__doc__ = func.__doc__
     return wrapper

@@ -383,3 +383,18 @@ def test_phase_label_does_not_depend_on_the_inputs():
     assert a.region == b.region == c.region == 1
     assert a.phase == b.phase == c.phase == "supercritical"
     assert prop.state_pt(20e6, 300.0).phase == "liquid"
+
+
+def test_stats_time_is_not_counted_twice():
+    """A (P,h) state evaluates its saturation inside its own timed call; the nested time
+    used to be added again, so stats() reported more time than had passed."""
+    import time
+
+    for _ in range(3):
+        prop.clear_cache()
+        prop.reset_stats()
+        t0 = time.perf_counter()
+        prop.state_ph(3 * BAR, 2.0e6)
+        wall = time.perf_counter() - t0
+        assert prop.stats()["evaluations"] == 2       # the saturation and the state
+        assert prop.stats()["seconds"] <= wall
