@@ -372,6 +372,11 @@ def test_ph_below_273K_raises():
     with pytest.raises(PropertyRangeError):
         prop.state_ph(1e5, h_min - 1.0)
     assert abs(prop.state_ph(1e5, h_min + 1.0).t - 273.15) < 1e-3
+    # the same bound above 16.5 MPa, and for entropy
+    with pytest.raises(PropertyRangeError, match="enthalpy of water at 273.15 K"):
+        prop.state_ph(30e6, prop.state_pt(30e6, 273.15).h - 1.0)
+    with pytest.raises(PropertyRangeError, match="entropy of water at 273.15 K"):
+        prop.state_ps(1e5, prop.state_pt(1e5, 273.15).s - 0.01)
 
 
 def test_phase_label_does_not_depend_on_the_inputs():
