@@ -1,16 +1,19 @@
 """Water and steam properties: the one door to IAPWS-IF97.
 
-Every property call of steamnet goes through this module. It wraps the region and
-backward functions of the ``iapws`` package (IAPWS R7-97(2012), the revised release on
-the industrial formulation IF97) and
+Every property call of steamnet goes through this module. It evaluates the basic
+equations of regions 1 and 2 with :mod:`steamnet._if97fast` and takes the backward,
+saturation and region 3 and 5 functions of the ``iapws`` package (IAPWS R7-97(2012), the
+revised release on the industrial formulation IF97), and
 
 * takes and returns SI units (Pa, K, J/kg, J/(kg K), m3/kg), converting to the MPa and
   kJ/kg of ``iapws`` here and nowhere else;
-* calls the region functions rather than building full ``IAPWS97`` objects, which also
-  compute transport properties the balance does not need;
+* forms only h, s, v, cp and cv in regions 1, 2 and 4 (up to 16.5 MPa for region 4),
+  in plain floats: no full ``IAPWS97`` object, which also computes transport properties
+  the balance does not need, and no numpy call per term;
 * makes (P, h) and (P, s) states consistent with the forward equations: the backward
-  equations of IF97 are accurate to about 10 mK, so the temperature they give is refined
-  by Newton steps on the forward equation until h (or s) matches the input;
+  equations of IF97 are consistent with them only to 10-25 mK, so the temperature they
+  give is refined by Newton steps on the forward equation until h (or s) matches the
+  input;
 * caches every state by its exact inputs, so a solve asks for each distinct state once;
 * reports wet states with their quality ``x`` and raises :class:`PropertyRangeError`
   for states outside IF97's range (the caller adds the equipment name).
@@ -32,6 +35,7 @@ from functools import lru_cache
 
 from iapws import iapws97 as _if97
 
+from . import _if97fast as _fast
 from .errors import PropertyRangeError
 
 __all__ = [
@@ -41,7 +45,7 @@ __all__ = [
 ]
 
 #: Range of IAPWS-IF97 regions 1-4 used here [Pa], [K] (IAPWS R7-97(2012), section 4).
-P_MIN = 611.212677            # triple-point pressure rounded as in iapws, Pa
+P_MIN = 611.212677            # Psat(273.15 K), the lowest pressure of IF97, Pa
 P_MAX = 100e6                 # Pa
 T_MIN = 273.15                # K
 T_MAX = 1073.15               # K, upper limit of region 2
@@ -53,6 +57,11 @@ _P_623 = _if97._PSat_T(623.15) * 1e6
 
 _MPA = 1e-6
 _KJ = 1e3
+
+#: Basic equations of regions 1 and 2: (T [K], p [Pa], full) -> (h, s, v, cp, cv), or
+#: (h, s, cp) when not full. Module attributes so that a test can put iapws's in place.
+_R1 = _fast.region1
+_R2 = _fast.region2
 
 
 @dataclass(frozen=True, slots=True)
@@ -138,6 +147,7 @@ class Saturation:
 
 # --------------------------------------------------------------------------- counters
 _STATS = {"evaluations": 0, "seconds": 0.0}
+_DEPTH = [0]      # nesting of timed evaluations: only the outermost one adds its time
 
 
 def stats() -> dict:
@@ -160,11 +170,14 @@ def clear_cache() -> None:
 def _timed(func):
     def wrapper(*args):
         t0 = time.perf_counter()
+        _DEPTH[0] += 1
         try:
             return func(*args)
         finally:
+            _DEPTH[0] -= 1
             _STATS["evaluations"] += 1
-            _STATS["seconds"] += time.perf_counter() - t0
+            if not _DEPTH[0]:
+                _STATS["seconds"] += time.perf_counter() - t0
     wrapper.__name__ = func.__name__
     wrapper.__doc__ = func.__doc__
     return wrapper
@@ -189,26 +202,37 @@ def _check_p(p: float, **kw) -> None:
             f"to {P_MAX * _MPA:g} MPa)")
 
 
-def _from_region(d: dict, region: int, phase: str) -> State:
-    return State(p=float(d["P"]) / _MPA, t=float(d["T"]), h=float(d["h"]) * _KJ,
-                 s=float(d["s"]) * _KJ, v=float(d["v"]), cp=float(d["cp"]) * _KJ,
-                 cv=float(d["cv"]) * _KJ, x=math.nan, phase=phase, region=region)
+def _phase12(p: float, region: int) -> str:
+    """Phase label of a region 1 or 2 state: no liquid or vapour above the critical
+    pressure."""
+    if p >= P_CRIT:
+        return "supercritical"
+    return "liquid" if region == 1 else "vapour"
+
+
+def _state12(p: float, t: float, region: int) -> State:
+    """Single-phase state of region 1 or 2 from the fast basic equations."""
+    h, s, v, cp, cv = (_R1 if region == 1 else _R2)(t, p)
+    return State(p=p, t=t, h=h, s=s, v=v, cp=cp, cv=cv, x=math.nan,
+                 phase=_phase12(p, region), region=region)
+
+
+def _from_object(st, p: float, region: int) -> State:
+    """Single-phase state from a full ``IAPWS97`` object (regions 3 and 5)."""
+    phase = "supercritical" if p >= P_CRIT else ("vapour" if st.x == 1 else "liquid")
+    return State(p=p, t=float(st.T), h=float(st.h) * _KJ, s=float(st.s) * _KJ,
+                 v=float(st.v), cp=float(st.cp) * _KJ, cv=float(st.cv) * _KJ, x=math.nan,
+                 phase=phase, region=int(region))
 
 
 def _single_phase(t: float, p: float) -> State:
     """State from (T, P) off the saturation line, by the region of IF97 it falls in."""
     region = _if97._Bound_TP(t, p * _MPA)
-    if region == 1:
-        return _from_region(_if97._Region1(t, p * _MPA), 1, "liquid")
-    if region == 2:
-        phase = "vapour" if p < P_CRIT else "supercritical"
-        return _from_region(_if97._Region2(t, p * _MPA), 2, phase)
+    if region in (1, 2):
+        return _state12(p, t, region)
     if region in (3, 5):
         # Rare in plant steam systems: use the full object of iapws for these regions.
-        st = _if97.IAPWS97(T=t, P=p * _MPA)
-        phase = "supercritical" if p >= P_CRIT else ("liquid" if st.x == 0 else "vapour")
-        return State(p=p, t=t, h=st.h * _KJ, s=st.s * _KJ, v=st.v, cp=st.cp * _KJ,
-                     cv=st.cv * _KJ, x=math.nan, phase=phase, region=int(region))
+        return _from_object(_if97.IAPWS97(T=t, P=p * _MPA), p, region)
     raise PropertyRangeError(f"{_fmt(p, t=t)} is outside IAPWS-IF97 regions 1-5")
 
 
@@ -230,12 +254,9 @@ def _psat(t: float) -> float:
 def _sat(p: float) -> Saturation:
     t = _if97._TSat_P(p * _MPA)
     if p <= _P_623:
-        liq = _if97._Region1(t, p * _MPA)
-        vap = _if97._Region2(t, p * _MPA)
-        return Saturation(p=p, t=float(t), hf=float(liq["h"]) * _KJ,
-                          hg=float(vap["h"]) * _KJ, sf=float(liq["s"]) * _KJ,
-                          sg=float(vap["s"]) * _KJ, vf=float(liq["v"]),
-                          vg=float(vap["v"]))
+        hf, sf, vf, _, _ = _R1(t, p)
+        hg, sg, vg, _, _ = _R2(t, p)
+        return Saturation(p=p, t=float(t), hf=hf, hg=hg, sf=sf, sg=sg, vf=vf, vg=vg)
     liq = _if97.IAPWS97(P=p * _MPA, x=0.0)
     vap = _if97.IAPWS97(P=p * _MPA, x=1.0)
     return Saturation(p=p, t=t, hf=liq.h * _KJ, hg=vap.h * _KJ, sf=liq.s * _KJ,
@@ -300,63 +321,106 @@ def h_pt(p: float, t: float) -> float:
     return state_pt(p, t).h
 
 
-# ---------------------------------------------------------------------------- (P, h)
-def _refine_t(p: float, t: float, target: float, key: str, region: int) -> dict:
+# ------------------------------------------------------------------- (P, h) and (P, s)
+_BACKWARD = {("h", 1): _if97._Backward1_T_Ph, ("h", 2): _if97._Backward2_T_Ph,
+             ("s", 1): _if97._Backward1_T_Ps, ("s", 2): _if97._Backward2_T_Ps}
+_NAME = {"h": "enthalpy", "s": "entropy"}
+_KEY = {"h": 0, "s": 1}       # index in the light result (h, s, cp) of _R1 and _R2
+
+# Bounds of regions 1 and 2 below 16.5 MPa that hold at every such pressure, so that
+# most states need not evaluate the bound at their own pressure: at 273.15 K, h and s of
+# region 1 rise with pressure (water expands on cooling there, so (dh/dp)_T =
+# v (1 - T alpha) > 0 and (ds/dp)_T = -v alpha > 0); at 1073.15 K, h and s of region 2
+# fall with pressure. tests/test_if97fast.py checks both on a fine pressure grid.
+_CEIL_1 = dict(zip("hs", _fast.region1(T_MIN, _P_623, False)))
+_FLOOR_2 = dict(zip("hs", _fast.region2(T_MAX, _P_623, False)))
+
+
+def _below_273(p: float, y: float, key: str) -> PropertyRangeError:
+    return PropertyRangeError(f"{_fmt(p, **{key: y})} is below the {_NAME[key]} of water "
+                              "at 273.15 K: outside IAPWS-IF97")
+
+
+def _region12(p: float, y: float, key: str, sat: Saturation | None) -> int | None:
+    """Region 1 or 2 of a single-phase (P, h) or (P, s) state, or None where iapws's
+    region functions must decide (regions 3 to 5 or outside IF97). The bounds are those
+    of iapws's ``_Bound_Ph`` and ``_Bound_Ps``, evaluated with the fast equations."""
+    k = _KEY[key]
+    if sat is not None:                       # below 16.5 MPa, off the wet region
+        if y <= (sat.hf if key == "h" else sat.sf):
+            if y >= _CEIL_1[key] or y >= _R1(T_MIN, p, False)[k]:
+                return 1
+            raise _below_273(p, y, key)
+        if y <= _FLOOR_2[key] or y <= _R2(T_MAX, p, False)[k]:
+            return 2
+        return None
+    if y < _R1(T_MIN, p, False)[k]:
+        raise _below_273(p, y, key)
+    if y <= _R1(623.15, p, False)[k]:
+        return 1
+    t23 = _if97._t_P(p * _MPA)                # boundary of regions 2 and 3, Eq. (6)
+    if _R2(t23, p, False)[k] <= y <= _R2(T_MAX, p, False)[k]:
+        return 2
+    return None
+
+
+def _refine_t(p: float, t: float, target: float, key: str, region: int) -> float:
     """Newton steps on the forward equation so that h(T, p) or s(T, p) hits ``target``."""
-    f = _if97._Region1 if region == 1 else _if97._Region2
-    pm = p * _MPA
-    d = f(t, pm)
+    f = _R1 if region == 1 else _R2
     for _ in range(8):
-        if key == "h":
-            err = target - d["h"]
-            dt = err / d["cp"]
-        else:
-            err = target - d["s"]
-            dt = err * d["T"] / d["cp"]
+        h, s, cp = f(t, p, False)
+        dt = (target - h) / cp if key == "h" else (target - s) * t / cp
+        # Apply even the last, small step: stopping before it left h (or s) off the
+        # input by up to 1e-9 relative. After it the error is of order dt**2.
+        t = t + dt
         if abs(dt) < 1e-10 * t:
             break
-        t = t + dt
-        d = f(t, pm)
-    return d
+    return t
+
+
+def _solve12(p: float, y: float, key: str, region: int, sat: Saturation | None) -> State:
+    """Region 1 or 2 state from (P, h) or (P, s): the backward equation of IF97 as the
+    start, on the right side of the saturation line, then Newton steps."""
+    t0 = float(_BACKWARD[key, region](p * _MPA, y / _KJ))   # numpy scalar -> float
+    if sat is not None:
+        t0 = min(t0, sat.t) if region == 1 else max(t0, sat.t)
+    return _state12(p, _refine_t(p, t0, y, key, region), region)
+
+
+def _state_p_and(p: float, y: float, key: str) -> State:
+    """State from pressure and enthalpy (``key="h"``) or entropy (``key="s"``)."""
+    sat = None
+    if p < _P_623:
+        sat = _sat(p)
+        lo, hi = (sat.hf, sat.hg) if key == "h" else (sat.sf, sat.sg)
+        if lo < y < hi:
+            x = (y - lo) / (hi - lo)
+            h = y if key == "h" else sat.hf + x * sat.hfg
+            s = y if key == "s" else sat.sf + x * (sat.sg - sat.sf)
+            return State(p=p, t=sat.t, h=h, s=s, v=sat.vf + x * (sat.vg - sat.vf),
+                         cp=math.nan, cv=math.nan, x=x, phase="wet", region=4)
+    region = _region12(p, y, key, sat)
+    if region:
+        return _solve12(p, y, key, region, sat)
+    pm, yk = p * _MPA, y / _KJ
+    region = (_if97._Bound_Ph if key == "h" else _if97._Bound_Ps)(pm, yk)
+    if region is None:
+        raise PropertyRangeError(f"{_fmt(p, **{key: y})} is outside IAPWS-IF97 "
+                                 "regions 1-5")
+    if region in (1, 2):
+        return _solve12(p, y, key, region, sat)
+    st = _if97.IAPWS97(P=pm, **{key: yk})
+    if region == 4:
+        return State(p=p, t=float(st.T), h=y if key == "h" else float(st.h) * _KJ,
+                     s=y if key == "s" else float(st.s) * _KJ, v=float(st.v),
+                     cp=math.nan, cv=math.nan, x=float(st.x), phase="wet", region=4)
+    return _from_object(st, p, region)
 
 
 @lru_cache(maxsize=65536)
 @_timed
 def _ph(p: float, h: float) -> State:
-    pm, hk = p * _MPA, h / _KJ
-    if p < _P_623:
-        sat = _sat(p)
-        if sat.hf < h < sat.hg:
-            x = (h - sat.hf) / sat.hfg
-            return State(p=p, t=sat.t, h=h, s=sat.sf + x * (sat.sg - sat.sf),
-                         v=sat.vf + x * (sat.vg - sat.vf), cp=math.nan, cv=math.nan,
-                         x=x, phase="wet", region=4)
-        if h <= sat.hf:
-            t0 = _if97._Backward1_T_Ph(pm, hk)
-            t0 = min(t0, sat.t)
-            d = _refine_t(p, t0, hk, "h", 1)
-            return _from_region(d, 1, "liquid")
-        h25 = _if97._Region2(1073.15, pm)["h"]
-        if hk <= h25:
-            t0 = max(_if97._Backward2_T_Ph(pm, hk), sat.t)
-            d = _refine_t(p, t0, hk, "h", 2)
-            return _from_region(d, 2, "vapour")
-    region = _if97._Bound_Ph(pm, hk)
-    if region is None:
-        raise PropertyRangeError(f"{_fmt(p, h=h)} is outside IAPWS-IF97 regions 1-5")
-    if region == 1:
-        d = _refine_t(p, _if97._Backward1_T_Ph(pm, hk), hk, "h", 1)
-        return _from_region(d, 1, "liquid" if p < P_CRIT else "supercritical")
-    if region == 2:
-        d = _refine_t(p, _if97._Backward2_T_Ph(pm, hk), hk, "h", 2)
-        return _from_region(d, 2, "vapour" if p < P_CRIT else "supercritical")
-    st = _if97.IAPWS97(P=pm, h=hk)
-    if region == 4:
-        return State(p=p, t=st.T, h=h, s=st.s * _KJ, v=st.v, cp=math.nan, cv=math.nan,
-                     x=st.x, phase="wet", region=4)
-    phase = "supercritical" if p >= P_CRIT else ("vapour" if st.x == 1 else "liquid")
-    return State(p=p, t=st.T, h=st.h * _KJ, s=st.s * _KJ, v=st.v, cp=st.cp * _KJ,
-                 cv=st.cv * _KJ, x=math.nan, phase=phase, region=int(region))
+    return _state_p_and(p, h, "h")
 
 
 def state_ph(p: float, h: float) -> State:
@@ -376,30 +440,7 @@ def state_ph(p: float, h: float) -> State:
 @lru_cache(maxsize=65536)
 @_timed
 def _ps(p: float, s: float) -> State:
-    pm, sk = p * _MPA, s / _KJ
-    if p < _P_623:
-        sat = _sat(p)
-        if sat.sf < s < sat.sg:
-            x = (s - sat.sf) / (sat.sg - sat.sf)
-            return State(p=p, t=sat.t, h=sat.hf + x * sat.hfg, s=s,
-                         v=sat.vf + x * (sat.vg - sat.vf), cp=math.nan, cv=math.nan,
-                         x=x, phase="wet", region=4)
-    region = _if97._Bound_Ps(pm, sk)
-    if region is None:
-        raise PropertyRangeError(f"{_fmt(p, s=s)} is outside IAPWS-IF97 regions 1-5")
-    if region == 1:
-        d = _refine_t(p, _if97._Backward1_T_Ps(pm, sk), sk, "s", 1)
-        return _from_region(d, 1, "liquid" if p < P_CRIT else "supercritical")
-    if region == 2:
-        d = _refine_t(p, _if97._Backward2_T_Ps(pm, sk), sk, "s", 2)
-        return _from_region(d, 2, "vapour" if p < P_CRIT else "supercritical")
-    st = _if97.IAPWS97(P=pm, s=sk)
-    if region == 4:
-        return State(p=p, t=st.T, h=st.h * _KJ, s=s, v=st.v, cp=math.nan, cv=math.nan,
-                     x=st.x, phase="wet", region=4)
-    phase = "supercritical" if p >= P_CRIT else ("vapour" if st.x == 1 else "liquid")
-    return State(p=p, t=st.T, h=st.h * _KJ, s=st.s * _KJ, v=st.v, cp=st.cp * _KJ,
-                 cv=st.cv * _KJ, x=math.nan, phase=phase, region=int(region))
+    return _state_p_and(p, s, "s")
 
 
 def state_ps(p: float, s: float) -> State:
