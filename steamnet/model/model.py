@@ -12,6 +12,7 @@ import copy
 import hashlib
 import tomllib
 from dataclasses import dataclass, field, replace
+from functools import cached_property
 from pathlib import Path
 from typing import Any, Iterable
 
@@ -99,6 +100,14 @@ class Model:
     source: str = "<model>"
     sha256: str = ""
     case_name: str | None = None
+
+    # ------------------------------------------------------------------ graph
+    @cached_property
+    def graph(self):
+        """The network as a networkx graph of headers and in-service equipment
+        (:func:`steamnet.graph.build_graph`), built once per model on first use."""
+        from ..graph import build_graph
+        return build_graph(self)
 
     # --------------------------------------------------------------- item access
     def table(self, name: str) -> dict[str, Any]:

@@ -12,7 +12,7 @@ import networkx as nx
 
 from .. import properties as props
 from ..errors import ModelError, ModelErrors, PropertyRangeError
-from ..graph import build_graph, steam_sources
+from ..graph import steam_sources
 from .model import ITEM_LABELS, Model
 
 __all__ = ["validate_model", "swing_elements"]
@@ -269,7 +269,7 @@ def _check_degrees_of_freedom(model: Model, errs: list, case: str) -> None:
 
 
 def _check_reachability(model: Model, errs: list, case: str) -> None:
-    g = build_graph(model)
+    g = model.graph
     sources = steam_sources(g)
     reach: set = set()
     for s in sources:

@@ -288,10 +288,27 @@ def _mix(net: Net, co: Coeffs, x: np.ndarray, h_old: list[float]) -> list[float]
 
 
 def _initial_h(net: Net) -> list[float]:
-    """Start from saturated vapour plus the superheat of the boilers feeding the plant."""
-    h = [s.hg + 100e3 for s in net.sat]
-    for b in net.boilers:
-        h[b["header"]] = max(b["h"], net.sat[b["header"]].hg)
+    """First estimate of the header enthalpies, walking the network graph downhill:
+    a header fed by boilers or imports starts at their steam; a header fed from others
+    starts at the highest enthalpy throttled down from them (never below saturated
+    vapour)."""
+    g = net.model.graph
+    h = [s.hg for s in net.sat]
+    src = {("boiler", b["name"]): b["h"] for b in net.boilers}
+    src.update({("steam_transfer", t["name"]): t["h"] for t in net.transfers
+                if t["dir"] == "import"})
+    for i in range(len(net.headers)):          # net.headers: highest pressure first
+        node = ("header", net.headers[i])
+        best = None
+        for eq in g.predecessors(node) if node in g else ():
+            if eq in src:
+                best = max(best or 0.0, src[eq])
+                continue
+            for up in g.predecessors(eq):
+                if up[0] == "header" and up[1] in net.hidx:
+                    best = max(best or 0.0, h[net.hidx[up[1]]])
+        if best is not None:
+            h[i] = max(best, net.sat[i].hg)
     return h
 
 
