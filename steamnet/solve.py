@@ -9,7 +9,7 @@
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Callable, Iterable
 
 import numpy as np
@@ -71,6 +71,11 @@ class CaseResult:
     water: dict
     residuals: dict
     solution: Solution | None = field(default=None, repr=False, compare=False)
+    points: tuple = field(default=(), repr=False, compare=False)
+
+    def without_solution(self) -> "CaseResult":
+        """A copy without the raw solution (small to pickle; station points kept)."""
+        return replace(self, solution=None)
 
     @property
     def ok(self) -> bool:
@@ -263,9 +268,11 @@ def solve_model(m: Model, name: str, *, start: dict | None = None, tables: bool 
     cost = case_cost(m, wb, sol, tot)
     summary = _summary(name, status, message, sol, tot, wb, res, cost)
     # an infeasible case keeps its tables: they show where it stands (marked by status)
+    from .stations.run import points_from_solution
     return CaseResult(case=name, status=status, message=message, findings=findings,
                       iterations=sol.iterations, summary=summary, headers=hd,
-                      equipment=eq, streams=st, water=wb, residuals=res, solution=sol)
+                      equipment=eq, streams=st, water=wb, residuals=res, solution=sol,
+                      points=tuple(points_from_solution(name, status, sol)))
 
 
 def _summary(name, status, message, sol, tot, wb, res, cost) -> dict:
@@ -287,27 +294,29 @@ def _summary(name, status, message, sol, tot, wb, res, cost) -> dict:
     }
 
 
-def solve_cases(model: Model, cases: Iterable[str] | None = None, *,
+def solve_cases(model: Model, cases: Iterable | None = None, *,
                 progress: Callable[[int, int, str], None] | None = None,
-                warm_start: bool = True) -> StudyResult:
-    """Solve every case of ``model`` (or the named ones; the base model when it has no
-    cases). A case that cannot balance is reported and the others still run."""
-    names = list(cases) if cases is not None else [c.name for c in model.cases]
-    out: list[CaseResult] = []
-    if not names:
-        out.append(solve_case(model))
-        return StudyResult(model, out)
-    start = None
-    for i, n in enumerate(names):
-        try:
-            r = solve_case(model, n, start=start if warm_start else None)
-        except ModelErrors as exc:
-            r = _empty(n, "error", str(exc))
-        except ModelError as exc:
-            r = _empty(n, "error", str(exc))
-        if r.solution is not None and r.ok and warm_start:
-            start = {"h": r.solution.h, "modes": r.solution.modes}
-        out.append(r)
-        if progress:
-            progress(i + 1, len(names), n)
+                warm_start: bool = True, workers: int = 1, scheduler: str | None = None,
+                tables: bool = True) -> StudyResult:
+    """Solve every case of ``model`` (or the given ones; the base model when it has no
+    cases). A case that cannot balance is reported and the others still run.
+
+    Parameters
+    ----------
+    cases : iterable, optional
+        Case names of the model, or ``(name, changes)`` pairs (changes to the base
+        model, as in :meth:`Model.with_changes`), or ``(name, changes, based_on)``.
+    workers : int
+        Processes to solve in; results are identical for any number [-]
+    scheduler : str, optional
+        Address of a dask.distributed scheduler to run the sweep on (extra ``dask``).
+    tables : bool
+        Build the result tables of each case (off for long sweeps) [-]
+    """
+    from .sweep import run_sweep
+    specs = list(cases) if cases is not None else [c.name for c in model.cases]
+    if not specs:
+        return StudyResult(model, [solve_case(model)])
+    out = run_sweep(model, specs, workers=workers, scheduler=scheduler, tables=tables,
+                    progress=progress, warm_start=warm_start)
     return StudyResult(model, out)

@@ -63,9 +63,13 @@ def check(model: str) -> None:
 @click.option("--json", "json_path", type=click.Path(dir_okay=False),
               help="Write every result to this JSON file (layout: docs/results.md).")
 @click.option("--quiet", is_flag=True, help="Print only problems.")
+@click.option("--workers", type=click.IntRange(1, 256), default=1, show_default=True,
+              help="Solve in this many processes (identical results).")
+@click.option("--scheduler", metavar="ADDRESS", help="Run on a dask.distributed "
+              "scheduler at ADDRESS (extra 'dask').")
 @click.pass_context
 def solve(ctx, model: str, cases: tuple[str, ...], json_path: str | None,
-          quiet: bool) -> None:
+          quiet: bool, workers: int, scheduler: str | None) -> None:
     """Solve every case of MODEL and print a summary per case.
 
     Exit 0 when every case solved, 1 when any case is infeasible or did not converge.
@@ -73,7 +77,8 @@ def solve(ctx, model: str, cases: tuple[str, ...], json_path: str | None,
     m = load_model(model)
     for name in cases:
         m.case(name)
-    study = solve_cases(m, list(cases) if cases else None)
+    study = solve_cases(m, list(cases) if cases else None, workers=workers,
+                        scheduler=scheduler)
     if not quiet:
         print_summary(study)
     else:

@@ -21,8 +21,8 @@ from .checks import check_across_cases, check_point
 from .data import DesuperheaterData, StationData, StationLimits, StationPoint, ValveData
 from .rows import SEVERITY, Status
 
-__all__ = ["StationReport", "station_data", "station_points", "run_checks",
-           "parse_limits"]
+__all__ = ["StationReport", "station_data", "station_points", "points_from_solution",
+           "run_checks", "parse_limits"]
 
 TH = 3.6
 CHECK_COLUMNS = ["case", "station", "check", "value", "limit", "unit", "status", "basis",
@@ -138,9 +138,19 @@ def station_data(model) -> dict[str, StationData]:
 
 
 def station_points(case_result) -> list[StationPoint]:
-    """The operating point of every running let-down in one solved case."""
-    sol = case_result.solution
-    if sol is None or case_result.status not in ("solved", "infeasible"):
+    """The operating point of every running let-down in one solved case (taken from the
+    result's ``points`` when the solution itself was not kept, as in parallel sweeps)."""
+    pts = getattr(case_result, "points", None)
+    if pts:
+        return list(pts)
+    return points_from_solution(case_result.case, case_result.status,
+                                case_result.solution)
+
+
+def points_from_solution(case: str, status: str, sol) -> list[StationPoint]:
+    """Station operating points from a raw solution (empty unless solved or
+    infeasible)."""
+    if sol is None or status not in ("solved", "infeasible"):
         return []
     net, x, co = sol.net, sol.x, sol.co
     pts = []
@@ -148,7 +158,7 @@ def station_points(case_result) -> list[StationPoint]:
         ds = s["ds"]
         m = float(x[s["var"]])
         pts.append(StationPoint(
-            case=case_result.case, station=s["name"], p_in=net.p[s["inlet"]],
+            case=case, station=s["name"], p_in=net.p[s["inlet"]],
             h_in=sol.h[s["inlet"]], p_out=net.p[s["outlet"]], m_steam=max(m, 0.0),
             m_spray=max(m * c["r"], 0.0), h_out=c["h_out"],
             h_water=ds["supply"]["h"] if ds else None,

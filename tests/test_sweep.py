@@ -1,0 +1,57 @@
+"""Parallel sweeps give the same answers as serial ones (issue 7, point 3)."""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+import pytest
+
+import steamnet
+from steamnet.model.schema import SI
+from conftest import DEMO
+
+
+def _specs(n):
+    # 50 synthetic hours: demand and make-up temperature vary (invented test inputs)
+    return [(f"h{i:03d}", {"user.PM1 dryer section.demand": SI((30 + 4 * np.sin(i / 5)) / 3.6),
+                           "site.makeup_temperature": SI(278.15 + i * 0.1)},
+             "winter")
+            for i in range(n)]
+
+
+@pytest.fixture(scope="module")
+def model():
+    return steamnet.load_model(DEMO)
+
+
+def _frame(study):
+    return study.summary.drop(columns=["solve_ms"])
+
+
+def test_workers_identical_to_serial(model):
+    specs = _specs(50)
+    serial = steamnet.solve_cases(model, specs, tables=False)
+    par = steamnet.solve_cases(model, specs, tables=False, workers=2)
+    assert serial.all_solved
+    pd.testing.assert_frame_equal(_frame(serial), _frame(par), check_exact=True)
+    assert [len(c.points) for c in par.cases] == [len(c.points) for c in serial.cases]
+    assert par.cases[7].points == serial.cases[7].points
+
+
+def test_bad_case_does_not_stop_the_sweep(model):
+    specs = _specs(3)
+    specs.insert(1, ("bad", {"user.No such user.demand": "1 t/h"}))
+    st = steamnet.solve_cases(model, specs, tables=False)
+    assert [c.status for c in st.cases] == ["solved", "error", "solved", "solved"]
+    assert "No such user" in st.cases[1].message
+
+
+def test_dask_local_cluster_on_loopback(model):
+    distributed = pytest.importorskip("distributed")
+    specs = _specs(30)
+    with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
+                                  host="127.0.0.1", dashboard_address=None) as cluster:
+        on_dask = steamnet.solve_cases(model, specs, tables=False,
+                                       scheduler=cluster.scheduler_address)
+    serial = steamnet.solve_cases(model, specs, tables=False)
+    pd.testing.assert_frame_equal(_frame(serial), _frame(on_dask), check_exact=True)
