@@ -72,3 +72,99 @@ def kg_s(value_t_h: float) -> float:
 
 def j_kg(value_kj_kg: float) -> float:
     return value_kj_kg * 1e3
+
+
+# ------------------------------------------------ model-file fragments (TOML text)
+SITE_TEMPLATE = """
+format_version = 1
+[site]
+name = "{name}"
+makeup_temperature = "10 degC"
+"""
+
+
+def headers(hp="40 bar(g)", lp="4 bar(g)", hp_loss="0 kW", lp_loss="0 kW",
+            hp_name="HP", lp_name="LP", site="Test bench") -> str:
+    """A site with a high and a low header (the shape of the small test networks)."""
+    return SITE_TEMPLATE.format(name=site) + f"""
+[[header]]
+name = "{hp_name}"
+pressure = "{hp}"
+heat_loss = "{hp_loss}"
+[[header]]
+name = "{lp_name}"
+pressure = "{lp}"
+heat_loss = "{lp_loss}"
+"""
+
+
+def external_water(name="FW", p="50 bar(g)", t="105 degC") -> str:
+    return f"""
+[[water_supply]]
+name = "{name}"
+source = "external"
+pressure = "{p}"
+temperature = "{t}"
+"""
+
+
+def boiler(t="400 degC", extra="", feedwater="FW", header="HP", eff="90 %") -> str:
+    """Swing boiler B1 holding the high header."""
+    return f"""
+[[boiler]]
+name = "B1"
+header = "{header}"
+steam_temperature = "{t}"
+feedwater = "{feedwater}"
+efficiency = "{eff}"
+{extra}
+"""
+
+
+def user(name, hdr, what) -> str:
+    return f"""
+[[user]]
+name = "{name}"
+header = "{hdr}"
+{what}
+"""
+
+
+LETDOWN_L1 = """
+[[letdown]]
+name = "L1"
+inlet = "HP"
+outlet = "LP"
+"""
+
+
+def turbine(what: str, name: str = "T1", eta: str = "70 %") -> str:
+    """Backpressure turbine from HP to LP; ``what`` gives its mode and the rest."""
+    return f"""
+[[turbine]]
+name = "{name}"
+inlet = "HP"
+outlet = "LP"
+isentropic_efficiency = "{eta}"
+{what}
+"""
+
+
+#: Boiler feedwater pumped from the deaerator.
+DA_WATER = """
+[[water_supply]]
+name = "BFW"
+source = "deaerator"
+pressure = "50 bar(g)"
+pump_efficiency = "70 %"
+"""
+
+
+def deaerator(header: str = "LP", p: str = "0.3 bar(g)", vent: str = "0.5 %") -> str:
+    return f"""
+[[deaerator]]
+name = "DA"
+header = "{header}"
+pressure = "{p}"
+vent_fraction = "{vent}"
+"""

@@ -24,7 +24,9 @@ import numpy as np
 import pytest
 
 import if97_ref as ref
-from helpers import (C0, barg, degc, equip, header, j_kg, kg_s, solve, stream, t_h)
+from helpers import (C0, DA_WATER, LETDOWN_L1, barg, boiler, deaerator, degc, equip,
+                     external_water, header, headers, j_kg, kg_s, solve, stream, t_h,
+                     turbine, user)
 from steamnet import properties as props
 
 REL = 1e-9
@@ -32,69 +34,6 @@ REL = 1e-9
 
 def close(a: float, b: float, rel: float = REL, abs_: float = 0.0) -> bool:
     return math.isclose(a, b, rel_tol=rel, abs_tol=abs_)
-
-
-SITE = """
-format_version = 1
-[site]
-name = "Test bench"
-makeup_temperature = "10 degC"
-"""
-
-
-def headers(hp="40 bar(g)", lp="4 bar(g)", hp_loss="0 kW", lp_loss="0 kW",
-            hp_name="HP", lp_name="LP") -> str:
-    """A site with a high and a low header (the shape of every network here)."""
-    return SITE + f"""
-[[header]]
-name = "{hp_name}"
-pressure = "{hp}"
-heat_loss = "{hp_loss}"
-[[header]]
-name = "{lp_name}"
-pressure = "{lp}"
-heat_loss = "{lp_loss}"
-"""
-
-
-def external_water(name="FW", p="50 bar(g)", t="105 degC") -> str:
-    return f"""
-[[water_supply]]
-name = "{name}"
-source = "external"
-pressure = "{p}"
-temperature = "{t}"
-"""
-
-
-def boiler(t="400 degC", extra="", feedwater="FW", header="HP", eff="90 %") -> str:
-    """Swing boiler B1 holding the high header."""
-    return f"""
-[[boiler]]
-name = "B1"
-header = "{header}"
-steam_temperature = "{t}"
-feedwater = "{feedwater}"
-efficiency = "{eff}"
-{extra}
-"""
-
-
-def user(name, hdr, what) -> str:
-    return f"""
-[[user]]
-name = "{name}"
-header = "{hdr}"
-{what}
-"""
-
-
-LETDOWN_L1 = """
-[[letdown]]
-name = "L1"
-inlet = "HP"
-outlet = "LP"
-"""
 
 
 # --------------------------------------------------------------------------- boiler
@@ -383,15 +322,8 @@ def test_user_by_duty():
 # ---------------------------------------------------------------- header mixing
 MIXING = (headers(lp_loss="150 kW") + external_water()
           + boiler(extra='blowdown = "4 %"\nblowdown_flash_header = "LP"')
-          + user("U-HP", "HP", 'demand = "6 t/h"') + """
-[[turbine]]
-name = "T1"
-inlet = "HP"
-outlet = "LP"
-isentropic_efficiency = "70 %"
-mode = "fixed_flow"
-flow = "12 t/h"
-""" + LETDOWN_L1 + """
+          + user("U-HP", "HP", 'demand = "6 t/h"')
+          + turbine('mode = "fixed_flow"\nflow = "12 t/h"') + LETDOWN_L1 + """
 [letdown.desuperheater]
 spray_supply = "FW"
 approach = "20 K"
@@ -420,23 +352,12 @@ def test_header_mixing_of_three_inflows_with_heat_loss():
 
 
 # ------------------------------------------------------------------------ deaerator
-DEAERATOR = (headers(lp="3 bar(g)") + """
-[[water_supply]]
-name = "BFW"
-source = "deaerator"
-pressure = "50 bar(g)"
-pump_efficiency = "70 %"
-""" + boiler(feedwater="BFW", extra='blowdown = "2 %"', eff="88 %")
-    + user("U-HP", "HP", 'demand = "3 t/h"') + LETDOWN_L1
-    + user("U1", "LP", 'demand = "20 t/h"\ncondensate_return = "70 %"\n'
-           'condensate_temperature = "85 degC"')
-    + user("U2", "LP", 'demand = "5 t/h"') + """
-[[deaerator]]
-name = "DA"
-header = "LP"
-pressure = "0.3 bar(g)"
-vent_fraction = "0.5 %"
-""")
+DEAERATOR = (headers(lp="3 bar(g)") + DA_WATER
+             + boiler(feedwater="BFW", extra='blowdown = "2 %"', eff="88 %")
+             + user("U-HP", "HP", 'demand = "3 t/h"') + LETDOWN_L1
+             + user("U1", "LP", 'demand = "20 t/h"\ncondensate_return = "70 %"\n'
+                    'condensate_temperature = "85 degC"')
+             + user("U2", "LP", 'demand = "5 t/h"') + deaerator())
 
 
 def test_pumped_feedwater_enthalpy():

@@ -21,7 +21,8 @@ import pytest
 
 import if97_ref as ref
 from conftest import DEMO
-from helpers import equip, header, j_kg, kg_s, model as model_from_text
+from helpers import (DA_WATER, boiler, deaerator, equip, header, headers, j_kg, kg_s,
+                     model as model_from_text, turbine, user)
 from steamnet.model.model import load_model
 from steamnet.solve import solve_case, solve_cases
 
@@ -227,39 +228,11 @@ def test_trip_steam_arrives_through_the_letdowns(demo):
 
 
 # ----------------------------------------------------- a small exact network
-TWO = """
-format_version = 1
-[site]
-name = "Trip bench"
-makeup_temperature = "10 degC"
-[[header]]
-name = "HP"
-pressure = "40 bar(g)"
-[[header]]
-name = "LP"
-pressure = "4 bar(g)"
-[[water_supply]]
-name = "BFW"
-source = "deaerator"
-pressure = "50 bar(g)"
-pump_efficiency = "70 %"
-[[boiler]]
-name = "B1"
-header = "HP"
-steam_temperature = "400 degC"
-feedwater = "BFW"
-efficiency = "88 %"
-blowdown = "2 %"
-[[turbine]]
-name = "TG"
-inlet = "HP"
-outlet = "LP"
-isentropic_efficiency = "72 %"
-mechanical_efficiency = "98 %"
-generator_efficiency = "97 %"
-mode = "swing"
-priority = 1
-max_flow = "60 t/h"
+TWO = (headers(site="Trip bench") + DA_WATER
+       + boiler(feedwater="BFW", eff="88 %", extra='blowdown = "2 %"')
+       + turbine('mechanical_efficiency = "98 %"\ngenerator_efficiency = "97 %"\n'
+                 'mode = "swing"\npriority = 1\nmax_flow = "60 t/h"', name="TG", eta="72 %")
+       + """
 [[letdown]]
 name = "PRV"
 inlet = "HP"
@@ -268,27 +241,15 @@ priority = 2
 [letdown.desuperheater]
 spray_supply = "BFW"
 approach = "15 K"
-[[user]]
-name = "U-HP"
-header = "HP"
-demand = "2 t/h"
-[[user]]
-name = "U-LP"
-header = "LP"
-demand = "30 t/h"
-condensate_return = "60 %"
-condensate_temperature = "90 degC"
-[[deaerator]]
-name = "DA"
-header = "LP"
-pressure = "0.3 bar(g)"
-vent_fraction = "0.5 %"
+""" + user("U-HP", "HP", 'demand = "2 t/h"')
+       + user("U-LP", "LP", 'demand = "30 t/h"\ncondensate_return = "60 %"\n'
+              'condensate_temperature = "90 degC"') + deaerator() + """
 [[case]]
 name = "running"
 [[case]]
 name = "trip"
 changes = { "turbine.TG.mode" = "tripped" }
-"""
+""")
 
 
 def _two_header_exact():
