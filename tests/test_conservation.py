@@ -18,7 +18,8 @@ import pytest
 
 import if97_ref as ref
 from conftest import DATA, DEMO
-from helpers import equip, j_kg, kg_s, model as model_from_text, solve
+from helpers import (boiler, equip, external_water, headers, j_kg, kg_s,
+                     model as model_from_text, solve, user)
 from steamnet import properties as props
 from steamnet.model.model import load_model
 from steamnet.solve import solve_case, solve_cases
@@ -322,49 +323,25 @@ def test_warm_start_from_a_different_case_converges_to_the_same_answer():
 
 
 # ------------------------------------------------------------- the unique split
-PARALLEL = """
-format_version = 1
-[site]
-name = "Parallel stations"
-makeup_temperature = "10 degC"
-[[header]]
-name = "HP"
-pressure = "30 bar(g)"
-[[header]]
-name = "LP"
-pressure = "5 bar(g)"
-heat_loss = "50 kW"
-[[water_supply]]
-name = "FW"
-source = "external"
-pressure = "40 bar(g)"
-temperature = "105 degC"
-[[boiler]]
-name = "B1"
-header = "HP"
-steam_temperature = "380 degC"
-feedwater = "FW"
-efficiency = "90 %"
+def _station(name: str, placing: str, approach: str) -> str:
+    return f"""
 [[letdown]]
-name = "A"
+name = "{name}"
 inlet = "HP"
 outlet = "LP"
-{a}
+{placing}
 [letdown.desuperheater]
 spray_supply = "FW"
-approach = "15 K"
-[[letdown]]
-name = "B"
-inlet = "HP"
-outlet = "LP"
-{b}
-[letdown.desuperheater]
-spray_supply = "FW"
-approach = "25 K"
-[[user]]
-name = "U"
-header = "LP"
-demand = "25 t/h"
+approach = "{approach}"
+"""
+
+
+def parallel(a: str, b: str, limit: str) -> str:
+    """Two let-down stations A and B in parallel from HP to LP."""
+    return (headers(hp="30 bar(g)", lp="5 bar(g)", lp_loss="50 kW", site="Parallel")
+            + external_water(p="40 bar(g)") + boiler(t="380 degC")
+            + _station("A", a, "15 K") + _station("B", b, "25 K")
+            + user("U", "LP", 'demand = "25 t/h"') + f"""
 [[case]]
 name = "low"
 changes = {{ "user.U.demand" = "8 t/h" }}
@@ -374,11 +351,11 @@ changes = {{ "user.U.demand" = "{limit}" }}
 [[case]]
 name = "high"
 changes = {{ "user.U.demand" = "40 t/h" }}
-"""
+""")
 
 
 def test_parallel_stations_split_by_shares():
-    text = PARALLEL.format(a='priority = 1\nshare = "60 %"',
+    text = parallel(a='priority = 1\nshare = "60 %"',
                            b='priority = 1\nshare = "40 %"', limit="20 t/h")
     for case in ("low", "high"):
         r = solve(text, case)
@@ -401,7 +378,7 @@ def test_parallel_stations_in_sequence():
     r_a = (h_hp - h_set) / (h_set - h_w)
     limit = a_max * (1 + r_a)
     below, above = 0.999 * limit, 1.001 * limit
-    text = PARALLEL.format(a=f'priority = 1\nmax_flow = "{a_max} t/h"', b="priority = 2",
+    text = parallel(a=f'priority = 1\nmax_flow = "{a_max} t/h"', b="priority = 2",
                            limit=f"{above!r} t/h")
     m = model_from_text(text)
     study = solve_cases(m)
