@@ -18,7 +18,7 @@ import pytest
 
 import if97_ref as ref
 from conftest import DATA, DEMO
-from helpers import (boiler, equip, external_water, headers, kg_s,
+from helpers import (LETDOWN_L1, boiler, equip, external_water, headers, kg_s,
                      model as model_from_text, solve, user)
 from steamnet import properties as props
 from steamnet.model.model import load_model
@@ -285,3 +285,23 @@ def test_parallel_stations_in_sequence():
     for r in (low, just_below, mid, high):
         total_out = equip(r, "A").steam_out_t_h + equip(r, "B").steam_out_t_h
         assert math.isclose(total_out, equip(r, "U").flow_t_h, rel_tol=1e-12)
+
+
+def test_swing_boilers_share_load_by_set_fractions():
+    text = (headers(site="Two boilers") + external_water()
+            + boiler(extra='share = "70 %"') + """
+[[boiler]]
+name = "B2"
+header = "HP"
+steam_temperature = "390 degC"
+feedwater = "FW"
+efficiency = "86 %"
+share = "30 %"
+""" + user("U", "HP", 'demand = "30 t/h"') + LETDOWN_L1
+            + user("U-LP", "LP", 'demand = "7 t/h"'))
+    r = solve(text)
+    b1, b2 = equip(r, "B1").flow_t_h, equip(r, "B2").flow_t_h
+    assert math.isclose(b1 + b2, 37.0, rel_tol=1e-12)
+    assert math.isclose(b1, 0.7 * 37.0, rel_tol=1e-12)
+    assert math.isclose(b2, 0.3 * 37.0, rel_tol=1e-12)
+

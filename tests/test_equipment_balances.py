@@ -143,6 +143,27 @@ flow = "15 t/h"
     assert close(j_kg(header(r, "LP").h_kj_kg), h_lp)
 
 
+def test_backpressure_turbine_wet_exhaust_flags_the_header():
+    """Steam with little superheat expanded to a low header arrives wet: the exhaust
+    quality and the header's wetness are reported (engineering.md section 5)."""
+    text = (headers(hp="10 bar(g)", lp="0.5 bar(g)") + external_water(p="15 bar(g)")
+            + boiler(t="200 degC")
+            + turbine('mode = "swing"\nmechanical_efficiency = "98 %"', eta="70 %")
+            + user("U-LP", "LP", 'demand = "10 t/h"'))
+    r = solve(text)
+    p_hp, p_lp = barg(10), barg(0.5)
+    h_in = ref.h_pt(p_hp, degc(200))
+    _, h_out = _expansion(p_hp, h_in, p_lp, 0.70)
+    assert ref.is_wet_h(p_lp, h_out)                   # precondition: a wet exhaust
+    row, lp = equip(r, "T1"), header(r, "LP")
+    assert close(kg_s(row.flow_t_h), t_h(10))
+    assert close(row.exhaust_quality, ref.quality_ph(p_lp, h_out))
+    assert close(row.t_out_degc + C0, ref.sat(p_lp).t)
+    assert bool(lp.wet)
+    assert close(lp.quality, ref.quality_ph(p_lp, h_out))
+    assert lp.superheat_k == 0.0
+
+
 @pytest.mark.parametrize("drive,eta_mg", [("generator", 0.98 * 0.97),
                                            ("mechanical", 0.98)])
 def test_fixed_power_turbine_flow(drive, eta_mg):
