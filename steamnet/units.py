@@ -30,6 +30,14 @@ STANDARD_ATMOSPHERE = 101325.0
 
 UREG = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
 UREG.define("tph = tonne / hour")
+# The Btu of steam tables and of the trade is the International Table Btu,
+# 1055.05585262 J (so 1 Btu/lb = 2.326 kJ/kg exactly; NIST SP 811 (2008), B.8); pint's
+# plain 'Btu' is the ISO 31-4 rounding 1055.056 J.
+UREG.define("Btu = Btu_it")
+UREG.define("BTU = Btu_it")
+UREG.define("MMBtu = 1e6 * Btu_it")
+# 'MBtu' is a thousand Btu in US practice but a mega-Btu to an SI prefix: refused.
+_AMBIGUOUS = re.compile(r"(?<![A-Za-z])MBtu", re.IGNORECASE)
 
 
 class Kind(str, Enum):
@@ -96,6 +104,12 @@ def _err(msg: str) -> ModelError:
     return ModelError(msg)
 
 
+def _refuse_ambiguous(unit: str) -> None:
+    if _AMBIGUOUS.search(unit):
+        raise _err(f"'{unit.strip()}' is ambiguous (MBtu is a thousand Btu in US practice, "
+                   "a million to SI prefixes): write 'kBtu' or 'MMBtu'")
+
+
 def _split_pressure_unit(unit: str) -> tuple[str, bool]:
     """Pint unit and gauge flag of a pressure unit such as 'bar(g)', 'psia', 'kPa(a)'."""
     u = unit.strip()
@@ -145,6 +159,7 @@ def unit_factor(unit: str, kind: Kind) -> tuple[float, float, bool]:
         raise _err(f"'{unit}' is not a flow-coefficient unit; write {_EXAMPLES[kind]}")
     if not u:
         raise _err(f"a {kind.value.replace('_', ' ')} needs a unit, e.g. {_EXAMPLES[kind]}")
+    _refuse_ambiguous(u)
     if kind is Kind.PRESSURE:
         u, gauge = _split_pressure_unit(u)
     if kind is Kind.TEMPERATURE_DIFFERENCE:
@@ -187,6 +202,7 @@ def _price_factor(unit: str, kind: Kind, currency: str) -> float:
     if "/" not in u:
         raise _err(f"a price is written as currency per unit, e.g. {_EXAMPLES[kind]}")
     cur, per = u.split("/", 1)
+    _refuse_ambiguous(per)
     if cur.strip() != currency:
         raise _err(f"price in '{cur.strip()}' but the site currency is '{currency}'")
     target = "1/J" if kind is Kind.PRICE_ENERGY else "1/kg"

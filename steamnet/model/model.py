@@ -59,6 +59,10 @@ def _pydantic_errors(exc: ValidationError, *, file: str | None, item: str,
             fld = ".".join([*loc, cause.field]) if loc else cause.field
             if prefix:
                 fld = f"{prefix}.{fld}"
+            written = (err.get("input") or {}).get(cause.field) \
+                if isinstance(err.get("input"), dict) else None
+            if isinstance(written, (str, int, float)) and not isinstance(written, bool):
+                msg = f"{msg} (written {written!r})"     # as the user wrote it, not SI
         if typ == "extra_forbidden":
             msg = "unknown key (check the spelling; see docs/model-file.md)"
         elif typ == "missing":

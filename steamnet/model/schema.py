@@ -118,7 +118,7 @@ def _check_nonneg(item: BaseModel, *fields: str) -> None:
     for f in fields:
         v = getattr(item, f)
         if v is not None and v < 0:
-            raise FieldError(f, f"{f} must not be negative, got {v:g} (SI)")
+            raise FieldError(f, f"{f} must not be negative")
 
 
 def _check_min_max(item: BaseModel, lo: str, hi: str) -> None:

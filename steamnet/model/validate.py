@@ -13,6 +13,7 @@ import networkx as nx
 from .. import properties as props
 from ..errors import ModelError, ModelErrors, PropertyRangeError
 from ..graph import steam_sources
+from ..solver.network import VENT_RANK
 from .model import ITEM_LABELS, Model
 
 __all__ = ["validate_model", "swing_elements"]
@@ -48,14 +49,18 @@ def swing_elements(model: Model) -> dict[str, list[tuple[str, str, int, float | 
 
 
 def absorbers(model: Model) -> dict[str, list[tuple[str, str, int]]]:
-    """Per header, the elements that take excess steam: swing exports, then vents."""
+    """Per header, the elements that take excess steam: swing exports, then vents.
+
+    Vents always come after every export (the solver ranks them so, see
+    ``network.VENT_RANK``); priorities order exports among exports and vents among vents.
+    """
     out: dict[str, list] = defaultdict(list)
     for n, t in model.table("steam_transfer").items():
         if _on(t) and t.mode == "swing" and t.direction == "export":
             out[t.header].append(("steam_transfer", n, t.priority))
     for n, v in model.table("vent").items():
         if _on(v):
-            out[v.header].append(("vent", n, v.priority))
+            out[v.header].append(("vent", n, v.priority + VENT_RANK))
     return out
 
 
@@ -263,7 +268,8 @@ def _check_degrees_of_freedom(model: Model, errs: list, case: str) -> None:
             if len(group) > 1:
                 names = ", ".join(f"{ITEM_LABELS[t]} '{n}'" for t, n in group)
                 errs.append(ModelError(
-                    f"{names} take excess steam at the same priority {prio}: give them "
+                    f"{names} take excess steam at the same priority {prio % VENT_RANK}: "
+                    "give them "
                     "different priorities", file=model.source, item=item,
                     field="priority"))
 

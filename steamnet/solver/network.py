@@ -18,6 +18,8 @@ from .. import properties as props
 from ..errors import PropertyRangeError
 
 INF = math.inf
+#: Added to a vent's priority so that every vent ranks after every swing export.
+VENT_RANK = 1000
 
 
 class CaseInfeasible(Exception):
@@ -276,7 +278,7 @@ def build(model) -> Net:
         hi = hidx[v.header]
         vi = new_var("vent", n, "vent", 0.0, v.max_flow)
         vents.append({"name": n, "var": vi, "header": hi})
-        absorb_entries[hi].append((v.priority + 1000, vi))   # exports before vents
+        absorb_entries[hi].append((v.priority + VENT_RANK, vi))   # exports first
 
     users = []
     for n, u in model.table("user").items():
