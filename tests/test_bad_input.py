@@ -264,3 +264,18 @@ def test_solve_exits_1_on_infeasible_and_prints_every_case(tmp_path):
         assert f"case '{c}': {mark}" in out
     assert "short of steam by 10.00 t/h" in out
     assert "15.00 t/h of steam in excess" in out
+
+
+def test_header_with_nothing_connected_says_so(tmp_path):
+    """An orphan header gets its own message, not the degrees-of-freedom one."""
+    from conftest import DEMO
+    text = DEMO.read_text().replace("# ------------------------------------------------------------------- water supplies",
+                                    '[[header]]\nname = "Spare"\npressure = "8 bar(g)"\n\n# ---', 1)
+    p = tmp_path / "orphan.toml"
+    p.write_text(text)
+    import steamnet
+    from steamnet.errors import ModelErrors
+    import pytest as _pytest
+    with _pytest.raises(ModelErrors) as ei:
+        steamnet.load_model(p)
+    assert "header 'Spare'" in str(ei.value) and "nothing is connected" in str(ei.value)

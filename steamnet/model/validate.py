@@ -244,6 +244,13 @@ def _check_degrees_of_freedom(model: Model, errs: list, case: str) -> None:
     ab = absorbers(model)
     for h in model.headers:
         item = f"{case}header '{h}'"
+        node = ("header", h)
+        if not sw.get(h) and not ab.get(h) and model.graph.degree(node) == 0:
+            errs.append(ModelError(
+                "nothing is connected to this header (no boiler, turbine, let-down, user, "
+                "vent or deaerator names it, or all of them are out of service); remove "
+                "it or connect it", file=model.source, item=item))
+            continue
         if not sw.get(h) and not ab.get(h):
             errs.append(ModelError(
                 "no element can close this header's balance: it needs a swing boiler, a "
