@@ -134,9 +134,10 @@ def case_cost(model: Model, equipment: pd.DataFrame, water: dict, sol: Solution)
     imp = sum(sol.x[t["var"]] * t["price"] for t in net.transfers if t["dir"] == "import")
     exp = sum(sol.x[t["var"]] * t["price"] for t in net.transfers if t["dir"] == "export")
     gen = 0.0
-    if len(equipment):
+    if len(equipment) and "drive" in equipment and "power_kw" in equipment:
+        # (a plant without turbines has neither column)
         g = equipment[(equipment["type"].isin(["turbine", "extraction_turbine"]))
-                      & (equipment.get("drive") == "generator")]
+                      & (equipment["drive"] == "generator")]
         gen = float(g["power_kw"].sum()) * 1e3
     pump = sum(ws["pump_work"] * _supply_flow(sol, name)
                for name, ws in net.supplies.items())
