@@ -183,7 +183,9 @@ def validate_model(model: Model) -> None:
                     "is not below the last extraction")
             if not props.P_MIN < t.condenser_pressure < props.P_CRIT:
                 err("extraction_turbine", n, "condenser_pressure", "outside IAPWS-IF97")
-        if t.condensate_return > 0 and not deaerators:
+        if t.exhaust is None and t.condensate_return > 0 and not deaerators:
+            # only a condensing exhaust returns condensate (a backpressure exhaust
+            # goes to its header as steam)
             err("extraction_turbine", n, "condensate_return", "condensate is returned "
                 "but the model has no deaerator")
     # ------------------------------------------------------------------- let-downs

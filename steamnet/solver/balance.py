@@ -242,6 +242,8 @@ def _linear_solve(n: int, triplets, b: np.ndarray) -> np.ndarray | None:
         x = np.linalg.solve(a, b)
     except np.linalg.LinAlgError:
         return None
+    if not np.all(np.isfinite(x)):   # nearly singular: as the sparse branch
+        return None
     return x
 
 
@@ -275,15 +277,46 @@ def header_inflows(net: Net, co: Coeffs, x: np.ndarray):
     return ins
 
 
-def _mix(net: Net, co: Coeffs, x: np.ndarray, h_old: list[float]) -> list[float]:
+#: A header whose steam inflow is at most this is idle: no steam, so no heat loss to make
+#: up, and its enthalpy stays as it was [kg/s].
+IDLE_FLOW = 1e-9
+
+
+def _mix(net: Net, co: Coeffs, x: np.ndarray,
+         h_old: list[float]) -> tuple[list[float], list[int]]:
+    """Header enthalpies by mixing, and the headers whose heat loss is more than their
+    steam brings above saturated liquid (held at saturated liquid; reported).
+
+    Negative inflows, which only intermediate iterates have (before the modes settle),
+    are left out: they would give enthalpies no state of water has.
+    """
     ins = header_inflows(net, co, x)
-    out = []
+    out, cold = [], []
     for i, lst in enumerate(ins):
-        m = sum(f for _, f, _ in lst)
-        if m > 1e-12:
-            out.append((sum(f * hh for _, f, hh in lst) - net.q_loss[i]) / m)
+        m = sum(max(f, 0.0) for _, f, _ in lst)
+        if m > IDLE_FLOW:
+            hm = (sum(max(f, 0.0) * hh for _, f, hh in lst) - net.q_loss[i]) / m
+            if hm < net.sat[i].hf:
+                cold.append(i)
+                hm = net.sat[i].hf
+            out.append(hm)
         else:
             out.append(h_old[i])
+    return out, cold
+
+
+def _cold_findings(net: Net, co: Coeffs, x: np.ndarray, cold: list[int]) -> list[dict]:
+    out = []
+    ins = header_inflows(net, co, x)
+    for i in cold:
+        name = net.headers[i]
+        m = sum(max(f, 0.0) for _, f, _ in ins[i])
+        lim = f"heat loss {net.q_loss[i] / 1e3:.4g} kW"
+        out.append({"kind": "infeasible", "header": name, "side": "heat_loss",
+                    "amount_kg_s": 0.0, "limits": [lim],
+                    "message": f"header '{name}': its {lim} is more than its steam "
+                    f"inflow of {_fmt_th(m)} brings above saturated liquid; the steam "
+                    "would condense in the header"})
     return out
 
 
@@ -528,6 +561,7 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
     tol_mode = 1e-9 * scale
     co = coefficients(net, h, None)
     it = 0
+    relax, r_prev = 1.0, None
     for it in range(1, max_iter + 1):
         eff = _extraction_bounds(net, co, x)
         trip, b = _assemble(net, co, h, modes, eff)
@@ -538,11 +572,26 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
                             "mode (a header may have no way to close its balance)",
                             time.perf_counter() - t0)
         new_modes, exhausted = _update_modes(net, x_new, modes, eff, tol_mode)
-        h_new = _mix(net, co, x_new, h)
+        h_new, cold = _mix(net, co, x_new, h)
         dh = max((abs(a - bb) for a, bb in zip(h_new, h)), default=0.0)
         dx = float(np.max(np.abs(x_new - x))) if x is not None else INF
-        x, h = x_new, h_new
         mode_changed = new_modes != modes
+        # Where the plain fixed point overshoots (small flows carrying large heat losses,
+        # deaerator steam strongly coupled to a wet header), relax the enthalpy update
+        # by Aitken's dynamic factor (Irons and Tuck): it estimates the slope of the
+        # fixed-point map from the last two updates. The fixed point, and so the
+        # answer, is the same; on well-behaved networks the factor stays 1.
+        r = [a - bb for a, bb in zip(h_new, h)]
+        if r_prev is not None and not mode_changed:
+            dr = [a - bb for a, bb in zip(r, r_prev)]
+            den = sum(d * d for d in dr)
+            if den > 0:
+                relax = -relax * sum(a * d for a, d in zip(r_prev, dr)) / den
+                relax = min(1.0, max(1 / 64, relax))
+        r_prev = None if mode_changed else r
+        if relax < 1:
+            h_new = [a + relax * d for a, d in zip(h, r)]
+        x, h = x_new, h_new
         if mode_changed:
             key = tuple(new_modes)
             history[key] = history.get(key, 0) + 1
@@ -563,6 +612,7 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
     eff = _extraction_bounds(net, co, x)
     findings = _exhausted_findings(net, exhausted, modes, eff)
     findings += _derived_findings(net, co, x, tol_mode)
+    findings += _cold_findings(net, co, x, cold)
     status = "infeasible" if findings else "solved"
     msg = "; ".join(f["message"] for f in findings) if findings else "solved"
     return Solution(net, x, h, co, modes, it, status, findings, msg,
@@ -574,12 +624,21 @@ def _step(old, new):
 
 
 def _modes_valid(net: Net, modes) -> bool:
+    """Whether warm-start ``modes`` fit ``net``: every header's moving group or absorber
+    exists, and every one before it, held at its maximum, has a finite maximum (a case
+    with other equipment in service may not)."""
     for hs, (kind, k) in zip(net.swing, modes):
         if kind == "supply" and not (0 <= k < len(hs.groups)):
             return False
         if kind == "absorb" and not (0 <= k < len(hs.absorbers)):
             return False
+        if kind == "supply" and any(not math.isfinite(_group_bounds(net, g, {})[1])
+                                    for g in hs.groups[:k]):
+            return False
+        if kind == "absorb" and any(not math.isfinite(net.vars[vi].hi)
+                                    for vi in hs.absorbers[:k]):
+            return False
     return True
 
 
-__all__ += ["CaseInfeasible", "ItemPropertyError", "header_inflows"]
+__all__ += ["CaseInfeasible", "ItemPropertyError", "header_inflows", "IDLE_FLOW"]

@@ -13,7 +13,7 @@ import numpy as np
 import pandas as pd
 
 from .. import properties as props
-from .balance import Solution, header_inflows
+from .balance import IDLE_FLOW, Solution, header_inflows
 from .network import coefficients
 
 TH = 3.6          # kg/s -> t/h
@@ -61,7 +61,8 @@ def residuals(sol: Solution) -> dict:
         e_in = sum(f * hh for _, f, hh in ins[i])
         m_out = sum(f for _, f in outs[i])
         mass.append(m_in - m_out)
-        energy.append(e_in - net.q_loss[i] - m_out * sol.h[i])
+        q_loss = net.q_loss[i] if m_in > IDLE_FLOW else 0.0   # an idle header loses none
+        energy.append(e_in - q_loss - m_out * sol.h[i])
         through.append(max(m_in, m_out))
     total = max(1e-9, sum(through))
     e_scale = max(1e-9, sum(t * abs(h) for t, h in zip(through, sol.h)))
