@@ -152,17 +152,15 @@ def test_backpressure_extraction_turbine_without_deaerator_is_valid():
     assert vent == pytest.approx(30 - 8 - 15, rel=1e-9)   # throttle - users
 
 
-@pytest.mark.xfail(strict=True, reason="open: the first operating mode's equations are "
-                   "singular (extraction and let-down both move steam between MP and "
-                   "LP) and the solver stops instead of trying the vent; reported to "
-                   "the lead")
 def test_singular_first_mode_tries_the_absorber():
-    # Found, not fixed: the same plant with the let-down fed from MP. The answer is
-    # unique (30 t/h in, 23 t/h used: the vent takes 7 t/h), but the case is reported
-    # 'error: the balance equations are singular in this operating mode'.
+    # Was: 'error: the balance equations are singular in this operating mode' for the
+    # same plant with the let-down fed from MP. The answer is unique (30 t/h in, 23 t/h
+    # used: the vent takes 7 t/h); the solver now tries the neighbouring modes.
     r = solve_case(loads_model(NO_DEAERATOR.format(letdown_inlet="MP"),
                                source="nodeaerator.toml"))
     assert_closes(r)
+    vent = r.equipment.set_index("item").loc["V1", "flow_t_h"]
+    assert vent == pytest.approx(30 - 8 - 15, rel=1e-9)   # throttle - users
 
 
 def test_idle_header_with_heat_loss_is_not_a_failed_balance():

@@ -567,10 +567,11 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
         trip, b = _assemble(net, co, h, modes, eff)
         x_new = _linear_solve(n, trip, b)
         if x_new is None:
-            return Solution(net, np.full(n, np.nan), h, co, modes, it, "error",
-                            [], "the balance equations are singular in this operating "
-                            "mode (a header may have no way to close its balance)",
-                            time.perf_counter() - t0)
+            rescued = _rescue_modes(net, co, h, modes, eff)
+            if rescued is None:
+                return Solution(net, np.full(n, np.nan), h, co, modes, it, "error",
+                                [], _singular_message(net, trip), time.perf_counter() - t0)
+            modes, x_new = rescued
         new_modes, exhausted = _update_modes(net, x_new, modes, eff, tol_mode)
         h_new, cold = _mix(net, co, x_new, h)
         dh = max((abs(a - bb) for a, bb in zip(h_new, h)), default=0.0)
@@ -617,6 +618,67 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
     msg = "; ".join(f["message"] for f in findings) if findings else "solved"
     return Solution(net, x, h, co, modes, it, status, findings, msg,
                     time.perf_counter() - t0)
+
+
+def _neighbours(net: Net, hi: int, mode) -> list:
+    """Modes next to ``mode`` in header ``hi``'s sequence (down first, then up)."""
+    hs = net.swing[hi]
+    kind, k = mode
+    out = []
+    if kind == "supply":
+        if k > 0:
+            out.append(("supply", k - 1))
+        elif hs.absorbers:
+            out.append(("absorb", 0))
+        if k + 1 < len(hs.groups):
+            out.append(("supply", k + 1))
+    else:
+        if k + 1 < len(hs.absorbers):
+            out.append(("absorb", k + 1))
+        if k > 0:
+            out.append(("absorb", k - 1))
+        elif hs.groups:
+            out.append(("supply", 0))
+    return out
+
+
+def _rescue_modes(net: Net, co: Coeffs, h, modes, eff):
+    """When the system of the current modes is singular (two headers whose moving
+    elements only shift steam between them, so their joint balance is closed by
+    neither), try the neighbouring mode of one header at a time, lowest pressure first.
+    Returns (modes, x) of the first regular system, or None."""
+    n = len(net.vars)
+    for hi in reversed(range(len(net.headers))):
+        for alt in _neighbours(net, hi, modes[hi]):
+            trial = list(modes)
+            trial[hi] = alt
+            trip, b = _assemble(net, co, h, trial, eff)
+            x = _linear_solve(n, trip, b)
+            if x is not None:
+                return trial, x
+    return None
+
+
+def _singular_message(net: Net, trip) -> str:
+    """Name the headers whose balances depend on each other (left null space)."""
+    r, c, v = trip
+    n = len(net.vars)
+    names = []
+    if n <= 2000:
+        a = np.zeros((n, n))
+        np.add.at(a, (r, c), v)
+        try:
+            u, sv, _ = np.linalg.svd(a)
+            null = u[:, -1]
+            names = [net.headers[i] for i in range(len(net.headers))
+                     if abs(null[i]) > 1e-6]
+        except np.linalg.LinAlgError:
+            names = []
+    which = (" of headers " + ", ".join(f"'{x}'" for x in names)) if names else ""
+    return ("the balance equations are singular: the balances" + which + " depend on "
+            "each other, and no element closes them jointly (their moving elements "
+            "only shift steam between them); give one of them a vent, a swing supplier "
+            "from outside the group, or fix one of the flows")
 
 
 def _step(old, new):
