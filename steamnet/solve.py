@@ -134,7 +134,7 @@ def case_cost(model: Model, equipment: pd.DataFrame, water: dict, sol: Solution)
     imp = sum(sol.x[t["var"]] * t["price"] for t in net.transfers if t["dir"] == "import")
     exp = sum(sol.x[t["var"]] * t["price"] for t in net.transfers if t["dir"] == "export")
     gen = 0.0
-    if len(equipment):
+    if len(equipment) and "power_kw" in equipment:   # a plant without turbines has none
         g = equipment[(equipment["type"].isin(["turbine", "extraction_turbine"]))
                       & (equipment.get("drive") == "generator")]
         gen = float(g["power_kw"].sum()) * 1e3
