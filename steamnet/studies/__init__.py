@@ -14,8 +14,10 @@ engineer, the equipment maker's data, or the codes in force at the site.
 """
 
 from .casetable import BASE, CaseSet, CaseSpec, model_case_set, read_case_table
+from .headroom import header_headroom
 from .runcases import CaseSetResult, case_results, solve_case_set
 from .trips import trip_screening
 
 __all__ = ["BASE", "CaseSet", "CaseSpec", "CaseSetResult", "model_case_set",
-           "read_case_table", "solve_case_set", "case_results", "trip_screening"]
+           "read_case_table", "solve_case_set", "case_results", "trip_screening",
+           "header_headroom"]
