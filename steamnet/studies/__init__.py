@@ -14,10 +14,12 @@ engineer, the equipment maker's data, or the codes in force at the site.
 """
 
 from .casetable import BASE, CaseSet, CaseSpec, model_case_set, read_case_table
+from .consumer import new_consumer_impact
 from .headroom import header_headroom
+from .marginal import marginal_steam_cost
 from .runcases import CaseSetResult, case_results, solve_case_set
 from .trips import trip_screening
 
 __all__ = ["BASE", "CaseSet", "CaseSpec", "CaseSetResult", "model_case_set",
            "read_case_table", "solve_case_set", "case_results", "trip_screening",
-           "header_headroom"]
+           "new_consumer_impact", "header_headroom", "marginal_steam_cost"]
