@@ -70,6 +70,7 @@ def main(debug: bool) -> None:
 
 
 from . import commands  # noqa: E402,F401  (registers the subcommands)
+from . import studies  # noqa: E402,F401  (study subcommands)
 
 __all__ = ["main", "EXIT_OK", "EXIT_FAIL", "EXIT_INPUT", "EXIT_OUTPUT", "EXIT_INTERNAL"]
 

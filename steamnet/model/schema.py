@@ -55,6 +55,7 @@ def _quantity(kind: Kind):
                                   currency=ctx.get("currency", "EUR"))
         except Exception as exc:  # ModelError -> ValueError for pydantic to collect
             raise ValueError(getattr(exc, "message", str(exc))) from None
+    parse.kind = kind  # what the field measures; case tables read units from headings
     return BeforeValidator(parse)
 
 

@@ -1,0 +1,269 @@
+"""Headroom: how much more steam each header can take before a limit binds.
+
+Method
+------
+For one header of one case, a steam user is added on that header (condensate return as
+stated, default 0 %) and its demand ``d`` is raised from zero. A limit *binds* at ``d``
+when, in the balance with the added demand, a limit that had margin in the case itself
+has none left (see :mod:`steamnet.studies.limits`):
+
+* a swing boiler at ``max_steam`` (or ``min_steam``), a swing import at its limit;
+* a let-down station at ``max_flow``; its desuperheater needing more spray than
+  ``max_spray`` or passing more than ``rated_max_steam`` (the balance itself keeps the
+  outlet at its setpoint and reports the spray it needs, so these count here although
+  the balance still holds);
+* a turbine at its ``max_flow``/``min_flow``; an extraction turbine's throttle, exhaust
+  or extraction at its limit;
+* a vent that closes (it was venting) or reaches its capacity;
+* a desuperheater whose inlet steam becomes too cold for its setpoint, a header whose
+  steam reaches saturation;
+* the balance becoming infeasible (or failing to solve).
+
+A swing element reaching its limit counts even when the next element of the header's
+sequence takes over: the answer is the first limit met, which is what an engineer sizing
+a new consumer asks for. The headroom is the largest ``d`` at which nothing binds,
+found by bracketing and bisection on ``d``:
+
+1. balance the case, then the case with 1 t/h added (warm starts from the case);
+2. the margin of every limit is close to linear in ``d`` while the operating mode holds,
+   so extrapolate each margin to zero and try the grid point just beyond the nearest
+   crossing, then the one just before it; with a bracket known, interpolate the margins
+   of the limits that bind at its upper end (regula falsi), falling back to halving;
+3. all trial demands lie on a grid of the accuracy (default 0.1 t/h); stop when a grid
+   point where nothing binds and the next one where a limit binds are known, and report
+   the first: the reported headroom keeps every limit, and the reported headroom plus
+   the accuracy binds the named limit (or leaves the balance infeasible).
+
+The search is capped (default 200 t/h); a header that takes the cap without a limit
+binding is reported as ``capped``.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pandas as pd
+
+from ..errors import ModelError
+from ..model.model import Model
+from ..units import Kind
+from .casetable import CaseSet
+from .common import (Progress, condensate, free_name, header_list, quantity, resolve_cases,
+                     solve, solved_cases, tick, warm, with_user)
+from .limits import TH, Check, limit_checks, newly_binding
+
+__all__ = ["header_headroom", "HEADROOM_COLUMNS", "DEFAULT_MAX_ADDED", "DEFAULT_ACCURACY"]
+
+#: Largest added demand searched [kg/s] (200 t/h).
+DEFAULT_MAX_ADDED = 200 / TH
+#: Accuracy of the headroom [kg/s] (0.1 t/h).
+DEFAULT_ACCURACY = 0.1 / TH
+#: First step of the search [kg/s] (1 t/h).
+_FIRST_STEP = 1 / TH
+_MAX_SOLVES = 60
+
+#: Columns of the headroom table, in order (docs/studies.md).
+HEADROOM_COLUMNS = [
+    "case", "header", "p_barg", "status", "condensate_return_percent", "headroom_t_h",
+    "binding_table", "binding_item", "binding_kind", "binding_limit_t_h",
+    "binding_message", "capped", "exceeded_in_case", "max_added_t_h", "accuracy_t_h",
+    "solves",
+]
+
+
+class _Point:
+    """One balance of the search: added demand, status, checks, newly binding."""
+
+    def __init__(self, d: float, result, base: dict):
+        self.d, self.result = d, result
+        self.checks = {c.key: c for c in limit_checks(result)}
+        self.binding: list[Check] = []
+        if result.status in ("solved", "infeasible"):
+            self.binding = newly_binding(base, list(self.checks.values()))
+        self.ok = result.status == "solved" and not self.binding
+
+
+def _crossing(a: _Point, b: _Point, keys=None) -> tuple[float, Check | None]:
+    """Smallest d beyond a where a margin, linear between a and b, reaches zero."""
+    best, which = math.inf, None
+    for k, ca in a.checks.items():
+        if keys is not None and k not in keys:
+            continue
+        cb = b.checks.get(k)
+        if cb is None or ca.binds:
+            continue
+        ma, mb = ca.margin, cb.margin
+        if mb >= ma:
+            continue
+        d = a.d + (b.d - a.d) * ma / (ma - mb)
+        if d < best:
+            best, which = d, cb
+    return best, which
+
+
+def _search(evaluate, cap: float, acc: float):
+    """(lo, hi, solves): lo ok and hi binding, one accuracy step apart on the grid
+    ``k * acc``; hi None when nothing binds up to the cap.
+
+    The margins of the limits are close to linear in the added demand, so each step
+    extrapolates (or, with a bracket, interpolates) them to zero and tries the grid
+    points on either side of the crossing; when that stalls it halves the bracket.
+    """
+    k_cap = max(1, math.floor(cap / acc + 1e-9))
+    pts = {0: evaluate(0.0)}
+
+    def at(k):
+        if k not in pts:
+            pts[k] = evaluate(k * acc)
+        return pts[k]
+
+    lo, hi = 0, None
+    k1 = min(k_cap, max(1, round(_FIRST_STEP / acc)))
+    if at(k1).ok:
+        lo = k1
+    else:
+        hi = k1
+    width, stall = math.inf, 0
+    while len(pts) < _MAX_SOLVES:
+        if hi is not None and hi - lo <= 1:
+            break
+        oks = sorted(k for k, p in pts.items() if p.ok)
+        if hi is None:
+            if lo >= k_cap:
+                break
+            pred = _crossing(pts[oks[-2]], pts[oks[-1]])[0] if len(oks) >= 2 else math.inf
+            if math.isfinite(pred):
+                k = math.floor(pred / acc + 1e-9) + 1     # just beyond the crossing
+            else:
+                k = max(2 * lo, lo + round(10 * _FIRST_STEP / acc))
+            k = min(k_cap, max(k, lo + 1))
+        else:
+            stall = stall + 1 if hi - lo > 0.6 * width else 0
+            width = hi - lo
+            keys = {c.key for c in pts[hi].binding} or None
+            # extrapolate from below (an enforced limit sits exactly at zero margin
+            # above the crossing, so interpolating to it says little), else interpolate
+            pred = _crossing(pts[oks[-2]], pts[oks[-1]], keys)[0] if len(oks) >= 2 \
+                else math.inf
+            if not (lo * acc < pred <= hi * acc):
+                pred = _crossing(pts[lo], pts[hi], keys)[0]
+            if math.isfinite(pred) and stall < 2:   # the grid point below the crossing
+                k = min(max(math.floor(pred / acc + 1e-9), lo + 1), hi - 1)
+            else:
+                k, stall = (lo + hi) // 2, 0
+        if at(k).ok:
+            lo = k
+        else:
+            hi = k
+    return pts[lo], (pts[hi] if hi is not None else None), len(pts)
+
+
+def _limit_of(lo: _Point, hi: _Point) -> tuple[str, str, str, float, str]:
+    """(table, item, kind, limit t/h, message) of what binds at ``hi``."""
+    if hi.binding:
+        keys = {c.key for c in hi.binding}
+        _, first = _crossing(lo, hi, keys)
+        c = first or hi.binding[0]
+        msg = c.describe()
+        if hi.result.status == "infeasible":
+            msg += f"; beyond it: {hi.result.message}"
+        return c.table, c.item, c.kind, c.limit_t_h, msg
+    r = hi.result
+    if r.status == "infeasible":
+        f = r.findings[0] if r.findings else {}
+        return ("header", f.get("header", ""), "infeasible", math.nan, r.message)
+    return ("", "", r.status, math.nan, r.message)
+
+
+def header_headroom(model: Model, cases: CaseSet | list[str] | str | None = None, *,
+                    headers: list[str] | None = None, condensate_return=0.0,
+                    condensate_temperature=None, max_added=DEFAULT_MAX_ADDED,
+                    accuracy=DEFAULT_ACCURACY,
+                    progress: Progress | None = None) -> pd.DataFrame:
+    """The largest added demand on each header of each case before a limit binds, and
+    which limit it is (method in the module docstring and docs/howto-headroom.md).
+
+    Parameters
+    ----------
+    model : Model
+        The plant.
+    cases : CaseSet, list of str, str or None
+        Cases: None for every case of the model file (or the base model), names of
+        model-file cases, or a case set from a case table.
+    headers : list of str, optional
+        Headers to search (default all).
+    condensate_return : float or str
+        Condensate returned by the added demand: a fraction [-] or text ``"60 %"``.
+    condensate_temperature : float or str, optional
+        Temperature of that condensate [K] or text ``"90 degC"``; needed when the
+        return is above zero.
+    max_added : float or str
+        Cap of the search [kg/s] or text ``"200 t/h"``.
+    accuracy : float or str
+        Width of the final bracket [kg/s] or text ``"0.1 t/h"``.
+    progress : callable, optional
+        ``progress(done, total, label)`` after each header.
+
+    Returns
+    -------
+    pandas.DataFrame
+        Columns :data:`HEADROOM_COLUMNS` (docs/studies.md), smallest headroom first.
+    """
+    ret, t_ret = condensate(model, condensate_return, condensate_temperature)
+    cap = quantity(max_added, Kind.MASS_FLOW, model, "option --max-added")
+    acc = quantity(accuracy, Kind.MASS_FLOW, model, "option --accuracy")
+    if not cap > 0 or not acc > 0:
+        raise ModelError("the cap and the accuracy must be above zero",
+                         item="option --max-added" if not cap > 0 else "option --accuracy")
+    hdrs = header_list(model, headers)
+    cs = resolve_cases(model, cases)
+    total = len(cs) * len(hdrs)
+    done = 0
+    rows = []
+    for name, m, base in solved_cases(cs):
+        start = warm(base)
+        base_checks = {c.key: c for c in limit_checks(base)}
+        exceeded = "; ".join(c.describe() for c in base_checks.values()
+                             if not c.enforced and c.margin < 0 and c.unit == "kg/s")
+        probe = free_name(m, "headroom probe")
+        for h in hdrs:
+            row = {"case": name, "header": h,
+                   "p_barg": (m.headers[h].pressure - m.site.atmospheric_pressure) / 1e5,
+                   "status": base.status, "condensate_return_percent": 100 * ret,
+                   "max_added_t_h": cap * TH, "accuracy_t_h": acc * TH,
+                   "exceeded_in_case": exceeded, "capped": False}
+            if not base.ok:
+                row.update(headroom_t_h=math.nan, binding_kind="case does not balance",
+                           binding_message=base.message, solves=1)
+                rows.append(row)
+                done += 1
+                tick(progress, done, total, f"{name}: {h}")
+                continue
+
+            def evaluate(d, _h=h, _m=m):
+                if d <= 0:
+                    return _Point(0.0, base, base_checks)
+                mp = with_user(_m, _h, demand=d, condensate_return=ret,
+                               condensate_temperature=t_ret, name=probe,
+                               origin="added demand")
+                return _Point(d, solve(mp, start=start), base_checks)
+
+            lo, hi, n = _search(evaluate, cap, acc)
+            row["headroom_t_h"] = round(lo.d * TH, 9)
+            row["solves"] = n
+            if hi is None:
+                row.update(capped=True, binding_kind="none below the cap",
+                           binding_message=f"no limit binds up to {cap * TH:.1f} t/h added")
+            else:
+                t, i, k, lim, msg = _limit_of(lo, hi)
+                row.update(binding_table=t, binding_item=i, binding_kind=k,
+                           binding_limit_t_h=lim, binding_message=msg)
+            rows.append(row)
+            done += 1
+            tick(progress, done, total, f"{name}: {h}")
+    df = pd.DataFrame(rows, columns=HEADROOM_COLUMNS)
+    if len(df):
+        key = df["headroom_t_h"].fillna(-1.0).to_numpy(float)
+        df = df.iloc[np.argsort(key, kind="stable")].reset_index(drop=True)
+    return df

@@ -1,0 +1,204 @@
+"""Trip screening: trip each running turbine (and, on request, each running boiler) in
+turn and re-balance; report every let-down station against its limits.
+
+Method
+------
+For each case the untripped balance is solved first. Every turbine and extraction
+turbine that passes steam in it is then set to mode ``tripped`` (a boiler: mode
+``off``), one at a time, and the case is balanced again: the header the turbine
+exhausted to is now held by the next swing element in its sequence, usually a let-down
+station, whose spray and the deaerator's heating steam follow. For every station the
+post-trip steam and spray flows are compared with the station's limits (``max_flow``;
+the desuperheater's ``max_spray`` and ``rated_max_steam`` where given) and with the
+untripped case. Rows are sorted worst first: trips that leave the plant unable to
+balance, then by the largest use of any limit.
+
+A trip that leaves the plant infeasible is a finding row naming the header that runs
+short (or long) and by how much, taken from the balance's findings; the station rows of
+that trip show where the stations stood when the balance ran out.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+
+import numpy as np
+import pandas as pd
+
+from ..errors import ModelError
+from ..model.model import Model
+from ..model.validate import validate_model
+from .casetable import CaseSet
+from .common import Progress, resolve_cases, solve, tick
+from .limits import TH, station_loads
+
+__all__ = ["trip_screening", "TRIP_COLUMNS"]
+
+#: Columns of the trip screening table, in order (docs/studies.md).
+TRIP_COLUMNS = [
+    "case", "trip", "trip_type", "trip_flow_t_h", "status", "row", "station", "inlet",
+    "outlet", "steam_before_t_h", "steam_t_h", "steam_change_t_h", "max_flow_t_h",
+    "steam_use_percent", "spray_before_t_h", "spray_t_h", "spray_change_t_h",
+    "max_spray_t_h", "spray_use_percent", "rated_max_steam_t_h",
+    "rated_steam_use_percent", "worst_use_percent", "worst_limit", "verdict",
+    "header", "side", "amount_t_h", "message",
+]
+
+_TRIP = {"turbine": ("turbine", "tripped"),
+         "extraction_turbine": ("extraction_turbine", "tripped"),
+         "boiler": ("boiler", "off")}
+
+
+def _running(result, boilers: bool) -> list[tuple[str, str, float]]:
+    """(table, name, flow kg/s) of every unit passing steam in a solved case."""
+    sol = result.solution
+    out = []
+    for t in sol.net.turbines:
+        out.append(("turbine", t["name"], float(sol.x[t["var"]])))
+    for t in sol.net.xturbines:
+        out.append(("extraction_turbine", t["name"], float(sol.x[t["in_var"]])))
+    if boilers:
+        for b in sol.net.boilers:
+            out.append(("boiler", b["name"], float(sol.x[b["var"]])))
+    return [u for u in out if u[2] > 1e-9]
+
+
+def _pct(value: float, limit: float | None) -> float:
+    if limit is None or not math.isfinite(limit):
+        return math.nan
+    if limit <= 0:
+        return math.inf if value > 1e-9 else 0.0
+    return 100.0 * value / limit
+
+
+def _station_rows(case, trip, ttype, tflow, status, before, after) -> list[dict]:
+    prev = {s["name"]: s for s in before} if before else {}
+    rows = []
+    for s in after:
+        b = prev.get(s["name"])
+        steam_b = b["steam"] if b else 0.0
+        spray_b = b["spray"] if b else 0.0
+        use = {"max_flow": _pct(s["steam"], s["max_flow"]),
+               "max_spray": _pct(s["spray"], s["max_spray"]),
+               "rated_max_steam": _pct(s["steam"], s["rated_max_steam"])}
+        given = {k: v for k, v in use.items() if not math.isnan(v)}
+        worst_k = max(given, key=given.get) if given else ""
+        worst = given.get(worst_k, math.nan)
+        verdict = ""
+        if given:
+            verdict = ("over limit" if worst > 100.0 + 1e-6 else
+                       "at limit" if worst >= 100.0 - 1e-6 else "within limits")
+        rows.append({
+            "case": case, "trip": trip, "trip_type": ttype, "trip_flow_t_h": tflow * TH,
+            "status": status, "row": "station", "station": s["name"], "inlet": s["inlet"],
+            "outlet": s["outlet"], "steam_before_t_h": steam_b * TH,
+            "steam_t_h": s["steam"] * TH, "steam_change_t_h": (s["steam"] - steam_b) * TH,
+            "max_flow_t_h": _th(s["max_flow"]), "steam_use_percent": use["max_flow"],
+            "spray_before_t_h": spray_b * TH, "spray_t_h": s["spray"] * TH,
+            "spray_change_t_h": (s["spray"] - spray_b) * TH,
+            "max_spray_t_h": _th(s["max_spray"]), "spray_use_percent": use["max_spray"],
+            "rated_max_steam_t_h": _th(s["rated_max_steam"]),
+            "rated_steam_use_percent": use["rated_max_steam"],
+            "worst_use_percent": worst, "worst_limit": worst_k, "verdict": verdict,
+        })
+    return rows
+
+
+def _header_named(exc: ModelError) -> str | None:
+    for e in getattr(exc, "errors", [exc]):
+        m = re.search(r"header '([^']+)'$", e.item or "")
+        if m:
+            return m.group(1)
+    return None
+
+
+def _th(v):
+    return v * TH if v is not None else math.nan
+
+
+def _finding_rows(case, trip, ttype, tflow, result) -> list[dict]:
+    base = {"case": case, "trip": trip, "trip_type": ttype, "trip_flow_t_h": tflow * TH,
+            "status": result.status, "row": "finding", "verdict": "cannot balance"}
+    if result.status == "infeasible" and result.findings:
+        return [{**base, "header": f.get("header"), "side": f.get("side"),
+                 "amount_t_h": f.get("amount_kg_s", math.nan) * TH,
+                 "message": f.get("message", result.message)} for f in result.findings]
+    return [{**base, "message": result.message}]
+
+
+def trip_screening(model: Model, cases: CaseSet | list[str] | str | None = None, *,
+                   boilers: bool = False,
+                   progress: Progress | None = None) -> pd.DataFrame:
+    """Trip each running turbine (and boiler, with ``boilers=True``) of each case in
+    turn; the post-trip load of every let-down station.
+
+    Parameters
+    ----------
+    model : Model
+        The plant.
+    cases : CaseSet, list of str, str or None
+        Cases to screen: None for every case of the model file (or the base model when
+        it has none), names of model-file cases, or a case set from a case table.
+    boilers : bool
+        Also trip (set mode ``off``) each running boiler.
+    progress : callable, optional
+        ``progress(done, total, label)`` after each balance.
+
+    Returns
+    -------
+    pandas.DataFrame
+        Columns :data:`TRIP_COLUMNS` (see docs/studies.md): one ``row == 'station'``
+        row per station per trip, and ``row == 'finding'`` rows for trips after which
+        the plant cannot balance; worst first. A case that does not balance untripped
+        gives one finding row with ``trip == ''``.
+    """
+    cs = resolve_cases(model, cases)
+    # the number of trips is known only after each untripped balance: count as we go
+    work = [len(cs)]
+    done = 0
+    rows: list[dict] = []
+    for name in cs:
+        m = cs.build(name)
+        r0 = solve(m)
+        done += 1
+        if not r0.ok:
+            rows.extend(_finding_rows(name, "", "", 0.0, r0))
+            tick(progress, done, sum(work), name)
+            continue
+        before = station_loads(r0.solution)
+        units = _running(r0, boilers)
+        work.append(len(units))
+        tick(progress, done, sum(work), name)
+        for table, unit, flow in units:
+            tbl, mode = _TRIP[table]
+            label = f"{name}: {unit}"
+            try:
+                mt = m.with_changes({f"{tbl}.{unit}.mode": mode},
+                                    origin=f"trip of {unit}")
+                validate_model(mt)
+            except ModelError as exc:
+                rows.append({"case": name, "trip": unit, "trip_type": table,
+                             "trip_flow_t_h": flow * TH, "status": "invalid",
+                             "row": "finding", "verdict": "cannot balance",
+                             "header": _header_named(exc),
+                             "message": "after the trip: " + "; ".join(
+                                 e.message for e in getattr(exc, "errors", [exc]))})
+                done += 1
+                tick(progress, done, sum(work), label)
+                continue
+            r = solve(mt)
+            if r.status != "solved":
+                rows.extend(_finding_rows(name, unit, table, flow, r))
+            if r.solution is not None and r.status in ("solved", "infeasible"):
+                rows.extend(_station_rows(name, unit, table, flow, r.status, before,
+                                          station_loads(r.solution)))
+            done += 1
+            tick(progress, done, sum(work), label)
+    df = pd.DataFrame(rows, columns=TRIP_COLUMNS)
+    if not len(df):
+        return df
+    rank = np.where(df["row"] == "finding", 0, np.where(df["status"] != "solved", 1, 2))
+    worst = df["worst_use_percent"].fillna(-1.0).to_numpy(float)
+    order = np.lexsort((-worst, rank))
+    return df.iloc[order].reset_index(drop=True)
