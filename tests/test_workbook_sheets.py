@@ -243,3 +243,18 @@ def test_hostile_text_arrives_as_text(tmp_path):
     assert found == set(hostile.values())
     groups = sheet_frame(path, "Equipment")["Group"].dropna().tolist()
     assert hostile["group"] in groups and hostile["minus"] in groups
+
+
+def test_model_without_stations_still_writes_every_sheet(tmp_path):
+    """tests/data/two_header.toml less its let-down station (the turbine swings)."""
+    text = (DATA / "two_header.toml").read_text()
+    start, end = text.index("[[letdown]]"), text.index("[[user]]")
+    text = text[:start] + text[end:]
+    text = text.replace('mode = "fixed_flow"\nflow = "10 t/h"', 'mode = "swing"')
+    study = steamnet.solve_cases(steamnet.loads_model(text))
+    path = tmp_path / "n.xlsx"
+    write_workbook(path, study)
+    wb = openpyxl.load_workbook(path)
+    assert wb.sheetnames == DEMO_SHEETS
+    assert wb["Station charts"]._charts == []
+    assert wb["Stations"]["A4"].value == "(no rows)"

@@ -143,7 +143,8 @@ def network_png(model, case, *, dpi: int = 110) -> bytes:
     for h, hy in y.items():
         ax.plot([x0, x1], [hy, hy], color=_BAR, lw=7, solid_capstyle="butt", zorder=3)
         r = hrows.get(h, {})
-        text = f"{h}  {model.headers[h].pressure / 1e5 - model.site.atmospheric_pressure / 1e5:.1f} bar(g)"
+        barg = (model.headers[h].pressure - model.site.atmospheric_pressure) / 1e5
+        text = f"{h}  {barg:.1f} bar(g)"
         if r:
             text += f"\n{_num(r.get('t_degc')):.0f} °C, {_num(r.get('inflow_t_h')):.1f} t/h"
             if r.get("wet"):

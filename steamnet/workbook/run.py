@@ -10,7 +10,7 @@ import pandas as pd
 
 from . import style
 
-__all__ = ["Run", "LARGE_RUN", "CHECK_COLUMNS"]
+__all__ = ["Run", "LARGE_RUN", "CHECK_COLUMNS", "POINT_KEYS"]
 
 #: Above this many cases the workbook is laid out for a long run: the case overview has
 #: one row per case instead of one column, and per-case bar charts are left out.
@@ -19,6 +19,11 @@ LARGE_RUN = 60
 #: Columns a table of station checks has (the station checks' long table).
 CHECK_COLUMNS = ("case", "station", "check", "value", "limit", "unit", "status", "basis",
                  "source", "advice")
+
+
+#: The columns of a let-down station's row of the equipment table kept per case.
+POINT_KEYS = ["item", "from", "to", "mode", "flow_t_h", "spray_t_h", "steam_out_t_h",
+               "t_out_degc", "t_set_degc", "setpoint_reachable", "load_percent", "limit"]
 
 
 @dataclass
@@ -87,11 +92,10 @@ class Run:
             eq = c.equipment
             if not len(eq):
                 continue
-            cols = list(eq.columns)
-            for values in eq.to_numpy(dtype=object).tolist():
-                r = dict(zip(cols, values))
-                if r["type"] == "letdown":
-                    out.setdefault(str(r["item"]), []).append((c.case, r))
+            sel = eq[eq["type"] == "letdown"].reindex(columns=POINT_KEYS)
+            for values in sel.to_numpy(dtype=object).tolist():
+                r = dict(zip(POINT_KEYS, values))
+                out.setdefault(str(r["item"]), []).append((c.case, r))
         return out
 
     # ------------------------------------------------------------- checks

@@ -17,7 +17,7 @@ from dataclasses import dataclass, field
 from typing import Callable, Iterable, Sequence
 
 import numpy as np
-from openpyxl.cell import WriteOnlyCell
+from openpyxl.cell import Cell, WriteOnlyCell
 from openpyxl.cell.cell import ILLEGAL_CHARACTERS_RE
 from openpyxl.utils import get_column_letter
 from openpyxl.worksheet.filters import AutoFilter
@@ -66,7 +66,7 @@ def _safe_text(v) -> str:
     return ILLEGAL_CHARACTERS_RE.sub("", str(v))
 
 
-def text_cell(ws, value, *, font=None, fill=None, alignment=None) -> WriteOnlyCell:
+def text_cell(ws, value, *, font=None, fill=None, alignment=None) -> Cell:
     """A cell that holds ``value`` as text, never as a formula (even '=...')."""
     c = WriteOnlyCell(ws)
     _set_text(c, value)
@@ -96,9 +96,10 @@ class CellMaker:
     def __init__(self, ws, column: Column, status_of: dict[str, str],
                  unit_index: int | None = None):
         self.ws, self.col, self.status_of, self.unit_index = ws, column, status_of, unit_index
-        self._looks: dict[tuple, WriteOnlyCell] = {}
+        self._looks: dict[tuple, Cell] = {}
+        self._num: Cell | None = None
 
-    def _look(self, key: tuple, *, fmt=None, word=None, quote=False) -> WriteOnlyCell:
+    def _look(self, key: tuple, *, fmt=None, word=None, quote=False) -> Cell:
         c = self._looks.get(key)
         if c is None:
             c = WriteOnlyCell(self.ws)
@@ -123,6 +124,11 @@ class CellMaker:
         return c
 
     def __call__(self, v, row: Sequence | None = None):
+        if type(v) is float and self._num is not None:        # the common case, fast
+            if v != v or v in (math.inf, -math.inf):
+                return None
+            self._num.value = v
+            return self._num
         if v is None:
             return None
         kind = self.col.kind
@@ -148,6 +154,8 @@ class CellMaker:
         if not fmt:
             return f
         c = self._look(("n", fmt), fmt=fmt)
+        if self.col.unit_from is None and kind == "num":
+            self._num = c                  # one format for the whole column
         c.value = f
         return c
 

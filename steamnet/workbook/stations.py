@@ -6,7 +6,7 @@ from __future__ import annotations
 
 from . import style
 from .columns import Column, clean_number, col, format_for_unit, label_of
-from .run import Run
+from .run import POINT_KEYS, Run
 from .sheet import Table
 
 __all__ = ["stations_table", "checks_table", "station_summary_table", "station_limits",
@@ -15,8 +15,7 @@ __all__ = ["stations_table", "checks_table", "station_summary_table", "station_l
 _TH = 3.6
 
 #: Balance columns of the stations sheet (from the equipment table's let-down rows).
-STATION_KEYS = ["from", "to", "mode", "flow_t_h", "spray_t_h", "steam_out_t_h",
-                "t_out_degc", "t_set_degc", "setpoint_reachable", "load_percent", "limit"]
+STATION_KEYS = POINT_KEYS[1:]
 
 _HEADINGS = {"flow_t_h": "Steam in [t/h]", "steam_out_t_h": "Steam out [t/h]"}
 

@@ -136,7 +136,8 @@ def overview_quantities(run: Run) -> list[Quantity]:
     def boiler(name, key):
         return lambda c: boilers.get(c, name, key)
     q = [Quantity("status", "Solve status", "", lambda c: c.status, "status"),
-         Quantity("message", "Message", "", lambda c: c.message, "text")]
+         Quantity("message", "Message", "",
+                  lambda c: "" if c.message == "solved" else c.message, "text")]
     q += [Quantity(f"steam_{b}", f"Steam raised, {b}", "t/h", boiler(b, "flow_t_h"))
           for b in run.boilers]
     q.append(Quantity("steam_raised_t_h", "Steam raised, total", "t/h",
