@@ -71,6 +71,7 @@ def main(debug: bool) -> None:
 
 from . import commands  # noqa: E402,F401  (registers the subcommands)
 from . import studies  # noqa: E402,F401  (study subcommands)
+from . import report  # noqa: E402,F401  (the results workbook)
 
 __all__ = ["main", "EXIT_OK", "EXIT_FAIL", "EXIT_INPUT", "EXIT_OUTPUT", "EXIT_INTERNAL"]
 

@@ -40,6 +40,7 @@ def atomic_path(target: str | Path, suffix: str = "") -> Iterator[Path]:
     tmp_path = Path(tmp)
     try:
         yield tmp_path
+        _set_mode(tmp_path, target)
         try:
             os.replace(tmp_path, target)
         except OSError as exc:
@@ -50,6 +51,19 @@ def atomic_path(target: str | Path, suffix: str = "") -> Iterator[Path]:
         with contextlib.suppress(OSError):
             tmp_path.unlink()
         raise
+
+
+def _set_mode(tmp: Path, target: Path) -> None:
+    """Give the new file the old file's permissions, or those of a newly made file
+    (mkstemp makes it readable by its owner only)."""
+    try:
+        mode = target.stat().st_mode & 0o7777
+    except OSError:
+        umask = os.umask(0)
+        os.umask(umask)
+        mode = 0o666 & ~umask
+    with contextlib.suppress(OSError):
+        os.chmod(tmp, mode)
 
 
 def write_atomic(target: str | Path, writer: Callable[[Path], None], suffix: str = "") -> None:

@@ -1,0 +1,225 @@
+"""Write the results workbook: every sheet in reading order, to a temporary file that
+replaces the target only when complete (steamnet.io.atomic)."""
+
+from __future__ import annotations
+
+import contextlib
+import io
+import re
+from datetime import datetime
+from pathlib import Path
+
+import pandas as pd
+from openpyxl import Workbook
+from openpyxl.drawing.image import Image
+
+from ..errors import ModelError
+from ..io.atomic import atomic_path
+from . import style
+from .charts import write_charts
+from .cover import write_cover
+from .findings import findings_table
+from .inputs import inputs_table
+from .network import network_png
+from .run import Run
+from .sheet import Table, print_setup, text_cell, write_table
+from .stations import checks_table, station_summary_table, stations_table
+from .tables import (EQUIPMENT_KEYS, HEADER_KEYS, STREAM_KEYS, case_frame_table,
+                     frame_table, overview_table)
+
+__all__ = ["write_workbook", "build_tables", "network_case_of", "SHEETS"]
+
+#: What each fixed sheet holds (the cover's table of contents; docs/workbook.md).
+SHEETS = {
+    "Cover": "What was run, on what and when; cautions; cases; verdicts; units.",
+    "Cases": "Each case's totals side by side: steam, fuel, power, water, cost, status.",
+    "Network": "A drawing of the network with the flows of one case.",
+    "Headers": "Each header in each case: pressure, temperatures, enthalpy, flows, "
+               "balance residuals.",
+    "Equipment": "Each item in each case: flow, power or duty, load against its limits, "
+                 "mode.",
+    "Streams": "Every steam and water stream of each case: flow, pressure, temperature.",
+    "Stations": "Each let-down station in each case, with every check's value, limit "
+                "and verdict.",
+    "Station summary": "Each station across all cases: range, limits, cases per verdict, "
+                       "worst case.",
+    "Station envelopes": "The envelope table of the station checks.",
+    "Station checks": "Every station check, one row each, with its basis and advice.",
+    "Station charts": "Spray per case, each station's operating envelope, control gain.",
+    "Findings": "Everything to look at, worst first, with a sentence of advice each.",
+    "Inputs": "The model file as read: every item's fields as written.",
+}
+
+_BAD_SHEET_CHARS = re.compile(r"[\[\]:*?/\\]")
+
+
+def network_case_of(run: Run) -> str | None:
+    """The case drawn on the network sheet: the one asked for, else the first that
+    solved, else the first."""
+    if run.network_case is not None:
+        return run.network_case
+    for c in run.cases:
+        if c.ok:
+            return c.case
+    return run.cases[0].case if run.cases else None
+
+
+def _study_tables(run: Run, taken: set[str]) -> list[Table]:
+    out = []
+    for i, (name, df) in enumerate(run.studies.items(), 1):
+        label = _BAD_SHEET_CHARS.sub(" ", str(name).replace("_", " ")).strip() or f"Study {i}"
+        label = label[:1].upper() + label[1:]
+        sheet = label[:31]
+        while sheet in taken:
+            sheet = f"{label[:26]} ({i})"
+        taken.add(sheet)
+        slug = re.sub(r"[^0-9A-Za-z]+", "_", str(name)).strip("_").lower() or str(i)
+        out.append(frame_table(df, name=sheet, slug=f"study_{slug}",
+                               title=f"Study: {label}", note=f"Results of the study "
+                               f"'{name}' as it ran; columns carry their units.",
+                               currency=run.currency))
+    return out
+
+
+def build_tables(run: Run, *, for_csv: bool = False) -> list[Table]:
+    """Every table of the workbook in reading order (charts and drawing not included).
+
+    For the CSV export the case overview is one row per case whatever the run's size;
+    the workbook of a long run leaves the streams out (they are in the CSV export).
+    """
+    t = [overview_table(run, side_by_side=False if for_csv else None),
+         case_frame_table(run, "headers", HEADER_KEYS, name="Headers", slug="headers",
+                          title="Headers", note="Each header in each case. The balance "
+                          "residuals show that mass and energy close."),
+         case_frame_table(run, "equipment", EQUIPMENT_KEYS, name="Equipment",
+                          slug="equipment", title="Equipment",
+                          note="Each item in each case. Load is the flow as a percentage "
+                          "of the item's maximum; 'At limit' names a limit it sits on."),
+         case_frame_table(run, "streams", STREAM_KEYS, name="Streams", slug="streams",
+                          title="Streams", note="Every steam and water stream the balance "
+                          "computes, with its state."),
+         stations_table(run), station_summary_table(run)]
+    if run.large and not for_csv:        # a long run: streams only in the CSV export
+        t = [x for x in t if x.slug != "streams"]
+    if run.envelopes is not None and len(run.envelopes):
+        t.append(frame_table(run.envelopes, name="Station envelopes",
+                             slug="station_envelopes", title="Station envelopes",
+                             note="Each station's operating envelope across the cases, as "
+                             "the station checks computed it.", currency=run.currency))
+    ct = checks_table(run)
+    if ct is not None:
+        t.append(ct)
+    t.append(findings_table(run))
+    t += _study_tables(run, {x.name for x in t} | set(SHEETS))
+    t.append(inputs_table(run))
+    return t
+
+
+def _table_name(slug: str, used: set[str]) -> str:
+    base = "t_" + re.sub(r"[^0-9A-Za-z_]", "_", slug)
+    name, i = base, 2
+    while name.lower() in used:
+        name, i = f"{base}_{i}", i + 1
+    used.add(name.lower())
+    return name
+
+
+def _write_network(wb, run: Run, case_name: str | None) -> None:
+    ws = wb.create_sheet("Network")
+    print_setup(ws)
+    ws.append([text_cell(ws, "Network", font=style.TITLE_FONT)])
+    if case_name is None:
+        ws.append([text_cell(ws, "(no case to draw)", font=style.NOTE_FONT)])
+        return
+    case = run.study.case(case_name)
+    model = run.model
+    if any(c.name == case_name for c in model.cases):
+        try:
+            model = model.for_case(case_name)
+        except ModelError:
+            pass
+    note = f"The network in case '{case_name}' ({style.display(case.status)})."
+    if run.network_case is None:
+        note += " The first case that balanced is drawn; choose another with network_case."
+    ws.append([text_cell(ws, note, font=style.NOTE_FONT,
+                         fill=style.fill_of(case.status) if not case.ok else None)])
+    img = Image(io.BytesIO(network_png(model, case)))
+    scale = min(1.0, 1500 / img.width)
+    img.width, img.height = int(img.width * scale), int(img.height * scale)
+    ws.add_image(img, "A4")
+
+
+def write_workbook(path: str | Path, study, *, checks: pd.DataFrame | None = None,
+                   envelopes: pd.DataFrame | None = None,
+                   studies: dict[str, pd.DataFrame] | None = None,
+                   network_case: str | None = None) -> Path:
+    """Write the results workbook of ``study`` (a :class:`~steamnet.solve.StudyResult`).
+
+    Parameters
+    ----------
+    path : the .xlsx file to write; it is replaced only when the new one is complete
+    study : the solved cases
+    checks : the station checks' long table (case, station, check, value, limit, unit,
+        status, basis, source, advice); without it the stations sheet says checks were
+        not run
+    envelopes : the station checks' envelope table (one row per station)
+    studies : name -> result table of each study that ran (unit-suffixed columns)
+    network_case : the case whose flows the network drawing shows (default: the first
+        case that balanced)
+
+    Raises
+    ------
+    OutputError
+        The file cannot be written (folder missing or not writable, target open in
+        another program); the previous file, if any, is unchanged.
+    ValueError
+        ``network_case`` is not a case of the study, or ``checks`` lacks a column.
+    """
+    run = Run(study, checks, envelopes, studies or {}, network_case)
+    names = [c.case for c in run.cases]
+    if network_case is not None and network_case not in names:
+        raise ValueError(f"network_case '{network_case}' is not a case of this study "
+                         f"(cases: {', '.join(names)})")
+    tables = build_tables(run)
+    order = ["Cover", "Cases", "Network"] + [t.name for t in tables[1:]]
+    at = order.index("Findings")
+    order.insert(at, "Station charts")
+    what = {t.name: t.note.split(". ")[0] for t in tables}
+    contents = [(n, SHEETS.get(n) or what.get(n, "")) for n in order]
+    now = datetime.now().astimezone()
+    target = Path(path)
+    with atomic_path(target, ".xlsx") as tmp:
+        wb = Workbook(write_only=True)
+        try:
+            write_cover(wb, run, contents, now)
+            _write_sheets(wb, run, tables, order[1:])
+            wb.save(tmp)
+        except BaseException:
+            _discard(wb)
+            raise
+    return target
+
+
+def _write_sheets(wb, run: Run, tables: list[Table], order: list[str]) -> None:
+    used: set[str] = set()
+    by_name = {t.name: t for t in tables}
+    for name in order:
+        if name == "Network":
+            _write_network(wb, run, network_case_of(run))
+        elif name == "Station charts":
+            write_charts(wb, run)
+        else:
+            tb = by_name[name]
+            write_table(wb, tb, run.status_of, table_name=_table_name(tb.slug, used))
+
+
+def _discard(wb) -> None:
+    """After a failure: close the streamed sheets and remove their temporary files
+    (openpyxl keeps one per sheet until the workbook is saved)."""
+    for ws in wb.worksheets:
+        with contextlib.suppress(Exception):
+            if not ws.closed:
+                ws.close()
+        with contextlib.suppress(Exception):
+            if ws._writer is not None:
+                ws._writer.cleanup()
