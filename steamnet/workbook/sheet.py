@@ -62,8 +62,14 @@ class Table:
         self.columns = cols
 
 
+#: The most characters a cell holds (Excel's limit).
+CELL_TEXT_LIMIT = 32767
+
+
 def _safe_text(v) -> str:
-    return ILLEGAL_CHARACTERS_RE.sub("", str(v))
+    """Text a cell can hold: without the control characters XML forbids, and cut to
+    Excel's limit."""
+    return ILLEGAL_CHARACTERS_RE.sub("", str(v))[:CELL_TEXT_LIMIT]
 
 
 def text_cell(ws, value, *, font=None, fill=None, alignment=None) -> Cell:
