@@ -29,8 +29,10 @@ def report(ctx, model: str, out: str, csv_folder: str | None, cases: tuple[str, 
     (the workbook is still written and marks it), 2 for bad input, 3 when a file cannot
     be written (the previous file is left as it was).
     """
+    from ..stations.run import run_checks, station_data
     from ..workbook import write_csv_folder, write_workbook
     m = load_model(model)
+    data = station_data(m)
     for name in cases:
         m.case(name)
     study = solve_cases(m, list(cases) if cases else None)
@@ -38,9 +40,12 @@ def report(ctx, model: str, out: str, csv_folder: str | None, cases: tuple[str, 
     if network_case is not None and network_case not in names:
         raise ModelError(f"no case '{network_case}' in this run (cases: "
                          f"{', '.join(names)})", item="option --network-case")
-    write_workbook(out, study, network_case=network_case)
+    checks = run_checks(study, data=data)
+    write_workbook(out, study, checks=checks.checks, envelopes=checks.envelopes,
+                   gains=checks.gains, network_case=network_case)
     if csv_folder:
-        write_csv_folder(csv_folder, study)
+        write_csv_folder(csv_folder, study, checks=checks.checks,
+                         envelopes=checks.envelopes)
     for c in study.cases:
         if not c.ok:
             click.echo(f"case '{c.case}': {c.status}: {c.message}")

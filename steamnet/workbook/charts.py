@@ -55,8 +55,19 @@ class _Block:
         return len(self.headings)
 
 
+#: Gain tables of the station checks (StationReport.gains): chart name -> (column, unit).
+GAIN_TABLE = {"control_gain_per_spray": ("gain_k_per_t_h", "K/(t/h)"),
+              "control_gain_per_ratio": ("gain_per_ratio_k", "K")}
+
+
 def gain_points(run: Run) -> dict[str, list[tuple[str, float, float, str]]]:
-    """(check) -> [(station, steam t/h, gain, case)], from the station checks."""
+    """(check) -> [(station, steam t/h, gain, case)], from the station checks' gain
+    table when given, else from gain rows of the checks."""
+    g = getattr(run, "gains", None)
+    if g is not None and len(g):
+        return {name: [(str(r["station"]), float(r["steam_t_h"]), float(r[col]),
+                        str(r["case"])) for r in g.to_dict("records")]
+                for name, (col, _) in GAIN_TABLE.items()}
     df = run.checks
     out: dict[str, list] = {}
     if df is None:
@@ -108,7 +119,7 @@ def _blocks(run: Run):
                       _envelope(ws, s, b, lb, lines, top))
     gains = gain_points(run)
     for chk, points in gains.items():
-        unit = run.check_units.get(chk, "")
+        unit = GAIN_TABLE[chk][1] if chk in GAIN_TABLE else run.check_units.get(chk, "")
         gb = []
         for s in stations:
             mine = sorted((x, g, c) for st, x, g, c in points if st == s)
@@ -256,7 +267,7 @@ def write_charts(wb, run: Run):
             "lines are the station's limits from the model file.")
     if run.large:
         note += f" Long run ({len(run.cases)} cases): the spray bar chart is left out."
-    if run.checks is None or not gain_points(run):
+    if not gain_points(run):
         note += (" No control gain chart: the station checks gave no gain values."
                  if run.checks is not None else " Station checks were not run: no gain "
                  "chart.")

@@ -33,6 +33,7 @@ class Run:
     envelopes: pd.DataFrame | None = None
     studies: dict[str, pd.DataFrame] = field(default_factory=dict)
     network_case: str | None = None
+    gains: pd.DataFrame | None = None    # steamnet.stations.run.StationReport.gains
 
     def __post_init__(self):
         if self.checks is not None:

@@ -152,7 +152,8 @@ def _write_network(wb, run: Run, case_name: str | None) -> None:
 def write_workbook(path: str | Path, study, *, checks: pd.DataFrame | None = None,
                    envelopes: pd.DataFrame | None = None,
                    studies: dict[str, pd.DataFrame] | None = None,
-                   network_case: str | None = None) -> Path:
+                   network_case: str | None = None,
+                   gains: pd.DataFrame | None = None) -> Path:
     """Write the results workbook of ``study`` (a :class:`~steamnet.solve.StudyResult`).
 
     Parameters
@@ -166,6 +167,8 @@ def write_workbook(path: str | Path, study, *, checks: pd.DataFrame | None = Non
     studies : name -> result table of each study that ran (unit-suffixed columns)
     network_case : the case whose flows the network drawing shows (default: the first
         case that balanced)
+    gains : the station checks' control gain table (case, station, steam_t_h,
+        gain_k_per_t_h, gain_per_ratio_k), charted against steam flow
 
     Raises
     ------
@@ -175,7 +178,7 @@ def write_workbook(path: str | Path, study, *, checks: pd.DataFrame | None = Non
     ValueError
         ``network_case`` is not a case of the study, or ``checks`` lacks a column.
     """
-    run = Run(study, checks, envelopes, studies or {}, network_case)
+    run = Run(study, checks, envelopes, studies or {}, network_case, gains)
     names = [c.case for c in run.cases]
     if network_case is not None and network_case not in names:
         raise ValueError(f"network_case '{network_case}' is not a case of this study "
