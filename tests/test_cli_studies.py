@@ -154,3 +154,16 @@ def test_ctrl_c_stops_cleanly_and_keeps_nothing_half_written(tmp_path):
     assert "interrupted" in stderr and "Traceback" not in stderr
     assert out.read_text() == "previous results"
     assert sorted(os.listdir(tmp_path)) == ["month.csv", "year.json"]   # no temp files
+
+
+def test_case_that_cannot_balance_is_reported_and_the_others_still_run(tmp_path):
+    table = tmp_path / "t.csv"
+    table.write_text("case,based_on,boiler.B2-gas.max_steam [t/h]\n"
+                     "small-B2,winter,60\nlarge-B2,winter,120\n")
+    out = tmp_path / "r.json"
+    r = invoke("cases", DEMO, table, "--json", out)
+    assert r.returncode == 1
+    assert "case 'small-B2': infeasible: header 'HP' is short of steam" in r.stdout
+    rows = json.loads(out.read_text())["studies"]["case_table"]["rows"]
+    assert [(x["case"], x["status"]) for x in rows] == [("small-B2", "infeasible"),
+                                                       ("large-B2", "solved")]

@@ -153,6 +153,7 @@ def test_xlsx_table_reads_like_csv(model, tmp_path):
      "row 1", "user.Stock heating.demand [kg/s]", "changes the same field"),
     ("timestamp,user.Stock heating.demand [t/h]\n2025-01-01 00:00,3\nnoon,4\n", "row 3",
      "timestamp", "not a date and time"),
+    ("case;user.Stock heating.demand [t/h]\na;3\n", "row 1", None, "use ';' between"),
 ])
 def test_bad_table_names_file_row_and_column(model, tmp_path, text, row, column, words):
     p = write(tmp_path, text)

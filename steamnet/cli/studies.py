@@ -72,7 +72,7 @@ def _fmt(v, nd=1) -> str:
     if v is None or (isinstance(v, float) and math.isnan(v)):
         return "-"
     if isinstance(v, float):
-        return f"{v:,.{nd}f}"
+        return f"{(v if round(v, nd) != 0 else 0.0):,.{nd}f}"     # no '-0.0
     return str(v)
 
 
@@ -182,9 +182,10 @@ def trips_command(ctx, model, cases, table, base, json_path, quiet, rows, boiler
     over = df[(df["row"] == "station") & (df["verdict"] == "over limit")]
     if not quiet:
         _header_line(m, "trip screening", len(cs))
-        click.echo(f"  {df[['case', 'trip']].drop_duplicates().shape[0]} trips, "
-                   f"{findings[['case', 'trip']].drop_duplicates().shape[0]} leave the plant "
-                   f"unable to balance, {len(over)} station rows beyond a limit\n")
+        n_bad = findings[["case", "trip"]].drop_duplicates().shape[0]
+        click.echo(f"  {df[['case', 'trip']].drop_duplicates().shape[0]} trips, {n_bad} "
+                   f"leave{'s' if n_bad == 1 else ''} the plant unable to balance, "
+                   f"{len(over)} station rows beyond a limit\n")
     for r in findings.itertuples():
         trip = f"trip of {r.trip}" if r.trip else "untripped"
         click.echo(f"  case '{r.case}', {trip}: CANNOT BALANCE: {r.message}")

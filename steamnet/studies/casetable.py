@@ -570,8 +570,12 @@ def read_case_table(path: str | Path, model: Model, *, base: str | None = None,
                                  "'timestamp' column (an hourly profile), not both",
                                  file=src, item="row 1"))
     if not profile and "case" not in cols:
+        hint = ""
+        if len(cols) == 1 and ";" in next(iter(cols)):
+            hint = " (the file seems to use ';' between columns: save it comma-separated)"
         errors.append(ModelError("no 'case' column (or 'timestamp' for an hourly "
-                                 "profile) in the heading row", file=src, item="row 1"))
+                                 f"profile) in the heading row{hint}", file=src,
+                                 item="row 1"))
     if profile and "based_on" in cols:
         errors.append(ModelError("an hourly profile derives every row from the base "
                                  "case (option --base); remove the 'based_on' column",

@@ -68,6 +68,17 @@ def _column(item: str, what: str) -> str:
     return f"{item} {what}"
 
 
+_EMPTY = pd.DataFrame()
+_RESIDUALS = ("mass_rel", "energy_rel", "water_rel", "da_mass_kg_s", "da_energy_w")
+
+
+def _lean(r: CaseResult) -> CaseResult:
+    """The case without its tables, raw solution and per-header residuals (summary,
+    water balance, findings and the relative residuals stay)."""
+    return replace(r, headers=_EMPTY, equipment=_EMPTY, streams=_EMPTY, solution=None,
+                   residuals={k: r.residuals[k] for k in _RESIDUALS if k in r.residuals})
+
+
 def solve_case_set(cs: CaseSet, *, progress: Progress | None = None,
                    keep_tables: bool | None = None,
                    warm_start: bool = True) -> CaseSetResult:
@@ -104,8 +115,7 @@ def solve_case_set(cs: CaseSet, *, progress: Progress | None = None,
             start = warm(r)
         flows.append(_flow_row(r))
         if not keep:
-            r = replace(r, headers=pd.DataFrame(), equipment=pd.DataFrame(),
-                        streams=pd.DataFrame(), solution=None)
+            r = _lean(r)
         out.append(r)
         tick(progress, i + 1, n, name)
     return CaseSetResult(cs.model, out, flows=flows, case_set=cs)
