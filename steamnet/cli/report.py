@@ -19,10 +19,22 @@ from . import EXIT_FAIL, EXIT_OK, main
 @click.option("--case", "cases", multiple=True, help="Only this case (repeatable).")
 @click.option("--network-case", help="The case whose flows the network drawing shows "
               "(default: the first case that balances).")
+@click.option("--studies", "studies_mode", type=click.Choice(["auto", "all", "none"]),
+              default="auto", show_default=True,
+              help="Trip screening, headroom and marginal steam cost: 'auto' runs them "
+              f"for up to {60} cases.")
+@click.option("--new-user", metavar="'HEADER=DEMAND'", help="Also study a new steam "
+              "user, e.g. 'LP=12 t/h' (or a duty, 'LP=8 MW').")
+@click.option("--new-user-return", default="0 %", show_default=True,
+              help="Condensate returned by the new user.")
+@click.option("--new-user-return-temperature", help="Temperature of that condensate, "
+              "e.g. '90 degC'.")
 @click.option("--quiet", is_flag=True, help="Print only problems.")
 @click.pass_context
 def report(ctx, model: str, out: str, csv_folder: str | None, cases: tuple[str, ...],
-           network_case: str | None, quiet: bool) -> None:
+           network_case: str | None, studies_mode: str, new_user: str | None,
+           new_user_return: str, new_user_return_temperature: str | None,
+           quiet: bool) -> None:
     """Solve every case of MODEL and write the results workbook to OUT.
 
     Exit 0 when every case balanced, 1 when a case is infeasible or did not converge
@@ -41,11 +53,14 @@ def report(ctx, model: str, out: str, csv_folder: str | None, cases: tuple[str, 
         raise ModelError(f"no case '{network_case}' in this run (cases: "
                          f"{', '.join(names)})", item="option --network-case")
     checks = run_checks(study, data=data)
+    studies = _run_studies(m, list(cases) if cases else None, len(study.cases),
+                           studies_mode, new_user, new_user_return,
+                           new_user_return_temperature, quiet)
     write_workbook(out, study, checks=checks.checks, envelopes=checks.envelopes,
-                   gains=checks.gains, network_case=network_case)
+                   gains=checks.gains, studies=studies, network_case=network_case)
     if csv_folder:
         write_csv_folder(csv_folder, study, checks=checks.checks,
-                         envelopes=checks.envelopes)
+                         envelopes=checks.envelopes, studies=studies)
     for c in study.cases:
         if not c.ok:
             click.echo(f"case '{c.case}': {c.status}: {c.message}")
@@ -55,3 +70,45 @@ def report(ctx, model: str, out: str, csv_folder: str | None, cases: tuple[str, 
         if csv_folder:
             click.echo(f"wrote the tables as CSV files into {csv_folder}")
     ctx.exit(EXIT_OK if study.all_solved else EXIT_FAIL)
+
+
+#: Above this many cases, --studies auto skips the studies (each needs several balances
+#: per case and header).
+STUDY_CASES_AUTO = 60
+
+
+def _run_studies(m, cases, n_cases, mode, new_user, ret, ret_t, quiet) -> dict:
+    """The study tables for the workbook: name -> DataFrame."""
+    from ..studies.headroom import header_headroom
+    from ..studies.marginal import marginal_steam_cost
+    from ..studies.progress import ProgressBar
+    from ..studies.trips import trip_screening
+    out = {}
+    run_std = mode == "all" or (mode == "auto" and n_cases <= STUDY_CASES_AUTO)
+    if mode == "auto" and not run_std and not quiet:
+        click.echo(f"{n_cases} cases: studies skipped (use --studies all to run them)")
+    if run_std:
+        with ProgressBar("trip screening", quiet=quiet) as bar:
+            out["Trip screening"] = trip_screening(m, cases, progress=bar)
+        with ProgressBar("headroom", quiet=quiet) as bar:
+            out["Headroom"] = header_headroom(m, cases, progress=bar)
+        with ProgressBar("marginal steam cost", quiet=quiet) as bar:
+            out["Marginal steam cost"] = marginal_steam_cost(m, cases, progress=bar)
+    if new_user:
+        from ..studies.consumer import new_consumer_impact
+        if "=" not in new_user:
+            raise ModelError("write the new user as 'HEADER=DEMAND', e.g. 'LP=12 t/h'",
+                             item="option --new-user")
+        header, amount = (p.strip() for p in new_user.split("=", 1))
+        from ..units import Kind, parse_quantity
+        try:
+            parse_quantity(amount, Kind.MASS_FLOW)
+            kind = "demand"
+        except ModelError:
+            kind = "duty"           # a heat duty ('8 MW'); its own errors name the unit
+        with ProgressBar("new consumer", quiet=quiet) as bar:
+            out["New consumer"] = new_consumer_impact(
+                m, header, **{kind: amount}, condensate_return=ret,
+                condensate_temperature=ret_t, cases=cases, progress=bar)
+    return out
+
