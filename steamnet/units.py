@@ -168,6 +168,7 @@ def unit_factor(unit: str, kind: Kind) -> tuple[float, float, bool]:
              "°f": "delta_degF", "r": "degR", "degr": "degR"}.get(low, u)
     if kind is Kind.TEMPERATURE and u.upper() in ("C", "F"):
         raise _err(f"write 'degC' or 'degF', not '{unit}'")
+    _reject_prefixed_time(unit, u)
     try:
         q = UREG.Quantity(1.0, u)
         target = _SI[kind]
@@ -185,6 +186,24 @@ def unit_factor(unit: str, kind: Kind) -> tuple[float, float, bool]:
         raise _err(f"unknown unit '{unit}'; write for example {_EXAMPLES[kind]}") from None
     except Exception:  # pint raises a variety of parse errors on odd text
         raise _err(f"unknown unit '{unit}'; write for example {_EXAMPLES[kind]}") from None
+
+
+#: Time units that never take an SI prefix in the trade ('t/hh' is a typo, not
+#: tonnes per hectohour).
+_NO_PREFIX = {"hour", "minute", "day", "week", "year"}
+_TOKEN_RE = re.compile(r"[A-Za-z_]+")
+
+
+def _reject_prefixed_time(unit: str, u: str) -> None:
+    for tok in _TOKEN_RE.findall(u):
+        try:
+            parses = UREG.parse_unit_name(tok)
+        except Exception:
+            continue
+        if parses and all(unit_name in _NO_PREFIX and prefix for prefix, unit_name, _
+                          in parses):
+            raise _err(f"'{unit}': '{tok}' reads as a prefixed {parses[0][1]}; write "
+                       "h, min or d without a prefix")
 
 
 def parse_number_with_unit(value: float, unit: str, kind: Kind, *,

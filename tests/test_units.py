@@ -241,3 +241,13 @@ def test_number_with_unit_in_a_heading():
     assert same(parse_number_with_unit(45.0, "bar(g)", Kind.PRESSURE, p_atm=0.9e5),
                 45.9e5)
     assert same(parse_number_with_unit(10.0, "klb/h", Kind.MASS_FLOW), 10e3 * LB / 3600)
+
+
+def test_prefixed_hour_is_refused():
+    """'t/hh' is a typo; pint alone would read it as tonnes per hectohour (100 h)."""
+    import pytest as _pt
+    from steamnet.errors import ModelError as _ME
+    from steamnet.units import parse_quantity as _pq
+    with _pt.raises(_ME, match="prefixed hour"):
+        _pq("12 t/hh", "mass_flow")
+    assert _pq("12 t/h", "mass_flow") == _pt.approx(12000 / 3600, rel=1e-15)

@@ -491,7 +491,8 @@ def _read_frame(path: Path) -> pd.DataFrame:
             return pd.read_csv(path, header=None, dtype=str, keep_default_na=False,
                                skip_blank_lines=False, encoding="utf-8-sig")
         if suffix in (".xlsx", ".xlsm"):
-            return pd.read_excel(path, sheet_name=0, header=None, dtype=object)
+            return pd.read_excel(path, sheet_name=0, header=None, dtype=object,
+                                 engine="openpyxl")
     except pd.errors.EmptyDataError:
         raise ModelError("the table is empty", file=str(path)) from None
     except pd.errors.ParserError as exc:
