@@ -66,6 +66,10 @@ def report(ctx, model: str, out: str, csv_folder: str | None, cases: tuple[str, 
             click.echo(f"case '{c.case}': {c.status}: {c.message}")
     if not quiet:
         solved = sum(c.ok for c in study.cases)
+        counts = checks.checks["status"].value_counts().to_dict()
+        click.echo("station checks: " + ", ".join(
+            f"{counts.get(k, 0)} {k.replace('_', ' ')}"
+            for k in ("fail", "warn", "not_assessed", "ok")) + " (see the Findings sheet)")
         click.echo(f"wrote {out} ({len(study.cases)} cases, {solved} balanced)")
         if csv_folder:
             click.echo(f"wrote the tables as CSV files into {csv_folder}")

@@ -141,13 +141,35 @@ def field_tables() -> str:
     return "\n".join(out)
 
 
+def station_limit_table() -> str:
+    """Markdown table of the station check limits: name, default, source."""
+    from ..stations.data import StationLimits
+    lim = StationLimits()
+    units = {"fraction": ("%", 100.0), "temperature_difference": ("K", 1.0),
+             "pressure_difference": ("bar", 1e-5), "velocity": ("m/s", 1.0),
+             "time": ("s", 1.0), "ratio": (":1", 1.0)}
+    out = ["### [station_limits] and a let-down's `limits`", "",
+           "Limits of the station checks (docs/checks/). `[station_limits]` sets them "
+           "for the site; a let-down's `limits = { ... }` table overrides them for that "
+           "station. Write each with its unit, e.g. `spray_capacity_warn = \"80 %\"`, "
+           "`approach_fail = \"6 K\"`, `spray_pressure_margin_fail = \"5 bar\"`.", "",
+           "| limit | default | source of the default |", "|---|---|---|"]
+    for name in StationLimits.names():
+        kind = StationLimits.LIMIT_KINDS[name]
+        unit, scale = units[kind]
+        val = getattr(lim, name) * scale
+        shown = f"{val:g}:1" if unit == ":1" else f"{val:g} {unit}"
+        out.append(f"| `{name}` | {shown} | {StationLimits.LIMIT_SOURCES[name]} |")
+    return "\n".join(out) + "\n"
+
+
 def render(text: str) -> str:
     """``text`` with the generated part replaced."""
     if BEGIN not in text or END not in text:
         raise ValueError("markers not found")
     head, rest = text.split(BEGIN, 1)
     _, tail = rest.split(END, 1)
-    return f"{head}{BEGIN}\n{field_tables()}\n{END}{tail}"
+    return f"{head}{BEGIN}\n{field_tables()}\n{station_limit_table()}\n{END}{tail}"
 
 
 def main(path: str = "docs/model-file.md") -> int:
