@@ -92,6 +92,11 @@ def _degc(x: float) -> str:
     return f"{x:.1f} degC"
 
 
+def _t_h(text: str | None, default: float = 0.0) -> float:
+    """The number of a flow written by :func:`_th`."""
+    return default if text is None else float(text.split()[0])
+
+
 def _pct(x: float) -> str:
     return f"{_g(100 * x, 3)} %"
 
@@ -166,11 +171,27 @@ class _Builder:
         item["priority"] = prio
 
     def finish_shares(self) -> None:
+        """Shares for every group of equal priority; where the members' minimum and
+        maximum flows leave the group no range at those shares, drop the minima."""
         for groups in self.swing.values():
             for members in groups.values():
-                if len(members) > 1:
+                if len(members) < 2:
+                    continue
+                shares = [self.rng.uniform(0.1, 0.9) for _ in members]
+                for it, sh in zip(members, shares):
+                    it["share"] = _pct(sh)
+                total = sum(float(it["share"].split()[0]) for it in members)
+                lo_g, hi_g = 0.0, math.inf
+                for it in members:
+                    w = float(it["share"].split()[0]) / total
+                    lo_key, hi_key = ("min_steam", "max_steam") if "min_steam" in it or \
+                        "max_steam" in it else ("min_flow", "max_flow")
+                    lo_g = max(lo_g, _t_h(it.get(lo_key)) / w)
+                    hi_g = min(hi_g, _t_h(it.get(hi_key), math.inf) / w)
+                if lo_g > hi_g * (1 - 1e-6):
                     for it in members:
-                        it["share"] = _pct(self.rng.uniform(0.1, 0.9))
+                        it.pop("min_steam", None)
+                        it.pop("min_flow", None)
 
     def sub_demand(self, sub: int) -> float:
         return max(1.0, self.subs[sub].demand)

@@ -6,6 +6,7 @@ collected and raised together as :class:`ModelErrors`.
 
 from __future__ import annotations
 
+import math
 from collections import defaultdict
 
 import networkx as nx
@@ -258,6 +259,8 @@ def _check_degrees_of_freedom(model: Model, errs: list, case: str) -> None:
                     f"{names} hold this header at the same priority {prio}: give each a "
                     "'share', or give them different priorities (sequence), so the split "
                     "is defined", file=model.source, item=item, field="priority"))
+            elif len(group) > 1:
+                _check_share_limits(model, errs, item, prio, group)
         by_prio_ab: dict[int, list] = defaultdict(list)
         for table, n, prio in ab.get(h, []):
             by_prio_ab[prio].append((table, n))
@@ -268,6 +271,40 @@ def _check_degrees_of_freedom(model: Model, errs: list, case: str) -> None:
                     f"{names} take excess steam at the same priority {prio}: give them "
                     "different priorities", file=model.source, item=item,
                     field="priority"))
+
+
+def _swing_limits(model: Model, table: str, name: str) -> tuple[float, float]:
+    """(minimum, maximum) flow [kg/s] of a swing element while it runs."""
+    if table == "extraction_turbine":
+        turbine, header = name.split("/", 1)
+        e = next(x for x in model.table(table)[turbine].extractions if x.header == header)
+        lo, hi = e.min_flow, e.max_flow
+    else:
+        it = model.table(table)[name]
+        lo, hi = ((it.min_steam, it.max_steam) if table == "boiler"
+                  else (it.min_flow, it.max_flow))
+    return lo, math.inf if hi is None else hi
+
+
+def _check_share_limits(model: Model, errs: list, item: str, prio: int, group) -> None:
+    """Elements sharing load by set fractions run together: the group's flow must let
+    each run within its own minimum and maximum, or no flow of the header can."""
+    total = sum(s for _, _, s in group)
+    need, room = [], []
+    for table, n, share in group:
+        lo, hi = _swing_limits(model, table, n)
+        w = share / total
+        need.append((lo / w, table, n, lo))
+        room.append((hi / w, table, n, hi))
+    lo_g, t_lo, n_lo, v_lo = max(need)
+    hi_g, t_hi, n_hi, v_hi = min(room)
+    if lo_g > hi_g * (1 + 1e-9):
+        errs.append(ModelError(
+            f"the shares at priority {prio} cannot be met within the limits: "
+            f"{ITEM_LABELS[t_lo]} '{n_lo}' at its minimum {v_lo * 3.6:.4g} t/h would need "
+            f"{ITEM_LABELS[t_hi]} '{n_hi}' above its maximum {v_hi * 3.6:.4g} t/h; lower "
+            "a minimum, raise a maximum or change the shares", file=model.source,
+            item=item, field="share"))
 
 
 def _check_reachability(model: Model, errs: list, case: str) -> None:

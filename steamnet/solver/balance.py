@@ -500,12 +500,13 @@ def _derived_findings(net: Net, co: Coeffs, x: np.ndarray, tol: float) -> list[d
             out.append({"kind": "infeasible", "header": net.headers[t["inlet"]],
                         "side": "turbine", "amount_kg_s": 0.0, "limits": bad,
                         "message": f"extraction turbine '{t['name']}': " + "; ".join(bad)})
-    for u, m in zip(net.users, co.user_flow):
-        if not math.isfinite(m):
+    for u, starved in zip(net.users, co.user_starved):
+        if starved:
             out.append({"kind": "infeasible", "header": net.headers[u["header"]],
                         "side": "user", "amount_kg_s": 0.0, "limits": [],
-                        "message": f"user '{u['name']}': header steam carries no heat "
-                        "above saturated liquid, so its duty cannot be met"})
+                        "message": f"user '{u['name']}': header steam carries (almost) "
+                        "no heat above saturated liquid (under 1 % of the latent heat), so "
+                        "its duty cannot be met"})
     return out
 
 
@@ -578,8 +579,9 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float = 1e-6,
                 new_modes[first] = _step(modes[first], new_modes[first])
             modes = new_modes
         co = coefficients(net, h, x)
-        if not mode_changed and dh < tol_h and dx < tol_x:
-            break
+        if dh < tol_h and dx < tol_x and (not mode_changed
+                                          or history.get(tuple(modes), 0) > 2):
+            break   # settled; or a header flips between two modes that balance alike
     else:
         return Solution(net, x, h, co, modes, it, "not_converged", [],
                         f"not converged after {max_iter} iterations "
