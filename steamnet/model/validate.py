@@ -103,6 +103,18 @@ def validate_model(model: Model) -> None:
                     f"heating-steam header '{da.header}'")
         if not (props.P_MIN < da.pressure < props.P_CRIT):
             err("deaerator", n, "pressure", "outside IAPWS-IF97 saturation range")
+    mk_p = (next(iter(deaerators.values())).pressure if deaerators
+            else model.site.atmospheric_pressure)
+    t_mk = model.site.makeup_temperature
+    try:
+        if not (props.T_MIN < t_mk < props.t_sat(mk_p)):
+            errs.append(ModelError(
+                f"{t_mk - 273.15:.6g} degC is not a temperature of liquid make-up water "
+                f"(above 0 degC, below saturation {props.t_sat(mk_p) - 273.15:.1f} degC "
+                "at the deaerator)", file=src, item=f"{case}site",
+                field="makeup_temperature"))
+    except PropertyRangeError:
+        pass       # the deaerator pressure is reported below
     # ------------------------------------------------------------- water supplies
     for n, ws in supplies.items():
         if ws.source == "deaerator" and not deaerators:
@@ -179,6 +191,7 @@ def validate_model(model: Model) -> None:
                     "is not below the last extraction")
             if not props.P_MIN < t.condenser_pressure < props.P_CRIT:
                 err("extraction_turbine", n, "condenser_pressure", "outside IAPWS-IF97")
+        _check_liquid_temperature(err, "extraction_turbine", n, t.condensate_temperature)
         if t.exhaust is None and t.condensate_return > 0 and not deaerators:
             # only a condensing exhaust returns condensate (a backpressure exhaust
             # goes to its header as steam)
@@ -203,8 +216,16 @@ def validate_model(model: Model) -> None:
                         err("letdown", n, "desuperheater.outlet_temperature",
                             f"setpoint {d.outlet_temperature - 273.15:.1f} degC is at or "
                             f"below saturation at the outlet ({ts - 273.15:.1f} degC)")
+                    else:
+                        props.state_pt(p(s.outlet), d.outlet_temperature)
                 except PropertyRangeError as exc:
                     err("letdown", n, "desuperheater.outlet_temperature", str(exc))
+            if b and d.approach is not None:
+                try:
+                    props.state_pt(p(s.outlet), props.t_sat(p(s.outlet)) + d.approach)
+                except PropertyRangeError as exc:
+                    err("letdown", n, "desuperheater.approach", f"the setpoint is not "
+                        f"a state of steam: {exc}")
         if s.mode == "fixed_flow" and s.max_flow is not None and s.flow > s.max_flow:
             err("letdown", n, "flow", "fixed flow is above max_flow")
     # ---------------------------------------------------------------- users, vents
@@ -213,8 +234,7 @@ def validate_model(model: Model) -> None:
         if u.condensate_return > 0 and not deaerators:
             err("user", n, "condensate_return", "condensate is returned but the model "
                 "has no deaerator")
-        if u.condensate_temperature is not None and u.condensate_temperature > 647.0:
-            err("user", n, "condensate_temperature", "not a liquid temperature")
+        _check_liquid_temperature(err, "user", n, u.condensate_temperature)
     for n, v in model.table("vent").items():
         need_header("vent", n, "header", v.header)
     if errs:
@@ -223,6 +243,13 @@ def validate_model(model: Model) -> None:
     _check_reachability(model, errs, case)
     if errs:
         raise ModelErrors(errs)
+
+
+def _check_liquid_temperature(err, table, name, t) -> None:
+    """A returned condensate temperature must be one of liquid water."""
+    if t is not None and not (props.T_MIN < t < props.T_CRIT - 1):
+        err(table, name, "condensate_temperature", f"{t - 273.15:.6g} degC is not a "
+            f"temperature of liquid water (0 to {props.T_CRIT - 274.15:.0f} degC)")
 
 
 def _check_superheated(err, table, name, field, p, t) -> None:
