@@ -15,7 +15,7 @@ from typing import Callable, Iterable
 import numpy as np
 import pandas as pd
 
-from .errors import ModelError, ModelErrors
+from .errors import ModelError
 from .model.model import Model
 from .model.validate import validate_model
 from .solver.balance import Solution, solve_net
@@ -270,10 +270,11 @@ def solve_cases(model: Model, cases: Iterable[str] | None = None, *,
     for i, n in enumerate(names):
         try:
             r = solve_case(model, n, start=start if warm_start else None)
-        except ModelErrors as exc:
+        except ModelError as exc:        # ModelErrors too
             r = _empty(n, "error", str(exc))
-        except ModelError as exc:
-            r = _empty(n, "error", str(exc))
+        except Exception as exc:         # a fault of ours: report it, go on
+            r = _empty(n, "error", f"internal error: {type(exc).__name__}: {exc} "
+                       "(please report this)")
         if r.solution is not None and r.ok and warm_start:
             start = {"h": r.solution.h, "modes": r.solution.modes}
         out.append(r)

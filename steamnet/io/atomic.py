@@ -55,4 +55,8 @@ def atomic_path(target: str | Path, suffix: str = "") -> Iterator[Path]:
 def write_atomic(target: str | Path, writer: Callable[[Path], None], suffix: str = "") -> None:
     """Call ``writer(tmp_path)`` and move the result over ``target``."""
     with atomic_path(target, suffix) as tmp:
-        writer(tmp)
+        try:
+            writer(tmp)
+        except OSError as exc:       # disk full, permissions, ...: not an internal error
+            raise OutputError(f"{target}: cannot write ({exc.strerror or exc}); the "
+                              "previous file, if any, is unchanged") from None
