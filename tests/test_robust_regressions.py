@@ -291,3 +291,28 @@ def test_header_flipping_between_equal_modes_is_reported(data_dir):
     r = solve_case(load_model(data_dir / "flipping_mode.toml"))
     assert r.status == "infeasible", r.message
     assert any(f["header"] == "S01-2" and f["side"] == "heat_loss" for f in r.findings)
+
+
+def test_short_header_names_the_share_partner_not_an_infinite_maximum():
+    # Was: "boiler 'B1' at its maximum inf t/h" for a boiler without a maximum that
+    # shares load with one that has reached its own: the group's limit is the partner's.
+    boilers = ('priority = 1\nshare = "50 %"\n'
+               + boiler("B2", priority=1, share='"50 %"', max_steam='"10 t/h"'))
+    r = solve_case(model(lp_demand="40 t/h", boilers=boilers))
+    assert r.status == "infeasible", r.message
+    f = next(x for x in r.findings if x["side"] == "short")
+    assert f["header"] == "HP"
+    assert "boiler 'B2' at its maximum 10.00 t/h" in f["limits"]
+    assert "boiler 'B1' at its share 50 % of the group, 10.00 t/h" in f["limits"]
+    assert "inf t/h" not in f["message"]
+
+
+def test_deaerator_that_cannot_balance_is_infeasible_not_unconverged(data_dir):
+    # Was: 'not converged after 200 iterations'; the deaerator's negative make-up (the
+    # cause) was not reported.
+    r = solve_case(load_model(data_dir / "deaerator_returns_exceed_use.toml"))
+    assert r.status == "infeasible", r.message
+    assert {f["side"] for f in r.findings} == {"deaerator"}
+    assert all(f["header"] == "S01-3" for f in r.findings)
+    assert "more water returns than the plant uses" in r.message
+    assert "amounts are those of the last iteration" in r.message

@@ -427,19 +427,37 @@ def _update_modes(net: Net, x: np.ndarray, modes, eff, tol: float):
     return new, exhausted
 
 
+def _group_limit_texts(net: Net, g, which: str, eff) -> list[str]:
+    """The limit of each member of a swing group. A member sharing load with others is
+    held by the group's limit, which is its own only for the member that binds; the
+    others are named at their share (not at a maximum of their own, maybe infinite)."""
+    if len(g.members) == 1:
+        return [_limit_text(net, g.members[0], which, eff)]
+    glo, ghi = _group_bounds(net, g, eff)
+    level = ghi if which == "max" else glo
+    out = []
+    for vi, w in zip(g.members, g.weights):
+        lo, hi = eff.get(vi, (net.vars[vi].lo, net.vars[vi].hi))
+        own = (hi if which == "max" else lo) / w
+        if abs(own - level) <= 1e-9 * max(1.0, abs(level)):
+            out.append(_limit_text(net, vi, which, eff))
+        else:
+            out.append(f"{_item_label(net, vi)} at its share {100 * w:.3g} % of the "
+                       f"group, {_fmt_th(level * w)}")
+    return out
+
+
 def _exhausted_findings(net: Net, exhausted, modes, eff) -> list[dict]:
     out = []
     for hi, side, amount in exhausted:
         hs = net.swing[hi]
         name = net.headers[hi]
         if side == "short":
-            limits = [_limit_text(net, vi, "max", eff) for g in hs.groups
-                      for vi in g.members]
+            limits = [t for g in hs.groups for t in _group_limit_texts(net, g, "max", eff)]
             msg = (f"header '{name}' is short of steam by {_fmt_th(amount)}: every "
                    "element that can supply it is at its limit")
         else:
-            limits = [_limit_text(net, vi, "min", eff) for g in hs.groups
-                      for vi in g.members]
+            limits = [t for g in hs.groups for t in _group_limit_texts(net, g, "min", eff)]
             limits += [f"{_item_label(net, vi)} at its capacity "
                        f"{_fmt_th(net.vars[vi].hi)}" for vi in hs.absorbers]
             if not hs.absorbers:
@@ -583,9 +601,19 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float = 1e-6,
                                           or history.get(tuple(modes), 0) > 2):
             break   # settled; or a header flips between two modes that balance alike
     else:
-        return Solution(net, x, h, co, modes, it, "not_converged", [],
-                        f"not converged after {max_iter} iterations "
-                        f"(last enthalpy change {dh:.3g} J/kg, flow change {dx:.3g} kg/s)",
+        msg = (f"not converged after {max_iter} iterations (last enthalpy change "
+               f"{dh:.3g} J/kg, flow change {dx:.3g} kg/s)")
+        # A deaerator that would need negative steam or make-up keeps the iteration
+        # from settling (its header then carries next to nothing); that, not the
+        # iteration, is what the user must hear about.
+        da = [f for f in _derived_findings(net, co, x, tol_mode)
+              if f["side"] == "deaerator"]
+        if da:
+            return Solution(net, x, h, co, modes, it, "infeasible", da,
+                            "; ".join(f["message"] for f in da) + f" ({msg}; the "
+                            "amounts are those of the last iteration)",
+                            time.perf_counter() - t0)
+        return Solution(net, x, h, co, modes, it, "not_converged", [], msg,
                         time.perf_counter() - t0)
     x = np.where(np.abs(x) < 1e-12, 0.0, x)     # no -0.0 or 1e-16 flows in reports
     eff = _extraction_bounds(net, co, x)
