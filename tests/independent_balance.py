@@ -343,11 +343,15 @@ def check_solved(model, result, *, rel: float = 1e-6) -> list[str]:
         w_out += vent
     close(w_in, w_out, max(w_in, w_out), "plant water balance")
 
+    # each header to `rel` of its own throughput; a header carrying (next to) nothing to
+    # `rel` of a billionth of the plant's, not of its own rounding noise
+    m_floor = 1e-9 * sum(bal.m_in.values())
+    e_floor = 1e-9 * sum(bal.e_in.values())
     for name, hd in model.headers.items():
         m_in, m_out, e_in = bal.m_in[name], bal.m_out[name], bal.e_in[name]
-        close(m_in, m_out, max(m_in, m_out), f"header '{name}' mass balance")
+        close(m_in, m_out, max(m_in, m_out, m_floor), f"header '{name}' mass balance")
         loss = hd.heat_loss if m_in > 1e-9 else 0.0     # an idle header loses no heat
-        close(e_in - loss, m_out * H[name], max(e_in, 1e-9),
+        close(e_in - loss, m_out * H[name], max(e_in, e_floor),
               f"header '{name}' energy balance")
 
     for r in eq.values():

@@ -35,6 +35,9 @@ from .network import (INF, CaseInfeasible, Coeffs, ItemPropertyError, Net, build
 __all__ = ["solve_net", "Solution", "build"]
 
 _SPARSE_ABOVE = 250
+#: Iterations a header must stay exhausted on the same side for a case that does not
+#: settle to be reported infeasible on its account.
+_PERSIST = 20
 
 
 class Solution:
@@ -558,6 +561,7 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float = 1e-6,
     co = coefficients(net, h, None)
     it = 0
     relax, r_prev = 1.0, None
+    recent: list[set] = []      # exhausted (header, side) of the last iterations
     for it in range(1, max_iter + 1):
         eff = _extraction_bounds(net, co, x)
         trip, b = _assemble(net, co, h, modes, eff)
@@ -568,6 +572,7 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float = 1e-6,
                             "mode (a header may have no way to close its balance)",
                             time.perf_counter() - t0)
         new_modes, exhausted = _update_modes(net, x_new, modes, eff, tol_mode)
+        recent = (recent + [{(e[0], e[1]) for e in exhausted}])[-_PERSIST:]
         h_new, cold = _mix(net, co, x_new, h)
         dh = max((abs(a - bb) for a, bb in zip(h_new, h)), default=0.0)
         dx = float(np.max(np.abs(x_new - x))) if x is not None else INF
@@ -603,14 +608,20 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float = 1e-6,
     else:
         msg = (f"not converged after {max_iter} iterations (last enthalpy change "
                f"{dh:.3g} J/kg, flow change {dx:.3g} kg/s)")
-        # A deaerator that would need negative steam or make-up keeps the iteration
-        # from settling (its header then carries next to nothing); that, not the
-        # iteration, is what the user must hear about.
-        da = [f for f in _derived_findings(net, co, x, tol_mode)
-              if f["side"] == "deaerator"]
-        if da:
-            return Solution(net, x, h, co, modes, it, "infeasible", da,
-                            "; ".join(f["message"] for f in da) + f" ({msg}; the "
+        # A case that cannot balance can keep the iteration from settling: a deaerator
+        # that would need negative steam or make-up, or headers whose sequence stays
+        # exhausted (their negative flows starve the headers around them). That, not
+        # the iteration, is what the user must hear about.
+        found = [f for f in _derived_findings(net, co, x, tol_mode)
+                 if f["side"] == "deaerator"]
+        if len(recent) == _PERSIST:
+            keep = set.intersection(*recent)
+            found += _exhausted_findings(
+                net, [e for e in exhausted if (e[0], e[1]) in keep], modes,
+                _extraction_bounds(net, co, x))
+        if found:
+            return Solution(net, x, h, co, modes, it, "infeasible", found,
+                            "; ".join(f["message"] for f in found) + f" ({msg}; the "
                             "amounts are those of the last iteration)",
                             time.perf_counter() - t0)
         return Solution(net, x, h, co, modes, it, "not_converged", [], msg,
