@@ -15,7 +15,7 @@ from typing import Callable, Iterable
 import numpy as np
 import pandas as pd
 
-from .errors import ModelError, ModelErrors
+from .errors import ModelError
 from .model.model import Model
 from .model.validate import validate_model
 from .solver.balance import Solution, solve_net

@@ -36,6 +36,9 @@ def _solve_one(model, spec, start, tables):
         return solve_model(m, name, start=start, tables=tables)
     except ModelError as exc:      # includes ModelErrors: a bad case, the others go on
         return _empty(_spec_name(spec), "error", str(exc))
+    except Exception as exc:       # a fault of ours: report it on this case, go on
+        return _empty(_spec_name(spec), "error", f"internal error: "
+                      f"{type(exc).__name__}: {exc} (please report this)")
 
 
 def solve_chunk(model, specs: Sequence, tables: bool = False, warm_start: bool = True,

@@ -16,6 +16,8 @@ deep, as real sites are. Each sub-plant has
 * a swing boiler on its top header and, for every lower header, a let-down station in
   automatic mode from the header above it (together these give every header a way to
   close its balance and a path from a steam source);
+* a steam user of at least 1 t/h (a sub-plant without load would carry grams per
+  second against its heat losses);
 * a feedwater supply above the top header's pressure, pumped from the deaerator or
   taken from outside.
 
@@ -70,9 +72,9 @@ _WEIGHTS = {
 
 def min_items(n_headers: int, max_depth: int = 5) -> int:
     """Fewest items :func:`random_model` can build for ``n_headers`` headers: per
-    sub-plant a feedwater supply and a swing boiler, a let-down into every lower header,
-    and the deaerator; with the fewest sub-plants ``max_depth`` allows."""
-    return math.ceil(n_headers / max_depth) + n_headers + 1
+    sub-plant a feedwater supply, a swing boiler and a steam user, a let-down into every
+    lower header, and the deaerator; with the fewest sub-plants ``max_depth`` allows."""
+    return 2 * math.ceil(n_headers / max_depth) + n_headers + 1
 
 
 # ------------------------------------------------------------------- text of values
@@ -90,6 +92,11 @@ def _th(x: float) -> str:
 
 def _degc(x: float) -> str:
     return f"{x:.1f} degC"
+
+
+def _t_h(text: str | None, default: float = 0.0) -> float:
+    """The number of a flow written by :func:`_th`."""
+    return default if text is None else float(text.split()[0])
 
 
 def _pct(x: float) -> str:
@@ -166,11 +173,27 @@ class _Builder:
         item["priority"] = prio
 
     def finish_shares(self) -> None:
+        """Shares for every group of equal priority; where the members' minimum and
+        maximum flows leave the group no range at those shares, drop the minima."""
         for groups in self.swing.values():
             for members in groups.values():
-                if len(members) > 1:
+                if len(members) < 2:
+                    continue
+                shares = [self.rng.uniform(0.1, 0.9) for _ in members]
+                for it, sh in zip(members, shares):
+                    it["share"] = _pct(sh)
+                total = sum(float(it["share"].split()[0]) for it in members)
+                lo_g, hi_g = 0.0, math.inf
+                for it in members:
+                    w = float(it["share"].split()[0]) / total
+                    lo_key, hi_key = ("min_steam", "max_steam") if "min_steam" in it or \
+                        "max_steam" in it else ("min_flow", "max_flow")
+                    lo_g = max(lo_g, _t_h(it.get(lo_key)) / w)
+                    hi_g = min(hi_g, _t_h(it.get(hi_key), math.inf) / w)
+                if lo_g > hi_g * (1 - 1e-6):
                     for it in members:
-                        it["share"] = _pct(self.rng.uniform(0.1, 0.9))
+                        it.pop("min_steam", None)
+                        it.pop("min_flow", None)
 
     def sub_demand(self, sub: int) -> float:
         return max(1.0, self.subs[sub].demand)
@@ -223,7 +246,8 @@ def _partition(rng: random.Random, n: int, max_depth: int, max_subs: int) -> lis
 # ---------------------------------------------------------------------------- build
 def random_model(seed: int, n_headers: int = 4, n_items: int | None = None, *,
                  n_cases: int | None = None, max_depth: int = 5,
-                 deaerator: bool | None = None, slack: float | None = None) -> dict:
+                 deaerator: bool | None = None, slack: float | None = None,
+                 vent_every_header: bool = False) -> dict:
     """A random, valid plant model as a TOML-ready dict.
 
     Parameters
@@ -246,6 +270,10 @@ def random_model(seed: int, n_headers: int = 4, n_items: int | None = None, *,
         Capacity margin: limits are drawn around ``slack`` times the estimated demand.
         Below about 1.2 many cases are infeasible; above 2 few are. Default: drawn
         from 0.8 to 3.
+    vent_every_header : bool
+        Give every header a vent without a capacity limit (counted in ``n_items``), so
+        that no header can have steam in excess: large networks then balance more
+        often, since one infeasible sub-plant makes the whole case infeasible.
 
     Raises
     ------
@@ -264,8 +292,13 @@ def random_model(seed: int, n_headers: int = 4, n_items: int | None = None, *,
                          f" = {min_items(n_headers, max_depth)}")
     has_da = rng.random() < 0.85 if deaerator is None else deaerator
     sizes = _partition(rng, n_headers, max_depth,
-                       max_subs=n_items - n_headers - (1 if has_da else 0))
-    need = len(sizes) + n_headers + (1 if has_da else 0)
+                       max_subs=(n_items - n_headers - (1 if has_da else 0)) // 2)
+    need = 2 * len(sizes) + n_headers + (1 if has_da else 0)
+    if vent_every_header:
+        need += n_headers
+        if n_items < need:
+            raise ValueError(f"n_items={n_items}: a vent on every header needs at least "
+                             f"{need} items here")
     p_atm = rng.choice([1.01325, 1.01325, 1.01325, rng.uniform(0.8, 1.03)]) * _BAR
     b = _Builder(rng=rng, p_atm=p_atm,
                  slack=rng.uniform(0.8, 3.0) if slack is None else slack)
@@ -283,10 +316,17 @@ def random_model(seed: int, n_headers: int = 4, n_items: int | None = None, *,
     _water_supplies(b, counts.pop("water_supply"))
     if has_da:
         _deaerator(b)
+    for sub in b.subs:        # every sub-plant has a load: a plant of no users
+        _user(b, sub)         # carries grams per second against its heat losses
     for _ in range(counts.pop("user")):
         _user(b)
     _size(b)
     _essentials(b)
+    if vent_every_header:
+        for h in b.by_name.values():
+            vent = {"name": b.name("V"), "header": h.name}
+            b.absorber_priority(h.name, vent)
+            b.add("vent", vent)
     for kind, n in counts.items():
         for _ in range(n):
             _GENERATORS[kind](b)
@@ -366,8 +406,8 @@ def _deaerator(b: _Builder) -> None:
                         "vent_fraction": _pct(b.rng.uniform(0, 0.005))})
 
 
-def _user(b: _Builder) -> None:
-    sub = b.rng.choice(b.subs)
+def _user(b: _Builder, essential: _Sub | None = None) -> None:
+    sub = essential or b.rng.choice(b.subs)
     h = b.rng.choice(sub.headers)
     item = {"name": b.name("U"), "header": h.name}
     if b.rng.random() < 0.2:
@@ -375,12 +415,12 @@ def _user(b: _Builder) -> None:
         item["duty"] = f"{_g(mw)} MW"
         flow = mw * 3.6 / 2.1          # t/h, a latent heat of about 2.1 MJ/kg
     else:
-        flow = b.rng.uniform(0.3, 40)
+        flow = b.rng.uniform(1.0 if essential else 0.3, 40)
         item["demand"] = _th(flow)
     if b.has_da and b.rng.random() < 0.5:
         item["condensate_return"] = _pct(b.rng.uniform(0.2, 0.95))
         item["condensate_temperature"] = _degc(b.rng.uniform(50, 115))
-    if b.rng.random() < 0.05:
+    if essential is None and b.rng.random() < 0.05:
         item["in_service"] = False
     else:
         sub.demand += flow
@@ -678,8 +718,8 @@ def _cases(b: _Builder, n: int) -> None:
                 continue
             key = f"{table}.{name}.{fld}"
             if table == "user":
-                changes[key] = (_th(rng.uniform(0, 45)) if fld == "demand"
-                                else f"{_g(rng.uniform(0, 15))} MW")
+                changes[key] = (_th(rng.uniform(0.3, 45)) if fld == "demand"
+                                else f"{_g(rng.uniform(0.2, 15))} MW")
             elif table in ("turbine", "extraction_turbine"):
                 changes[key] = "tripped"
             elif table == "boiler":

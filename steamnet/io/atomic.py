@@ -69,4 +69,8 @@ def _set_mode(tmp: Path, target: Path) -> None:
 def write_atomic(target: str | Path, writer: Callable[[Path], None], suffix: str = "") -> None:
     """Call ``writer(tmp_path)`` and move the result over ``target``."""
     with atomic_path(target, suffix) as tmp:
-        writer(tmp)
+        try:
+            writer(tmp)
+        except OSError as exc:       # disk full, permissions, ...: not an internal error
+            raise OutputError(f"{target}: cannot write ({exc.strerror or exc}); the "
+                              "previous file, if any, is unchanged") from None

@@ -292,7 +292,16 @@ def loads_model(text: str | bytes, *, source: str = "<model>") -> Model:
             from None
     except tomllib.TOMLDecodeError as exc:
         raise ModelErrors([ModelError(f"not valid TOML: {exc}", file=source)]) from None
-    return _build(doc, source=source, sha256=sha)
+    except ValueError as exc:   # e.g. an integer of more than 4300 digits
+        raise ModelErrors([ModelError(f"not valid TOML: {exc}", file=source)]) from None
+    except RecursionError:
+        raise ModelErrors([ModelError("not valid TOML: arrays or tables nested too "
+                                      "deeply", file=source)]) from None
+    try:
+        return _build(doc, source=source, sha256=sha)
+    except RecursionError:
+        raise ModelErrors([ModelError("values nested too deeply to be a model",
+                                      file=source)]) from None
 
 
 def load_model(path: str | Path) -> Model:

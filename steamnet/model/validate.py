@@ -6,6 +6,7 @@ collected and raised together as :class:`ModelErrors`.
 
 from __future__ import annotations
 
+import math
 from collections import defaultdict
 
 import networkx as nx
@@ -107,6 +108,18 @@ def validate_model(model: Model) -> None:
                     f"heating-steam header '{da.header}'")
         if not (props.P_MIN < da.pressure < props.P_CRIT):
             err("deaerator", n, "pressure", "outside IAPWS-IF97 saturation range")
+    mk_p = (next(iter(deaerators.values())).pressure if deaerators
+            else model.site.atmospheric_pressure)
+    t_mk = model.site.makeup_temperature
+    try:
+        if not (props.T_MIN < t_mk < props.t_sat(mk_p)):
+            errs.append(ModelError(
+                f"{t_mk - 273.15:.6g} degC is not a temperature of liquid make-up water "
+                f"(above 0 degC, below saturation {props.t_sat(mk_p) - 273.15:.1f} degC "
+                "at the deaerator)", file=src, item=f"{case}site",
+                field="makeup_temperature"))
+    except PropertyRangeError:
+        pass       # the deaerator pressure is reported below
     # ------------------------------------------------------------- water supplies
     for n, ws in supplies.items():
         if ws.source == "deaerator" and not deaerators:
@@ -183,6 +196,7 @@ def validate_model(model: Model) -> None:
                     "is not below the last extraction")
             if not props.P_MIN < t.condenser_pressure < props.P_CRIT:
                 err("extraction_turbine", n, "condenser_pressure", "outside IAPWS-IF97")
+        _check_liquid_temperature(err, "extraction_turbine", n, t.condensate_temperature)
         if t.exhaust is None and t.condensate_return > 0 and not deaerators:
             # only a condensing exhaust returns condensate (a backpressure exhaust
             # goes to its header as steam)
@@ -207,8 +221,16 @@ def validate_model(model: Model) -> None:
                         err("letdown", n, "desuperheater.outlet_temperature",
                             f"setpoint {d.outlet_temperature - 273.15:.1f} degC is at or "
                             f"below saturation at the outlet ({ts - 273.15:.1f} degC)")
+                    else:
+                        props.state_pt(p(s.outlet), d.outlet_temperature)
                 except PropertyRangeError as exc:
                     err("letdown", n, "desuperheater.outlet_temperature", str(exc))
+            if b and d.approach is not None:
+                try:
+                    props.state_pt(p(s.outlet), props.t_sat(p(s.outlet)) + d.approach)
+                except PropertyRangeError as exc:
+                    err("letdown", n, "desuperheater.approach", f"the setpoint is not "
+                        f"a state of steam: {exc}")
         if s.mode == "fixed_flow" and s.max_flow is not None and s.flow > s.max_flow:
             err("letdown", n, "flow", "fixed flow is above max_flow")
     # ---------------------------------------------------------------- users, vents
@@ -217,8 +239,7 @@ def validate_model(model: Model) -> None:
         if u.condensate_return > 0 and not deaerators:
             err("user", n, "condensate_return", "condensate is returned but the model "
                 "has no deaerator")
-        if u.condensate_temperature is not None and u.condensate_temperature > 647.0:
-            err("user", n, "condensate_temperature", "not a liquid temperature")
+        _check_liquid_temperature(err, "user", n, u.condensate_temperature)
     for n, v in model.table("vent").items():
         need_header("vent", n, "header", v.header)
     if errs:
@@ -227,6 +248,13 @@ def validate_model(model: Model) -> None:
     _check_reachability(model, errs, case)
     if errs:
         raise ModelErrors(errs)
+
+
+def _check_liquid_temperature(err, table, name, t) -> None:
+    """A returned condensate temperature must be one of liquid water."""
+    if t is not None and not (props.T_MIN < t < props.T_CRIT - 1):
+        err(table, name, "condensate_temperature", f"{t - 273.15:.6g} degC is not a "
+            f"temperature of liquid water (0 to {props.T_CRIT - 274.15:.0f} degC)")
 
 
 def _check_superheated(err, table, name, field, p, t) -> None:
@@ -270,6 +298,8 @@ def _check_degrees_of_freedom(model: Model, errs: list, case: str) -> None:
                     f"{names} hold this header at the same priority {prio}: give each a "
                     "'share', or give them different priorities (sequence), so the split "
                     "is defined", file=model.source, item=item, field="priority"))
+            elif len(group) > 1:
+                _check_share_limits(model, errs, item, prio, group)
         by_prio_ab: dict[int, list] = defaultdict(list)
         for table, n, prio in ab.get(h, []):
             by_prio_ab[prio].append((table, n))
@@ -281,6 +311,40 @@ def _check_degrees_of_freedom(model: Model, errs: list, case: str) -> None:
                     "give them "
                     "different priorities", file=model.source, item=item,
                     field="priority"))
+
+
+def _swing_limits(model: Model, table: str, name: str) -> tuple[float, float]:
+    """(minimum, maximum) flow [kg/s] of a swing element while it runs."""
+    if table == "extraction_turbine":
+        turbine, header = name.split("/", 1)
+        e = next(x for x in model.table(table)[turbine].extractions if x.header == header)
+        lo, hi = e.min_flow, e.max_flow
+    else:
+        it = model.table(table)[name]
+        lo, hi = ((it.min_steam, it.max_steam) if table == "boiler"
+                  else (it.min_flow, it.max_flow))
+    return lo, math.inf if hi is None else hi
+
+
+def _check_share_limits(model: Model, errs: list, item: str, prio: int, group) -> None:
+    """Elements sharing load by set fractions run together: the group's flow must let
+    each run within its own minimum and maximum, or no flow of the header can."""
+    total = sum(s for _, _, s in group)
+    need, room = [], []
+    for table, n, share in group:
+        lo, hi = _swing_limits(model, table, n)
+        w = share / total
+        need.append((lo / w, table, n, lo))
+        room.append((hi / w, table, n, hi))
+    lo_g, t_lo, n_lo, v_lo = max(need)
+    hi_g, t_hi, n_hi, v_hi = min(room)
+    if lo_g > hi_g * (1 + 1e-9):
+        errs.append(ModelError(
+            f"the shares at priority {prio} cannot be met within the limits: "
+            f"{ITEM_LABELS[t_lo]} '{n_lo}' at its minimum {v_lo * 3.6:.4g} t/h would need "
+            f"{ITEM_LABELS[t_hi]} '{n_hi}' above its maximum {v_hi * 3.6:.4g} t/h; lower "
+            "a minimum, raise a maximum or change the shares", file=model.source,
+            item=item, field="share"))
 
 
 def _check_reachability(model: Model, errs: list, case: str) -> None:

@@ -38,6 +38,9 @@ _SPARSE_ABOVE = 250
 #: Default convergence tolerance on header enthalpies, relative to the enthalpy [-]:
 #: 1e-10 of about 2.8e6 J/kg is 2.8e-4 J/kg, far inside the 1e-6 closure of a case.
 TOL_H_REL = 1e-10
+#: Iterations a header must stay exhausted on the same side for a case that does not
+#: settle to be reported infeasible on its account.
+_PERSIST = 20
 
 
 class Solution:
@@ -447,19 +450,37 @@ def _update_modes(net: Net, x: np.ndarray, modes, eff, tol: float):
     return new, exhausted
 
 
+def _group_limit_texts(net: Net, g, which: str, eff) -> list[str]:
+    """The limit of each member of a swing group. A member sharing load with others is
+    held by the group's limit, which is its own only for the member that binds; the
+    others are named at their share (not at a maximum of their own, maybe infinite)."""
+    if len(g.members) == 1:
+        return [_limit_text(net, g.members[0], which, eff)]
+    glo, ghi = _group_bounds(net, g, eff)
+    level = ghi if which == "max" else glo
+    out = []
+    for vi, w in zip(g.members, g.weights):
+        lo, hi = eff.get(vi, (net.vars[vi].lo, net.vars[vi].hi))
+        own = (hi if which == "max" else lo) / w
+        if abs(own - level) <= 1e-9 * max(1.0, abs(level)):
+            out.append(_limit_text(net, vi, which, eff))
+        else:
+            out.append(f"{_item_label(net, vi)} at its share {100 * w:.3g} % of the "
+                       f"group, {_fmt_th(level * w)}")
+    return out
+
+
 def _exhausted_findings(net: Net, exhausted, modes, eff) -> list[dict]:
     out = []
     for hi, side, amount in exhausted:
         hs = net.swing[hi]
         name = net.headers[hi]
         if side == "short":
-            limits = [_limit_text(net, vi, "max", eff) for g in hs.groups
-                      for vi in g.members]
+            limits = [t for g in hs.groups for t in _group_limit_texts(net, g, "max", eff)]
             msg = (f"header '{name}' is short of steam by {_fmt_th(amount)}: every "
                    "element that can supply it is at its limit")
         else:
-            limits = [_limit_text(net, vi, "min", eff) for g in hs.groups
-                      for vi in g.members]
+            limits = [t for g in hs.groups for t in _group_limit_texts(net, g, "min", eff)]
             limits += [f"{_item_label(net, vi)} at its capacity "
                        f"{_fmt_th(net.vars[vi].hi)}" for vi in hs.absorbers]
             if not hs.absorbers:
@@ -520,12 +541,13 @@ def _derived_findings(net: Net, co: Coeffs, x: np.ndarray, tol: float) -> list[d
             out.append({"kind": "infeasible", "header": net.headers[t["inlet"]],
                         "side": "turbine", "amount_kg_s": 0.0, "limits": bad,
                         "message": f"extraction turbine '{t['name']}': " + "; ".join(bad)})
-    for u, m in zip(net.users, co.user_flow):
-        if not math.isfinite(m):
+    for u, starved in zip(net.users, co.user_starved):
+        if starved:
             out.append({"kind": "infeasible", "header": net.headers[u["header"]],
                         "side": "user", "amount_kg_s": 0.0, "limits": [],
-                        "message": f"user '{u['name']}': header steam carries no heat "
-                        "above saturated liquid, so its duty cannot be met"})
+                        "message": f"user '{u['name']}': header steam carries (almost) "
+                        "no heat above saturated liquid (under 1 % of the latent heat), so "
+                        "its duty cannot be met"})
     return out
 
 
@@ -562,6 +584,7 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
     co = coefficients(net, h, None)
     it = 0
     relax, r_prev = 1.0, None
+    recent: list[set] = []      # exhausted (header, side) of the last iterations
     for it in range(1, max_iter + 1):
         eff = _extraction_bounds(net, co, x)
         trip, b = _assemble(net, co, h, modes, eff)
@@ -573,6 +596,7 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
                                 [], _singular_message(net, trip), time.perf_counter() - t0)
             modes, x_new = rescued
         new_modes, exhausted = _update_modes(net, x_new, modes, eff, tol_mode)
+        recent = (recent + [{(e[0], e[1]) for e in exhausted}])[-_PERSIST:]
         h_new, cold = _mix(net, co, x_new, h)
         dh = max((abs(a - bb) for a, bb in zip(h_new, h)), default=0.0)
         dx = float(np.max(np.abs(x_new - x))) if x is not None else INF
@@ -602,12 +626,29 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
                 new_modes[first] = _step(modes[first], new_modes[first])
             modes = new_modes
         co = coefficients(net, h, x)
-        if not mode_changed and dh < tol_h and dx < tol_x:
-            break
+        if dh < tol_h and dx < tol_x and (not mode_changed
+                                          or history.get(tuple(modes), 0) > 2):
+            break   # settled; or a header flips between two modes that balance alike
     else:
-        return Solution(net, x, h, co, modes, it, "not_converged", [],
-                        f"not converged after {max_iter} iterations "
-                        f"(last enthalpy change {dh:.3g} J/kg, flow change {dx:.3g} kg/s)",
+        msg = (f"not converged after {max_iter} iterations (last enthalpy change "
+               f"{dh:.3g} J/kg, flow change {dx:.3g} kg/s)")
+        # A case that cannot balance can keep the iteration from settling: a deaerator
+        # that would need negative steam or make-up, or headers whose sequence stays
+        # exhausted (their negative flows starve the headers around them). That, not
+        # the iteration, is what the user must hear about.
+        found = [f for f in _derived_findings(net, co, x, tol_mode)
+                 if f["side"] == "deaerator"]
+        if len(recent) == _PERSIST:
+            keep = set.intersection(*recent)
+            found += _exhausted_findings(
+                net, [e for e in exhausted if (e[0], e[1]) in keep], modes,
+                _extraction_bounds(net, co, x))
+        if found:
+            return Solution(net, x, h, co, modes, it, "infeasible", found,
+                            "; ".join(f["message"] for f in found) + f" ({msg}; the "
+                            "amounts are those of the last iteration)",
+                            time.perf_counter() - t0)
+        return Solution(net, x, h, co, modes, it, "not_converged", [], msg,
                         time.perf_counter() - t0)
     x = np.where(np.abs(x) < 1e-12, 0.0, x)     # no -0.0 or 1e-16 flows in reports
     eff = _extraction_bounds(net, co, x)

@@ -20,6 +20,9 @@ from ..errors import PropertyRangeError
 INF = math.inf
 #: Added to a vent's priority so that every vent ranks after every swing export.
 VENT_RANK = 1000
+#: Least enthalpy above saturated liquid a duty-based user is computed with, as a
+#: fraction of the header's latent heat [-]
+USER_DH_FLOOR = 0.01
 
 
 class CaseInfeasible(Exception):
@@ -329,6 +332,9 @@ class Coeffs:
     xturb: list[dict]
     ld: list[dict]
     user_flow: list[float]
+    #: users whose header carries (almost) no heat above saturated liquid: their flow
+    #: is computed with a floor on the enthalpy difference, and the case is infeasible
+    user_starved: list[bool] = field(default_factory=list)
 
 
 def expansion(item: str, p_in: float, h_in: float, p_out: float, eta: float) -> dict:
@@ -392,12 +398,17 @@ def coefficients(net: Net, h: list[float], x: list[float] | None) -> Coeffs:
         else:
             ld.append({"r": 0.0, "h_out": h_in, "reachable": h_in >= h_set - 1e-6,
                        "h_w": h_w})
-    uf = []
+    uf, starved = [], []
     for u in net.users:
         if u["demand"] is not None:
             uf.append(u["demand"])
+            starved.append(False)
         else:
             hi = u["header"]
             dh = h[hi] - net.sat[hi].hf
-            uf.append(u["duty"] / dh if dh > 0 else math.inf)
-    return Coeffs(turb=turb, xturb=xturb, ld=ld, user_flow=uf)
+            # floor: 1 % of the latent heat, so that a header that is (for an
+            # iteration, or for good) condensed gives a finite, reported flow
+            floor = USER_DH_FLOOR * net.sat[hi].hfg
+            uf.append(u["duty"] / max(dh, floor))
+            starved.append(dh <= floor)
+    return Coeffs(turb=turb, xturb=xturb, ld=ld, user_flow=uf, user_starved=starved)
