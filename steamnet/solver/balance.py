@@ -351,7 +351,12 @@ def _initial_h(net: Net) -> list[float]:
 # -------------------------------------------------------------- extraction limits
 def _extraction_bounds(net: Net, co: Coeffs, x: np.ndarray | None) -> dict:
     """Effective range of each swing extraction flow given the other extractions of
-    its turbine, so that the throttle and exhaust flows stay within their limits."""
+    its turbine, so that the throttle and exhaust flows stay within their limits.
+
+    When the turbine's joint limits (throttle maximum, exhaust minimum) bind, the
+    extractions are served in their order in the model file, highest pressure first:
+    extraction i counts the ones before it at their present flow and the ones after it
+    at their minimum, so the split of the turbine's capacity is defined."""
     eff: dict[int, tuple[float, float]] = {}
     if x is None:
         return eff
@@ -363,16 +368,18 @@ def _extraction_bounds(net: Net, co: Coeffs, x: np.ndarray | None) -> dict:
             if e["mode"] != "swing":
                 continue
             others = [(j, o) for j, o in enumerate(t["exts"]) if j != i]
+            val = {j: (x[o["var"]] if (j < i or o["mode"] == "fixed") else o["lo"])
+                   for j, o in others}
             lo, hi = e["lo"], e["hi"]
             after_i = sum(dh[i + 1:])
             if t["mode"] == "fixed_power":
-                base = it.power / t["eta_mg"] + sum(x[o["var"]] * sum(dh[j + 1:])
+                base = it.power / t["eta_mg"] + sum(val[j] * sum(dh[j + 1:])
                                                     for j, o in others)
                 # throttle s1 = (base + e after_i) / tot ; exhaust = s1 - e - sum others
                 a_s1, b_s1 = after_i / tot, base / tot
             else:
                 a_s1, b_s1 = 0.0, it.flow
-            s_oth = sum(x[o["var"]] for _, o in others)
+            s_oth = sum(val[j] for j, _ in others)
             a_ex, b_ex = a_s1 - 1.0, b_s1 - s_oth
             cons = [(a_s1, b_s1, it.min_flow, INF if it.max_flow is None else it.max_flow),
                     (a_ex, b_ex, it.min_exhaust_flow,
