@@ -161,3 +161,24 @@ def test_demo_reported_headroom_keeps_every_limit_and_0_2_more_binds(demo):
         lims = {n: (v, lim, up) for n, v, lim, up in limit_values(m_more, more)}
         v, lim, up = lims[named]
         assert (v >= lim - TOL) if up else (v <= lim + TOL), (r.case, r.header, named, v)
+
+
+def test_balance_headroom_is_where_the_balance_fails():
+    """balance_headroom_t_h: the case still balances with that much added, and fails
+    with one accuracy step more (the sequences have run out)."""
+    import steamnet as _sn
+    from steamnet.studies.headroom import header_headroom as _hh
+    from steamnet.studies.common import with_user as _wu
+    from conftest import DEMO as _DEMO
+    m = _sn.load_model(_DEMO)
+    df = _hh(m, ["winter"], headers=["LLP"])
+    row = df.iloc[0]
+    assert row["balance_headroom_t_h"] >= row["headroom_t_h"]
+    mw = m.for_case("winter")
+    ok = _sn.solve_case(_wu(mw, "LLP", demand=row["balance_headroom_t_h"] / 3.6,
+                            name="probe", condensate_return=0.0,
+                            condensate_temperature=None, origin="test"))
+    bad = _sn.solve_case(_wu(mw, "LLP", demand=(row["balance_headroom_t_h"] + 0.2) / 3.6,
+                             name="probe", condensate_return=0.0,
+                             condensate_temperature=None, origin="test"))
+    assert ok.status == "solved" and bad.status == "infeasible"

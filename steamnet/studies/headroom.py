@@ -21,7 +21,10 @@ has none left (see :mod:`steamnet.studies.limits`):
 
 A swing element reaching its limit counts even when the next element of the header's
 sequence takes over: the answer is the first limit met, which is what an engineer sizing
-a new consumer asks for. The headroom is the largest ``d`` at which nothing binds,
+a new consumer asks for. Beside it, ``balance_headroom_t_h`` is the largest added demand
+at which the case still balances at all (the sequences taking over), found by bisection
+between the first binding limit and the cap, with the message of the balance that fails
+just above it. The headroom is the largest ``d`` at which nothing binds,
 found by bracketing and bisection on ``d``:
 
 1. balance the case, then the case with 1 t/h added (warm starts from the case);
@@ -67,8 +70,8 @@ _MAX_SOLVES = 60
 HEADROOM_COLUMNS = [
     "case", "header", "p_barg", "status", "condensate_return_percent", "headroom_t_h",
     "binding_table", "binding_item", "binding_kind", "binding_limit_t_h",
-    "binding_message", "capped", "exceeded_in_case", "max_added_t_h", "accuracy_t_h",
-    "solves",
+    "binding_message", "balance_headroom_t_h", "balance_limit_message", "capped",
+    "exceeded_in_case", "max_added_t_h", "accuracy_t_h", "solves",
 ]
 
 
@@ -176,6 +179,34 @@ def _limit_of(lo: _Point, hi: _Point) -> tuple[str, str, str, float, str]:
     return ("", "", r.status, math.nan, r.message)
 
 
+def _balance_limit(evaluate, lo: float, hi, cap: float, acc: float):
+    """Largest added demand at which the case still balances (the next element of a
+    sequence taking over when one reaches its limit), by bisection from the first
+    binding limit ``lo`` up to the cap; returns (demand [kg/s], message of the
+    balance that fails just above it, solves)."""
+    n = 0
+    a = lo
+    b = None
+    top = evaluate(cap)
+    n += 1
+    if top.result.status == "solved":
+        return cap, f"balances up to the cap {cap * TH:.1f} t/h", n
+    b, b_msg = cap, top.result.message
+    while b - a > acc:
+        mid = math.floor((a + b) / 2 / acc) * acc
+        if mid <= a:
+            mid = a + acc
+        if mid >= b:
+            break
+        p = evaluate(mid)
+        n += 1
+        if p.result.status == "solved":
+            a = mid
+        else:
+            b, b_msg = mid, p.result.message
+    return a, f"with {b * TH:.1f} t/h added: {b_msg}", n
+
+
 def header_headroom(model: Model, cases: CaseSet | list[str] | str | None = None, *,
                     headers: list[str] | None = None, condensate_return=0.0,
                     condensate_temperature=None, max_added=DEFAULT_MAX_ADDED,
@@ -251,7 +282,10 @@ def header_headroom(model: Model, cases: CaseSet | list[str] | str | None = None
 
             lo, hi, n = _search(evaluate, cap, acc)
             row["headroom_t_h"] = round(lo.d * TH, 9)
-            row["solves"] = n
+            bal, bal_msg, n2 = _balance_limit(evaluate, lo.d, hi, cap, acc)
+            row["balance_headroom_t_h"] = round(bal * TH, 9)
+            row["balance_limit_message"] = bal_msg
+            row["solves"] = n + n2
             if hi is None:
                 row.update(capped=True, binding_kind="none below the cap",
                            binding_message=f"no limit binds up to {cap * TH:.1f} t/h added")
