@@ -219,6 +219,18 @@ class Model:
         raw["_prices"] = {"prices": prices_raw}
         return replace(self, site=site, prices=prices, items=items, raw=raw)
 
+    def with_values(self, changes: dict[str, Any], *,
+                    origin: str = "changes") -> "Model":
+        """:meth:`with_changes`, sharing this model's network graph when every change is
+        to a field the graph does not depend on (``steamnet.graph.GRAPH_FREE_FIELDS``:
+        demands, duties, make-up temperature, heat losses, prices ...), as in the cases
+        of an hourly profile. The result is the same model; only the graph is not built
+        again."""
+        new = self.with_changes(changes, origin=origin)
+        if new is not self and "graph" in self.__dict__ and graph_free(changes):
+            new.__dict__["graph"] = self.__dict__["graph"]   # the cached_property's slot
+        return new
+
     def with_item(self, table: str, data: dict, *, origin: str = "added item") -> "Model":
         """A copy with one more item (as written in a model file)."""
         if table not in EQUIPMENT_TABLES:
@@ -235,6 +247,19 @@ class Model:
         items = {t: dict(v) for t, v in self.items.items()}
         items.setdefault(table, {})[name] = item
         return replace(self, items=items, raw=raw)
+
+
+def graph_free(changes: dict[str, Any]) -> bool:
+    """Whether no change of ``changes`` (``'table.item.field'`` or ``'site.field'``
+    keys) touches a field the network graph depends on."""
+    from ..graph import GRAPH_FREE_FIELDS
+    for key in changes:
+        parts = str(key).split(".")
+        table, fld = parts[0], parts[-1]
+        if len(parts) != (2 if table in ("site", "prices") else 3) \
+                or fld not in GRAPH_FREE_FIELDS.get(table, ()):
+            return False
+    return True
 
 
 def _set_path(target: dict, path: list[str], value: Any, *, key: str, file: str,
