@@ -261,3 +261,33 @@ def test_worker_property_counts_reach_the_caller(demo):
     props.reset_stats()
     steamnet.solve_cases(demo, _hours(48), tables=False, workers=2)
     assert props.stats()["evaluations"] > 0      # this process evaluated nothing itself
+
+
+# ------------------------------------------------------------- tables and parsing
+def test_check_table_built_by_columns_equals_the_records(demo):
+    """run_checks builds its table column by column; the frame is the one pandas makes
+    from one record per row."""
+    import pandas as pd
+    from steamnet.stations import run
+    from steamnet.stations.checks import check_point
+    study = steamnet.solve_cases(demo, _hours(30), tables=False)
+    data = run.station_data(demo)
+    rows = [r for c in study.cases for p in run.station_points(c)
+            for r in check_point(data[p.station], p)]
+    records = pd.DataFrame([{**{k: getattr(r, k) for k in run.CHECK_COLUMNS},
+                             "status": run.Status(r.status).value} for r in rows],
+                           columns=run.CHECK_COLUMNS)
+    pd.testing.assert_frame_equal(run._check_frame(rows), records)
+    assert run._check_frame([]).equals(pd.DataFrame([], columns=run.CHECK_COLUMNS))
+
+
+def test_remembered_quantity_texts_still_fail_each_time(demo):
+    from steamnet.errors import ModelErrors
+    winter = demo.for_case("winter")
+    for _ in range(2):
+        with pytest.raises(ModelErrors, match="unit"):
+            winter.with_changes({"user.LP tracing.demand": "3 bananas"})
+    a = winter.with_changes({"user.LP tracing.demand": "3 t/h"})
+    b = winter.with_changes({"user.LP tracing.demand": "3 t/h"})
+    assert a.table("user")["LP tracing"].demand == b.table("user")["LP tracing"].demand \
+        == pytest.approx(3 / 3.6, rel=1e-15)
