@@ -11,6 +11,7 @@ from __future__ import annotations
 from concurrent.futures import ProcessPoolExecutor
 from typing import Callable, Sequence
 
+from ._gc import young_collections_only
 from .errors import ModelError, ModelErrors
 
 __all__ = ["run_sweep", "CHUNK"]
@@ -144,8 +145,15 @@ def run_sweep(model, specs: Sequence, *, workers: int = 1, scheduler: str | None
     back (each result keeps its tables, summary and station operating points); the
     property statistics of the workers are added to this process's
     (:func:`steamnet.properties.stats`)."""
+    with young_collections_only():
+        return _run_sweep(model, list(specs), workers=workers, scheduler=scheduler,
+                          tables=tables, progress=progress, warm_start=warm_start,
+                          chunk=chunk, reference=reference)
+
+
+def _run_sweep(model, specs: list, *, workers, scheduler, tables, progress, warm_start,
+               chunk, reference) -> list:
     from . import properties as props
-    specs = list(specs)
     chunks = [specs[i:i + chunk] for i in range(0, len(specs), chunk)]
     total = len(specs)
     done = 0

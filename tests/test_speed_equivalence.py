@@ -291,3 +291,15 @@ def test_remembered_quantity_texts_still_fail_each_time(demo):
     b = winter.with_changes({"user.LP tracing.demand": "3 t/h"})
     assert a.table("user")["LP tracing"].demand == b.table("user")["LP tracing"].demand \
         == pytest.approx(3 / 3.6, rel=1e-15)
+
+
+def test_full_collections_paused_only_inside_the_scope():
+    import gc
+    from steamnet._gc import young_collections_only
+    before = gc.get_threshold()
+    with pytest.raises(KeyError):
+        with young_collections_only():
+            assert gc.get_threshold()[:2] == before[:2]
+            assert gc.get_threshold()[2] > 10**8
+            raise KeyError("inside")
+    assert gc.get_threshold() == before

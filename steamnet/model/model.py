@@ -187,7 +187,7 @@ class Model:
                                  f"(known: {known})", file=self.source, item=origin,
                                  field=str(key))
             if (table, item) not in touched:
-                raw[table][item] = copy.deepcopy(raw[table][item])
+                raw[table][item] = _copy_raw(raw[table][item])
                 touched.add((table, item))
             _set_path(raw[table][item], path, value, key=str(key), file=self.source,
                       origin=origin)
@@ -247,6 +247,19 @@ class Model:
         items = {t: dict(v) for t, v in self.items.items()}
         items.setdefault(table, {})[name] = item
         return replace(self, items=items, raw=raw)
+
+
+_ATOMS = (str, int, float, bool, type(None))
+
+
+def _copy_raw(node: Any) -> Any:
+    """A deep copy of an item as read from TOML (tables, arrays and scalars), as
+    copy.deepcopy makes, without its bookkeeping; anything else goes to deepcopy."""
+    if isinstance(node, dict):
+        return {k: v if type(v) in _ATOMS else _copy_raw(v) for k, v in node.items()}
+    if isinstance(node, list):
+        return [v if type(v) in _ATOMS else _copy_raw(v) for v in node]
+    return copy.deepcopy(node)
 
 
 def graph_free(changes: dict[str, Any]) -> bool:

@@ -180,7 +180,8 @@ class Plan:
         self.fwm_pos = np.array([p for k, p, _ in fw if k == "fw_mass"], dtype=int)
         self.fwm_ld = np.array([j for k, _, j in fw if k == "fw_mass"], dtype=int)
         self.fwe_pos = np.array([p for k, p, _ in fw if k == "fw_energy"], dtype=int)
-        self.fwe_ld = np.array([j for k, _, j in fw if k == "fw_energy"], dtype=int)
+        # (the energy row draws the same let-downs' spray, in the same order)
+        self.out_ld_l, self.fw_ld_l = self.out_ld.tolist(), self.fwm_ld.tolist()
         self.h_da_pos = slots.get(("h_da",), [None])[0]
         self.h_mk_pos = slots.get(("h_mk",), [None])[0]
 
@@ -227,7 +228,7 @@ class Plan:
         self.row_tail = self.row_mode + self.n_mode_rows
         r, c, v, slots = _flat(rows, self.row_tail)
         self.t_r, self.t_c, self.t_v = _arrays(r, c, v)
-        self.t_rhs = np.array(rhs, dtype=float)
+        self.t_rhs = rhs
         self.n_tail = len(rows)
         # extraction turbine at fixed power: sum_k sigma_k dh_k = shaft power; the
         # coefficient of the throttle flow is sum(dh), of extraction i -sum(dh[i+1:])
@@ -264,94 +265,99 @@ class Plan:
                 rhs.append(net.vars[vi].hi if kind == "absorb" and ai < k else 0.0)
         r, c, v, _ = _flat(rows, self.row_mode)
         m_r, m_c, m_v = _arrays(r, c, v)
-        got = (m_r, m_c, m_v, np.array(rhs, dtype=float), levels, len(rows),
-               self._template(m_r, m_c, m_v))
+        got = (m_r, m_c, m_v, rhs, levels, len(rows), self._template(m_r, m_c, m_v))
         if len(self.modes) >= _MODE_CACHE:
             self.modes.clear()
         self.modes[key] = got
         return got
 
     # ---------------------------------------------------------------------- assembly
-    def _values(self, net, co, h, modes, eff):
-        """The values of one iteration: static entries (spray drawn while not spraying
-        set to 0.0 and marked in ``keep``), mode rows, tail entries and right-hand
-        side."""
+    def _mode(self, net, modes):
         mode = self._mode_rows(net, modes)
         n_eq = self.row_mode + mode[5] + self.n_tail
         if n_eq != self.n:
             raise RuntimeError(f"balance system is not square: {n_eq} equations for "
                                f"{self.n} flows (model validation should have caught "
                                "this)")
-        s_v = self.s_v.copy()
-        keep = None
-        if len(co.ld):
-            r_ld = np.array([c["r"] for c in co.ld], dtype=float)
-            s_v[self.out_pos] = 1.0 + r_ld[self.out_ld]
-            if len(self.fwm_pos):
-                s_v[self.fwm_pos] = self.k_fw_mass * r_ld[self.fwm_ld]
-                s_v[self.fwe_pos] = self.k_fw_energy * r_ld[self.fwe_ld]
-                spray = r_ld[self.fwm_ld] > 0           # drawn only while spraying
-                if not spray.all():
-                    keep = np.ones(len(s_v), dtype=bool)
-                    keep[self.fwm_pos[~spray]] = False
-                    keep[self.fwe_pos[~spray]] = False
-                    s_v[~keep] = 0.0
+        return mode
+
+    def _moving(self, net, co, h):
+        """Values of the moving entries, in the order of ``s_dyn`` then ``t_dyn`` (spray
+        drawn from the deaerator while not spraying as 0.0), and whether each let-down
+        supplied by the deaerator sprays. Plain floats: the same operations as the
+        reference assembly."""
+        r = [c["r"] for c in co.ld]
+        vals = [1.0 + r[j] for j in self.out_ld_l]
+        spray = [r[j] > 0 for j in self.fw_ld_l]          # drawn only while spraying
+        vals += [self.k_fw_mass * r[j] if on else 0.0 for j, on in zip(self.fw_ld_l, spray)]
+        vals += [self.k_fw_energy * r[j] if on else 0.0
+                 for j, on in zip(self.fw_ld_l, spray)]
         if self.h_da_pos is not None:
-            s_v[self.h_da_pos] = h[self.da_header]
-            s_v[self.h_mk_pos] = net.makeup_h
-        const = [0.0] * self.nh
+            vals += [h[self.da_header], net.makeup_h]
+        for _, k, i in self.t_dh:
+            dh = co.xturb[k]["dh"]
+            vals.append(sum(dh) if i == 0 else -sum(dh[i:]))
+        return vals, spray
+
+    def _rhs(self, net, co, eff, mode) -> np.ndarray:
+        """Right-hand side: user flows per header, the deaerator's returns, the mode
+        rows (group levels at this iteration's limits) and the tail."""
+        b = [0.0] * self.nh
         for u, m in zip(net.users, co.user_flow):
-            const[u["header"]] += m
+            b[u["header"]] += m
         if self.h_da_pos is not None:
             r_mass = r_energy = 0.0
             for u, m in zip(net.users, co.user_flow):
                 if u["ret"] > 0:
                     r_mass -= u["ret"] * m
                     r_energy -= u["ret"] * m * u["h_ret"]
-            const += [r_mass, r_energy]
+            b += [r_mass, r_energy]
         m_rhs = mode[3]
         if mode[4]:
-            m_rhs = m_rhs.copy()
+            m_rhs = list(m_rhs)
             for pos, g, w, upper in mode[4]:
                 glo, ghi = group_bounds(net, g, eff)
                 m_rhs[pos] = w * (ghi if upper else glo)
-        t_v, t_rhs = self.t_v, self.t_rhs
-        if self.t_dh:
-            t_v = t_v.copy()
-            for pos, k, i in self.t_dh:
-                dh = co.xturb[k]["dh"]
-                t_v[pos] = sum(dh) if i == 0 else -sum(dh[i:])
+        t_rhs = self.t_rhs
         if self.t_flow:
-            t_rhs = t_rhs.copy()
+            t_rhs = list(t_rhs)
             for row, k in self.t_flow:
                 t_rhs[row] = co.turb[k]["flow"]
-        b = np.concatenate([np.array(const, dtype=float), m_rhs, t_rhs])
-        return mode, s_v, keep, t_v, b
+        return np.array(b + m_rhs + t_rhs, dtype=float)
 
     def assemble(self, net, co, h, modes, eff):
         """Triplets (rows, cols, values) and right-hand side of one iteration: the
         same arrays as ``balance._assemble(net, co, h, modes, eff)``."""
-        mode, s_v, keep, t_v, b = self._values(net, co, h, modes, eff)
+        mode = self._mode(net, modes)
+        vals, spray = self._moving(net, co, h)
+        s_v, t_v = self.s_v.copy(), self.t_v.copy()
+        s_v[self.s_dyn] = vals[:len(self.s_dyn)]
+        t_v[self.t_dyn] = vals[len(self.s_dyn):]
         s_r, s_c = self.s_r, self.s_c
-        if keep is not None:
+        if not all(spray):
+            keep = np.ones(len(s_v), dtype=bool)
+            off = ~np.array(spray, dtype=bool)
+            keep[self.fwm_pos[off]] = False
+            keep[self.fwe_pos[off]] = False
             s_r, s_c, s_v = s_r[keep], s_c[keep], s_v[keep]
         return (np.concatenate([s_r, mode[0], self.t_r]),
                 np.concatenate([s_c, mode[1], self.t_c]),
-                np.concatenate([s_v, mode[2], t_v])), b
+                np.concatenate([s_v, mode[2], t_v])), self._rhs(net, co, eff, mode)
 
     def dense(self, net, co, h, modes, eff):
         """Dense matrix and right-hand side of one iteration, equal to the matrix that
         ``balance._linear_solve`` makes from the triplets of :meth:`assemble`; None when
         an entry that moves shares its place with another (the triplets are then summed
         the reference way)."""
-        mode, s_v, keep, t_v, b = self._values(net, co, h, modes, eff)
+        mode = self._mode(net, modes)
         a0 = mode[6]
         if a0 is None:
             return None
+        vals, _ = self._moving(net, co, h)
         a = a0.copy()
         # each moving entry is alone in its place: 0.0 + value, as np.add.at into zeros
-        a.flat[self.dyn_cells] = 0.0 + np.concatenate([s_v[self.s_dyn], t_v[self.t_dyn]])
-        return a, b
+        a.flat[self.dyn_cells] = [0.0 + v for v in vals]
+        return a, self._rhs(net, co, eff, mode)
 
     def _template(self, m_r, m_c, m_v):
         """Dense matrix of the constant entries of one mode (moving ones left 0.0), or

@@ -214,32 +214,37 @@ def _dense_solve(a: np.ndarray, b: np.ndarray) -> np.ndarray | None:
 
 
 # -------------------------------------------------------------------- enthalpy mix
-def header_inflows(net: Net, co: Coeffs, x: np.ndarray):
-    """Per header: list of (source label, flow, enthalpy) entering it."""
-    ins: list[list[tuple[str, float, float]]] = [[] for _ in net.headers]
+def header_inflows(net: Net, co: Coeffs, x: np.ndarray, labels: bool = True):
+    """Per header: list of (source label, flow, enthalpy) entering it (labels None when
+    not asked for, as in the iterations)."""
+    ins: list[list[tuple[str | None, float, float]]] = [[] for _ in net.headers]
     for b in net.boilers:
-        ins[b["header"]].append((f"boiler '{b['name']}'", x[b["var"]], b["h"]))
+        name = b["name"]
+        ins[b["header"]].append((f"boiler '{name}'" if labels else None, x[b["var"]],
+                                 b["h"]))
         if b["flash"] is not None:
             fh = b["flash"]["header"]
             m = x[b["var"]] * b["bd"] / (1 - b["bd"]) * b["flash"]["fraction"]
-            ins[fh].append((f"boiler '{b['name']}' blowdown flash", m, net.sat[fh].hg))
+            ins[fh].append((f"boiler '{name}' blowdown flash" if labels else None, m,
+                            net.sat[fh].hg))
     for t in net.transfers:
         if t["dir"] == "import":
-            ins[t["header"]].append((f"import '{t['name']}'", x[t["var"]], t["h"]))
+            ins[t["header"]].append((f"import '{t['name']}'" if labels else None,
+                                     x[t["var"]], t["h"]))
     for t, c in zip(net.turbines, co.turb):
-        ins[t["outlet"]].append((f"turbine '{t['name']}'", x[t["var"]], c["h_out"]))
+        ins[t["outlet"]].append((f"turbine '{t['name']}'" if labels else None,
+                                 x[t["var"]], c["h_out"]))
     for t, c in zip(net.xturbines, co.xturb):
         rest = x[t["in_var"]]
+        label = f"extraction turbine '{t['name']}'" if labels else None
         for j, e in enumerate(t["exts"]):
-            ins[e["header"]].append((f"extraction turbine '{t['name']}'", x[e["var"]],
-                                     c["h"][j + 1]))
+            ins[e["header"]].append((label, x[e["var"]], c["h"][j + 1]))
             rest -= x[e["var"]]
         if t["exhaust"] is not None:
-            ins[t["exhaust"]].append((f"extraction turbine '{t['name']}' exhaust", rest,
-                                      c["h"][-1]))
+            ins[t["exhaust"]].append((label and label + " exhaust", rest, c["h"][-1]))
     for s, c in zip(net.letdowns, co.ld):
-        ins[s["outlet"]].append((f"letdown '{s['name']}'", x[s["var"]] * (1 + c["r"]),
-                                 c["h_out"]))
+        ins[s["outlet"]].append((f"letdown '{s['name']}'" if labels else None,
+                                 x[s["var"]] * (1 + c["r"]), c["h_out"]))
     return ins
 
 
@@ -256,7 +261,7 @@ def _mix(net: Net, co: Coeffs, x: np.ndarray,
     Negative inflows, which only intermediate iterates have (before the modes settle),
     are left out: they would give enthalpies no state of water has.
     """
-    ins = header_inflows(net, co, x)
+    ins = header_inflows(net, co, x, labels=False)
     out, cold = [], []
     for i, lst in enumerate(ins):
         m = sum(max(f, 0.0) for _, f, _ in lst)
@@ -273,7 +278,7 @@ def _mix(net: Net, co: Coeffs, x: np.ndarray,
 
 def _cold_findings(net: Net, co: Coeffs, x: np.ndarray, cold: list[int]) -> list[dict]:
     out = []
-    ins = header_inflows(net, co, x)
+    ins = header_inflows(net, co, x, labels=False)
     for i in cold:
         name = net.headers[i]
         m = sum(max(f, 0.0) for _, f, _ in ins[i])

@@ -315,11 +315,19 @@ def build(model, like: Net | None = None) -> Net:
                makeup_h=makeup_h, makeup_t=model.site.makeup_temperature)
 
 
-def _users(model, hidx: dict[str, int], p: list[float], da: dict | None) -> list[dict]:
-    """The in-service users: header, demand or duty, condensate returned."""
+def _users(model, hidx: dict[str, int], p: list[float], da: dict | None,
+           like: list[dict] = ()) -> list[dict]:
+    """The in-service users: header, demand or duty, condensate returned. The entry of
+    a user whose item is the very one in ``like`` (users of a Net of the same
+    structure) is taken from there."""
     users = []
+    same = {u["name"]: u for u in like}
     for n, u in model.table("user").items():
         if not getattr(u, "in_service", True):
+            continue
+        old = same.get(n)
+        if old is not None and old["item"] is u:
+            users.append(old)
             continue
         hi = hidx[u.header]
         h_ret = None
@@ -368,7 +376,8 @@ def rebuild(like: Net, model) -> Net:
     :func:`same_structure`): only users, heat losses and make-up water are built; the
     rest is shared with ``like`` (never modified by the solver). Equal to
     ``build(model)``."""
-    return replace(like, model=model, users=_users(model, like.hidx, like.p, like.deaerator),
+    return replace(like, model=model,
+                   users=_users(model, like.hidx, like.p, like.deaerator, like.users),
                    q_loss=[model.headers[h].heat_loss for h in like.headers],
                    makeup_h=_makeup_h(model, like.deaerator),
                    makeup_t=model.site.makeup_temperature)

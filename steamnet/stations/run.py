@@ -14,6 +14,7 @@ from dataclasses import dataclass
 import pandas as pd
 
 from .. import properties as props
+from .._gc import young_collections_only
 from ..calc.desuperheater import gain_per_ratio, gain_per_spray
 from ..errors import ModelError, ModelErrors
 from ..units import Kind, parse_quantity
@@ -187,6 +188,11 @@ def run_checks(study, *, data: dict[str, StationData] | None = None) -> StationR
 
     Cases that did not solve are skipped; their stations get no rows.
     """
+    with young_collections_only():
+        return _run_checks(study, data)
+
+
+def _run_checks(study, data) -> StationReport:
     model = study.model
     data = data if data is not None else station_data(model)
     rows = []
