@@ -303,3 +303,21 @@ def test_full_collections_paused_only_inside_the_scope():
             assert gc.get_threshold()[2] > 10**8
             raise KeyError("inside")
     assert gc.get_threshold() == before
+
+
+def test_raw_copy_is_a_deep_copy(demo):
+    """with_changes copies changed items with model._copy_raw: equal to copy.deepcopy
+    for TOML data, and sharing no table or array with the original."""
+    import copy
+    from steamnet.model.model import _copy_raw
+    for table in ("extraction_turbine", "letdown", "user"):
+        for raw in demo.raw[table].values():
+            dup = _copy_raw(raw)
+            assert dup == copy.deepcopy(raw)
+            stack = [(raw, dup)]
+            while stack:
+                a, b = stack.pop()
+                if isinstance(a, (dict, list)):
+                    assert a is not b
+                    pairs = zip(a.values(), b.values()) if isinstance(a, dict) else zip(a, b)
+                    stack.extend(pairs)

@@ -253,12 +253,13 @@ _ATOMS = (str, int, float, bool, type(None))
 
 
 def _copy_raw(node: Any) -> Any:
-    """A deep copy of an item as read from TOML (tables, arrays and scalars), as
-    copy.deepcopy makes, without its bookkeeping; anything else goes to deepcopy."""
+    """A deep copy of an item as read from TOML (tables, arrays and scalars, which are
+    immutable and kept), as copy.deepcopy makes, without its bookkeeping; anything else
+    goes to deepcopy."""
     if isinstance(node, dict):
-        return {k: v if type(v) in _ATOMS else _copy_raw(v) for k, v in node.items()}
+        return {k: v if isinstance(v, _ATOMS) else _copy_raw(v) for k, v in node.items()}
     if isinstance(node, list):
-        return [v if type(v) in _ATOMS else _copy_raw(v) for v in node]
+        return [v if isinstance(v, _ATOMS) else _copy_raw(v) for v in node]
     return copy.deepcopy(node)
 
 
