@@ -321,3 +321,21 @@ def test_raw_copy_is_a_deep_copy(demo):
                     assert a is not b
                     pairs = zip(a.values(), b.values()) if isinstance(a, dict) else zip(a, b)
                     stack.extend(pairs)
+
+
+def test_case_models_leave_their_base_as_it_was(demo):
+    """Case models share the tables they do not change with their base; changing a
+    case (and a case of that case) never reaches back."""
+    import copy
+    winter = demo.for_case("winter")
+    raw, items = copy.deepcopy(winter.raw), {t: dict(v) for t, v in winter.items.items()}
+    a = winter.with_changes({"user.LP tracing.demand": "2 t/h", "site.makeup_temperature":
+                             "9 degC", "turbine.TG1.mode": "tripped"})
+    b = a.with_changes({"user.LP tracing.demand": "1 t/h", "header.LP.heat_loss": "1 MW"})
+    assert winter.raw == raw
+    assert all(winter.items[t][n] is it for t, v in items.items() for n, it in v.items())
+    assert winter.table("user")["LP tracing"].demand == pytest.approx(4 / 3.6, rel=1e-12)
+    assert a.table("user")["LP tracing"].demand == pytest.approx(2 / 3.6, rel=1e-12)
+    assert b.table("user")["LP tracing"].demand == pytest.approx(1 / 3.6, rel=1e-12)
+    assert a.table("header")["LP"].heat_loss == winter.table("header")["LP"].heat_loss
+    assert a.table("boiler") is winter.table("boiler")       # unchanged tables shared

@@ -161,7 +161,10 @@ class Model:
         """
         if not changes:
             return self
-        raw = {t: dict(v) for t, v in self.raw.items()}
+        # tables are copied when first changed; the others are shared with this model
+        # (models are never modified, so the case and its base can hold the same ones)
+        raw = dict(self.raw)
+        copied: set[str] = set()
         site_raw = dict(self.raw.get("_site", {}).get("site", {}))
         prices_raw = dict(self.raw.get("_prices", {}).get("prices", {}))
         touched: set[tuple[str, str]] = set()
@@ -187,6 +190,9 @@ class Model:
                                  f"(known: {known})", file=self.source, item=origin,
                                  field=str(key))
             if (table, item) not in touched:
+                if table not in copied:
+                    raw[table] = dict(raw[table])
+                    copied.add(table)
                 raw[table][item] = _copy_raw(raw[table][item])
                 touched.add((table, item))
             _set_path(raw[table][item], path, value, key=str(key), file=self.source,
@@ -199,24 +205,28 @@ class Model:
         if prices_touched:
             prices = _validate_one(Prices, prices_raw, file=self.source, item=origin,
                                    context=ctx, prefix="prices")
-        items = {t: dict(v) for t, v in self.items.items()}
+        items = dict(self.items)
         if site_touched and (site.atmospheric_pressure != self.site.atmospheric_pressure
                              or site.currency != self.site.currency):
             # gauge pressures and prices depend on the site: validate everything again
             touched = {(t, n) for t, rows in raw.items() if t in EQUIPMENT_TABLES
                        for n in rows}
         errors: list[ModelError] = []
+        for table in {t for t, _ in touched}:
+            items[table] = dict(items.get(table, {}))
         for table, item in sorted(touched):
             try:
-                items.setdefault(table, {})[item] = _validate_one(
+                items[table][item] = _validate_one(
                     EQUIPMENT_TABLES[table], raw[table][item], file=self.source,
                     item=f"{origin}: {_label(table, item)}", context=ctx)
             except ModelErrors as exc:
                 errors.extend(exc.errors)
         if errors:
             raise ModelErrors(errors)
-        raw["_site"] = {"site": site_raw}
-        raw["_prices"] = {"prices": prices_raw}
+        if site_touched or "_site" not in raw:
+            raw["_site"] = {"site": site_raw}
+        if prices_touched or "_prices" not in raw:
+            raw["_prices"] = {"prices": prices_raw}
         return replace(self, site=site, prices=prices, items=items, raw=raw)
 
     def with_values(self, changes: dict[str, Any], *,
@@ -244,7 +254,7 @@ class Model:
                              context=self.context())
         raw = {t: dict(v) for t, v in self.raw.items()}
         raw.setdefault(table, {})[name] = copy.deepcopy(data)
-        items = {t: dict(v) for t, v in self.items.items()}
+        items = dict(self.items)
         items.setdefault(table, {})[name] = item
         return replace(self, items=items, raw=raw)
 
