@@ -12,11 +12,32 @@ Node keys are ``(kind, name)`` tuples: ``("header", "HP")``, ``("boiler", "B1")`
 
 from __future__ import annotations
 
+from weakref import WeakKeyDictionary
+
 import networkx as nx
 
-__all__ = ["build_graph", "header_order", "steam_sources"]
+__all__ = ["build_graph", "header_order", "steam_sources", "steam_reach",
+           "GRAPH_FREE_FIELDS"]
 
 _SOURCE_KINDS = ("boiler", "steam_transfer")
+
+#: Fields that :func:`build_graph` does not read, by table (``site`` and ``prices`` for
+#: their tables): a case that changes only these has the graph of the model it is based
+#: on, and :meth:`steamnet.model.Model.with_values` shares it instead of building it
+#: again. Keep in step with build_graph: a field it starts to read must leave this list
+#: (tests/test_speed_equivalence.py changes each of them and compares the graphs).
+GRAPH_FREE_FIELDS = {
+    "site": frozenset({"name", "makeup_temperature"}),
+    "prices": frozenset({"fuel", "electricity", "makeup_water"}),
+    "header": frozenset({"heat_loss", "description"}),
+    "user": frozenset({"demand", "duty", "condensate_temperature", "group"}),
+    "boiler": frozenset({"steam", "efficiency", "fuel_price", "steam_temperature"}),
+    "steam_transfer": frozenset({"flow", "price", "steam_temperature"}),
+    "turbine": frozenset({"flow", "power", "isentropic_efficiency"}),
+    "extraction_turbine": frozenset({"flow", "power"}),
+    "letdown": frozenset({"flow"}),
+    "vent": frozenset({"max_flow"}),
+}
 
 
 def build_graph(model) -> nx.MultiDiGraph:
@@ -103,6 +124,22 @@ def steam_sources(g: nx.MultiDiGraph) -> list:
     return [n for n, d in g.nodes(data=True)
             if d.get("kind") == "boiler"
             or (d.get("kind") == "steam_transfer" and d.get("direction") == "import")]
+
+
+_REACH: WeakKeyDictionary = WeakKeyDictionary()
+
+
+def steam_reach(g: nx.MultiDiGraph) -> frozenset:
+    """Every node that steam from a boiler or an import can reach, the sources included.
+    Computed once per graph (cases that share a graph share it); treat ``g`` as
+    read-only once asked."""
+    reach = _REACH.get(g)
+    if reach is None:
+        found: set = set()
+        for s in steam_sources(g):
+            found |= nx.descendants(g, s) | {s}
+        reach = _REACH[g] = frozenset(found)
+    return reach
 
 
 def header_order(model) -> list[str]:

@@ -40,7 +40,7 @@ from .errors import PropertyRangeError
 
 __all__ = [
     "State", "Saturation", "state_pt", "state_ph", "state_ps", "saturation", "t_sat",
-    "p_sat", "h_pt", "viscosity", "stats", "reset_stats", "clear_cache",
+    "p_sat", "h_pt", "viscosity", "stats", "reset_stats", "add_stats", "clear_cache",
     "P_MIN", "P_MAX", "T_MIN", "T_MAX", "P_CRIT", "T_CRIT",
 ]
 
@@ -159,6 +159,12 @@ def reset_stats() -> None:
     """Zero the evaluation counters."""
     _STATS["evaluations"] = 0
     _STATS["seconds"] = 0.0
+
+
+def add_stats(other: dict) -> None:
+    """Add counts from elsewhere (the workers of a parallel sweep) to the counters."""
+    _STATS["evaluations"] += other["evaluations"]
+    _STATS["seconds"] += other["seconds"]
 
 
 def clear_cache() -> None:

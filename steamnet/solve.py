@@ -206,7 +206,7 @@ def _empty(case: str, status: str, message: str, findings=None, iterations=0,
 
 def solve_case(model: Model, case: str | None = None, *, start: dict | None = None,
                tables: bool = True, streams: bool = True, max_iter: int = 200,
-               tol_h: float | None = None) -> CaseResult:
+               tol_h: float | None = None, reference: bool = False) -> CaseResult:
     """Solve one case of ``model`` (the base model when ``case`` is None).
 
     Never raises for a case that cannot balance: the result's status says
@@ -223,23 +223,33 @@ def solve_case(model: Model, case: str | None = None, *, start: dict | None = No
     tol_h : float, optional
         Convergence tolerance on header enthalpies [J/kg]; default
         :data:`steamnet.solver.balance.TOL_H_REL` times the enthalpy.
+    reference : bool
+        Solve with the reference assembly of the balance system (the code before
+        issue 7), to check that the fast one gives the same answers [-]
     """
     name = case or model.case_name or "base"
     m = model.for_case(case) if case is not None else model
     if case is not None:
         validate_model(m)
     return solve_model(m, name, start=start, tables=tables, streams=streams,
-                       max_iter=max_iter, tol_h=tol_h)
+                       max_iter=max_iter, tol_h=tol_h, reference=reference)
 
 
 def solve_model(m: Model, name: str, *, start: dict | None = None, tables: bool = True,
                 streams: bool = True, max_iter: int = 200,
-                tol_h: float | None = None) -> CaseResult:
-    """Solve an already validated model (one case) under the case name ``name``."""
+                tol_h: float | None = None, like=None,
+                reference: bool = False) -> CaseResult:
+    """Solve an already validated model (one case) under the case name ``name``.
+
+    ``like`` is the Net of a similar case (the previous one of a sweep), from which the
+    Net of this one is made with less work (:func:`steamnet.solver.network.build`);
+    ``reference`` selects the reference assembly (see :func:`solve_case`).
+    """
     from .errors import PropertyRangeError
     try:
-        net = build(m)
-        sol = solve_net(net, start=start, max_iter=max_iter, tol_h=tol_h)
+        net = build(m, like=None if reference else like)
+        sol = solve_net(net, start=start, max_iter=max_iter, tol_h=tol_h,
+                        reference=reference)
     except ItemPropertyError as exc:
         return _empty(name, "error", f"outside IAPWS-IF97: {exc}")
     if sol.status in ("error", "not_converged"):
@@ -297,7 +307,7 @@ def _summary(name, status, message, sol, tot, wb, res, cost) -> dict:
 def solve_cases(model: Model, cases: Iterable | None = None, *,
                 progress: Callable[[int, int, str], None] | None = None,
                 warm_start: bool = True, workers: int = 1, scheduler: str | None = None,
-                tables: bool = True) -> StudyResult:
+                tables: bool = True, reference: bool = False) -> StudyResult:
     """Solve every case of ``model`` (or the given ones; the base model when it has no
     cases). A case that cannot balance is reported and the others still run.
 
@@ -312,11 +322,14 @@ def solve_cases(model: Model, cases: Iterable | None = None, *,
         Address of a dask.distributed scheduler to run the sweep on (extra ``dask``).
     tables : bool
         Build the result tables of each case (off for long sweeps) [-]
+    reference : bool
+        Make, build and solve every case from scratch with the reference assembly (the
+        code before issue 7), to check that the fast path gives the same answers [-]
     """
     from .sweep import run_sweep
     specs = list(cases) if cases is not None else [c.name for c in model.cases]
     if not specs:
-        return StudyResult(model, [solve_case(model)])
+        return StudyResult(model, [solve_case(model, reference=reference)])
     out = run_sweep(model, specs, workers=workers, scheduler=scheduler, tables=tables,
-                    progress=progress, warm_start=warm_start)
+                    progress=progress, warm_start=warm_start, reference=reference)
     return StudyResult(model, out)

@@ -11,6 +11,7 @@ from __future__ import annotations
 from concurrent.futures import ProcessPoolExecutor
 from typing import Callable, Sequence
 
+from ._gc import young_collections_only
 from .errors import ModelError, ModelErrors
 
 __all__ = ["run_sweep", "CHUNK"]
@@ -23,17 +24,31 @@ def _spec_name(spec) -> str:
     return spec if isinstance(spec, str) else spec[0]
 
 
-def _solve_one(model, spec, start, tables):
+def _solve_one(model, spec, start, tables, models: "_CaseModels | None" = None):
+    """Solve one spec. With ``models`` (the fast path) the case model is made by
+    :class:`_CaseModels` and the Net from the previous case's; without, every case is
+    made and built from scratch (the reference path). A case whose changes are bad is
+    made again on the reference path, so that its error reads the same either way."""
     from .model.validate import validate_model
     from .solve import _empty, solve_case, solve_model
     try:
+        if models is not None:
+            try:
+                m, name = models.get(spec)
+                validate_model(m)
+            except ModelError:
+                return _solve_one(model, spec, start, tables)
+            r = solve_model(m, name, start=start, tables=tables, like=models.net)
+            if r.solution is not None:
+                models.net = r.solution.net
+            return r
         if isinstance(spec, str):
-            return solve_case(model, spec, start=start, tables=tables)
+            return solve_case(model, spec, start=start, tables=tables, reference=True)
         name, changes = spec[0], spec[1]
         base = model.for_case(spec[2]) if len(spec) > 2 and spec[2] else model
         m = base.with_changes(changes, origin=f"case '{name}'")
         validate_model(m)
-        return solve_model(m, name, start=start, tables=tables)
+        return solve_model(m, name, start=start, tables=tables, reference=True)
     except ModelError as exc:      # includes ModelErrors: a bad case, the others go on
         return _empty(_spec_name(spec), "error", str(exc))
     except Exception as exc:       # a fault of ours: report it on this case, go on
@@ -41,13 +56,57 @@ def _solve_one(model, spec, start, tables):
                       f"{type(exc).__name__}: {exc} (please report this)")
 
 
+class _CaseModels:
+    """The case models of one chunk, made with as little repeated work as gives the
+    same models: each ``based_on`` case is made once; the changes that can alter the
+    network (modes, equipment in or out of service, anything not in
+    ``steamnet.graph.GRAPH_FREE_FIELDS``) are applied once per distinct set; the value
+    changes (demands, duties, make-up temperature ...) on top of that, sharing its
+    network graph. ``net`` is the last Net solved, the template of the next."""
+
+    def __init__(self, model):
+        self.model = model
+        self.bases: dict = {}
+        self.net = None
+
+    def _base(self, key, make):
+        try:
+            m = self.bases.get(key)
+        except TypeError:                     # a change value that cannot be hashed
+            return make()
+        if m is None:
+            m = self.bases[key] = make()
+            m.graph                           # built once, shared by the cases on m
+        return m
+
+    def get(self, spec):
+        """(case model, case name) of ``spec``; raises ModelError for a bad one."""
+        from .model.model import graph_free
+        if isinstance(spec, str):
+            return self._base(("case", spec), lambda: self.model.for_case(spec)), spec
+        name, changes = spec[0], spec[1]
+        based_on = spec[2] if len(spec) > 2 and spec[2] else None
+        origin = f"case '{name}'"
+        values = {k: v for k, v in changes.items() if graph_free({k: v})}
+        other = {k: v for k, v in changes.items() if k not in values}
+        base = self._base(("case", based_on), lambda: self.model.for_case(based_on)) \
+            if based_on else self.model
+        if other:
+            base = self._base(("changes", based_on, tuple(other.items())),
+                              lambda: base.with_changes(other, origin=origin))
+        return base.with_values(values, origin=origin), name
+
+
 def solve_chunk(model, specs: Sequence, tables: bool = False, warm_start: bool = True,
-                keep_solution: bool = True) -> list:
-    """Solve consecutive cases, each warm-started from the one before."""
+                keep_solution: bool = True, reference: bool = False) -> list:
+    """Solve consecutive cases, each warm-started from the one before. ``reference``
+    makes and builds every case from scratch (the code path before issue 7, kept to
+    check that the fast one gives the same answers)."""
     out = []
     start = None
+    models = None if reference else _CaseModels(model)
     for spec in specs:
-        r = _solve_one(model, spec, start if warm_start else None, tables)
+        r = _solve_one(model, spec, start if warm_start else None, tables, models)
         if r.solution is not None and r.ok and warm_start:
             start = {"h": r.solution.h, "modes": r.solution.modes}
         out.append(r if keep_solution else r.without_solution())
@@ -62,28 +121,51 @@ def _init_worker(model) -> None:
     _WORKER_MODEL = model
 
 
-def _worker_chunk(specs, tables, warm_start):
-    return solve_chunk(_WORKER_MODEL, specs, tables, warm_start, keep_solution=False)
+def _counted_chunk(model, specs, tables, warm_start, reference):
+    """A chunk solved away from the caller: the results without their raw solutions,
+    and the property statistics of the chunk (added to the caller's)."""
+    from . import properties as props
+    before = props.stats()
+    part = solve_chunk(model, specs, tables, warm_start, keep_solution=False,
+                       reference=reference)
+    after = props.stats()
+    return part, {k: after[k] - before[k] for k in after}
 
 
-def _dask_chunk(model, specs, tables, warm_start):
-    return solve_chunk(model, specs, tables, warm_start, keep_solution=False)
+def _worker_chunk(specs, tables, warm_start, reference):
+    return _counted_chunk(_WORKER_MODEL, specs, tables, warm_start, reference)
+
+
+def _dask_chunk(model, specs, tables, warm_start, reference):
+    return _counted_chunk(model, specs, tables, warm_start, reference)
 
 
 def run_sweep(model, specs: Sequence, *, workers: int = 1, scheduler: str | None = None,
               tables: bool = True, progress: Callable[[int, int, str], None] | None = None,
-              warm_start: bool = True, chunk: int = CHUNK) -> list:
+              warm_start: bool = True, chunk: int = CHUNK, reference: bool = False) -> list:
     """Solve ``specs`` (see :func:`steamnet.solve.solve_cases`) and return the
     CaseResults in order. In processes or on a cluster the raw solutions are not sent
-    back (each result keeps its tables, summary and station operating points)."""
-    specs = list(specs)
+    back (each result keeps its tables, summary and station operating points); the
+    property statistics of the workers are added to this process's
+    (:func:`steamnet.properties.stats`)."""
+    with young_collections_only():
+        return _run_sweep(model, list(specs), workers=workers, scheduler=scheduler,
+                          tables=tables, progress=progress, warm_start=warm_start,
+                          chunk=chunk, reference=reference)
+
+
+def _run_sweep(model, specs: list, *, workers, scheduler, tables, progress, warm_start,
+               chunk, reference) -> list:
+    from . import properties as props
     chunks = [specs[i:i + chunk] for i in range(0, len(specs), chunk)]
     total = len(specs)
     done = 0
     results: list = []
 
-    def tick(part):
+    def tick(part, stats=None):
         nonlocal done
+        if stats:
+            props.add_stats(stats)
         done += len(part)
         if progress and part:
             progress(done, total, part[-1].case)
@@ -97,12 +179,12 @@ def run_sweep(model, specs: Sequence, *, workers: int = 1, scheduler: str | None
         client = Client(scheduler)
         try:
             m = client.scatter(model, broadcast=True)
-            futures = [client.submit(_dask_chunk, m, c, tables, warm_start, pure=False)
-                       for c in chunks]
+            futures = [client.submit(_dask_chunk, m, c, tables, warm_start, reference,
+                                     pure=False) for c in chunks]
             for f in futures:
-                part = f.result()
+                part, stats = f.result()
                 results.extend(part)
-                tick(part)
+                tick(part, stats)
         except BaseException:
             for f in locals().get("futures", []):
                 f.cancel()
@@ -112,18 +194,19 @@ def run_sweep(model, specs: Sequence, *, workers: int = 1, scheduler: str | None
         return results
     if workers <= 1 or len(chunks) <= 1:
         for c in chunks:
-            part = solve_chunk(model, c, tables, warm_start)
+            part = solve_chunk(model, c, tables, warm_start, reference=reference)
             results.extend(part)
             tick(part)
         return results
     ex = ProcessPoolExecutor(max_workers=workers, initializer=_init_worker,
                              initargs=(model,))
     try:
-        futures = [ex.submit(_worker_chunk, c, tables, warm_start) for c in chunks]
+        futures = [ex.submit(_worker_chunk, c, tables, warm_start, reference)
+                   for c in chunks]
         for f in futures:
-            part = f.result()
+            part, stats = f.result()
             results.extend(part)
-            tick(part)
+            tick(part, stats)
     except BaseException:
         ex.shutdown(wait=False, cancel_futures=True)
         raise

@@ -161,7 +161,10 @@ class Model:
         """
         if not changes:
             return self
-        raw = {t: dict(v) for t, v in self.raw.items()}
+        # tables are copied when first changed; the others are shared with this model
+        # (models are never modified, so the case and its base can hold the same ones)
+        raw = dict(self.raw)
+        copied: set[str] = set()
         site_raw = dict(self.raw.get("_site", {}).get("site", {}))
         prices_raw = dict(self.raw.get("_prices", {}).get("prices", {}))
         touched: set[tuple[str, str]] = set()
@@ -187,7 +190,10 @@ class Model:
                                  f"(known: {known})", file=self.source, item=origin,
                                  field=str(key))
             if (table, item) not in touched:
-                raw[table][item] = copy.deepcopy(raw[table][item])
+                if table not in copied:
+                    raw[table] = dict(raw[table])
+                    copied.add(table)
+                raw[table][item] = _copy_raw(raw[table][item])
                 touched.add((table, item))
             _set_path(raw[table][item], path, value, key=str(key), file=self.source,
                       origin=origin)
@@ -199,25 +205,41 @@ class Model:
         if prices_touched:
             prices = _validate_one(Prices, prices_raw, file=self.source, item=origin,
                                    context=ctx, prefix="prices")
-        items = {t: dict(v) for t, v in self.items.items()}
+        items = dict(self.items)
         if site_touched and (site.atmospheric_pressure != self.site.atmospheric_pressure
                              or site.currency != self.site.currency):
             # gauge pressures and prices depend on the site: validate everything again
             touched = {(t, n) for t, rows in raw.items() if t in EQUIPMENT_TABLES
                        for n in rows}
         errors: list[ModelError] = []
+        for table in {t for t, _ in touched}:
+            items[table] = dict(items.get(table, {}))
         for table, item in sorted(touched):
             try:
-                items.setdefault(table, {})[item] = _validate_one(
+                items[table][item] = _validate_one(
                     EQUIPMENT_TABLES[table], raw[table][item], file=self.source,
                     item=f"{origin}: {_label(table, item)}", context=ctx)
             except ModelErrors as exc:
                 errors.extend(exc.errors)
         if errors:
             raise ModelErrors(errors)
-        raw["_site"] = {"site": site_raw}
-        raw["_prices"] = {"prices": prices_raw}
+        if site_touched or "_site" not in raw:
+            raw["_site"] = {"site": site_raw}
+        if prices_touched or "_prices" not in raw:
+            raw["_prices"] = {"prices": prices_raw}
         return replace(self, site=site, prices=prices, items=items, raw=raw)
+
+    def with_values(self, changes: dict[str, Any], *,
+                    origin: str = "changes") -> "Model":
+        """:meth:`with_changes`, sharing this model's network graph when every change is
+        to a field the graph does not depend on (``steamnet.graph.GRAPH_FREE_FIELDS``:
+        demands, duties, make-up temperature, heat losses, prices ...), as in the cases
+        of an hourly profile. The result is the same model; only the graph is not built
+        again."""
+        new = self.with_changes(changes, origin=origin)
+        if new is not self and "graph" in self.__dict__ and graph_free(changes):
+            new.__dict__["graph"] = self.__dict__["graph"]   # the cached_property's slot
+        return new
 
     def with_item(self, table: str, data: dict, *, origin: str = "added item") -> "Model":
         """A copy with one more item (as written in a model file)."""
@@ -232,9 +254,36 @@ class Model:
                              context=self.context())
         raw = {t: dict(v) for t, v in self.raw.items()}
         raw.setdefault(table, {})[name] = copy.deepcopy(data)
-        items = {t: dict(v) for t, v in self.items.items()}
+        items = dict(self.items)
         items.setdefault(table, {})[name] = item
         return replace(self, items=items, raw=raw)
+
+
+_ATOMS = (str, int, float, bool, type(None))
+
+
+def _copy_raw(node: Any) -> Any:
+    """A deep copy of an item as read from TOML (tables, arrays and scalars, which are
+    immutable and kept), as copy.deepcopy makes, without its bookkeeping; anything else
+    goes to deepcopy."""
+    if isinstance(node, dict):
+        return {k: v if isinstance(v, _ATOMS) else _copy_raw(v) for k, v in node.items()}
+    if isinstance(node, list):
+        return [v if isinstance(v, _ATOMS) else _copy_raw(v) for v in node]
+    return copy.deepcopy(node)
+
+
+def graph_free(changes: dict[str, Any]) -> bool:
+    """Whether no change of ``changes`` (``'table.item.field'`` or ``'site.field'``
+    keys) touches a field the network graph depends on."""
+    from ..graph import GRAPH_FREE_FIELDS
+    for key in changes:
+        parts = str(key).split(".")
+        table, fld = parts[0], parts[-1]
+        if len(parts) != (2 if table in ("site", "prices") else 3) \
+                or fld not in GRAPH_FREE_FIELDS.get(table, ()):
+            return False
+    return True
 
 
 def _set_path(target: dict, path: list[str], value: Any, *, key: str, file: str,

@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import math
 import re
+from functools import lru_cache
 from typing import Annotated, Any, Literal
 
 from pydantic import (BaseModel, BeforeValidator, ConfigDict, Field, ValidationInfo,
@@ -43,6 +44,14 @@ class SI(float):
     their headings use it)."""
 
 
+@lru_cache(maxsize=8192)
+def _parse_text(value: str, kind: Kind, p_atm: float, currency: str) -> float:
+    """parse_quantity of a text value, remembered: a case revalidates the items it
+    changes, and their other fields are the same texts every time (errors are raised
+    each time, not remembered)."""
+    return parse_quantity(value, kind, p_atm=p_atm, currency=currency)
+
+
 def _quantity(kind: Kind):
     def parse(value: Any, info: ValidationInfo) -> float | None:
         if value is None:
@@ -50,9 +59,12 @@ def _quantity(kind: Kind):
         if isinstance(value, SI):
             return float(value)
         ctx = info.context or {}
+        p_atm = ctx.get("p_atm", STANDARD_ATMOSPHERE)
+        currency = ctx.get("currency", "EUR")
         try:
-            return parse_quantity(value, kind, p_atm=ctx.get("p_atm", STANDARD_ATMOSPHERE),
-                                  currency=ctx.get("currency", "EUR"))
+            if type(value) is str:
+                return _parse_text(value, kind, p_atm, currency)
+            return parse_quantity(value, kind, p_atm=p_atm, currency=currency)
         except Exception as exc:  # ModelError -> ValueError for pydantic to collect
             raise ValueError(getattr(exc, "message", str(exc))) from None
     parse.kind = kind  # what the field measures; case tables read units from headings

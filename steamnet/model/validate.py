@@ -9,11 +9,10 @@ from __future__ import annotations
 import math
 from collections import defaultdict
 
-import networkx as nx
 
 from .. import properties as props
 from ..errors import ModelError, ModelErrors, PropertyRangeError
-from ..graph import steam_sources
+from ..graph import steam_reach
 from ..solver.network import VENT_RANK
 from .model import ITEM_LABELS, Model
 
@@ -349,10 +348,7 @@ def _check_share_limits(model: Model, errs: list, item: str, prio: int, group) -
 
 def _check_reachability(model: Model, errs: list, case: str) -> None:
     g = model.graph
-    sources = steam_sources(g)
-    reach: set = set()
-    for s in sources:
-        reach |= nx.descendants(g, s) | {s}
+    reach = steam_reach(g)
     for n, u in model.table("user").items():
         if _on(u) and ("header", u.header) in g and ("header", u.header) not in reach:
             errs.append(ModelError(f"user on header '{u.header}' has no path from any "

@@ -29,8 +29,10 @@ import time
 
 import numpy as np
 
+from .assembly import Plan, da_entries, header_entries
 from .network import (INF, CaseInfeasible, Coeffs, ItemPropertyError, Net, build,
                       coefficients)
+from .network import group_bounds as _group_bounds
 
 __all__ = ["solve_net", "Solution", "build"]
 
@@ -62,61 +64,19 @@ def _initial_modes(net: Net) -> list[tuple[str, int]]:
     return modes
 
 
-def _group_bounds(net: Net, g, eff: dict[int, tuple[float, float]]) -> tuple[float, float]:
-    lo, hi = 0.0, INF
-    for vi, w in zip(g.members, g.weights):
-        vlo, vhi = eff.get(vi, (net.vars[vi].lo, net.vars[vi].hi))
-        lo = max(lo, vlo / w)
-        hi = min(hi, vhi / w)
-    return lo, hi
-
-
 # ------------------------------------------------------------------------ assembly
-def _fw_terms(net: Net, co: Coeffs) -> list[tuple[int, float]]:
-    """(var, coefficient) of the feedwater drawn from the deaerator."""
-    out = []
-    for b in net.boilers:
-        if b["supply"]["from_da"]:
-            out.append((b["var"], 1.0 / (1.0 - b["bd"])))
-    for s, c in zip(net.letdowns, co.ld):
-        if s["ds"] is not None and s["ds"]["supply"]["from_da"] and c["r"] > 0:
-            out.append((s["var"], c["r"]))
-    return out
-
-
 def _header_terms(net: Net, co: Coeffs):
     """Mass-balance terms: rows[h] = list of (var, coefficient); const[h] = fixed net
     outflow (users)."""
     nh = len(net.headers)
     rows: list[list[tuple[int, float]]] = [[] for _ in range(nh)]
     const = [0.0] * nh
-    for b in net.boilers:
-        rows[b["header"]].append((b["var"], 1.0))
-        if b["flash"] is not None:
-            bd = b["bd"] / (1.0 - b["bd"])
-            rows[b["flash"]["header"]].append((b["var"], bd * b["flash"]["fraction"]))
-    for t in net.transfers:
-        rows[t["header"]].append((t["var"], 1.0 if t["dir"] == "import" else -1.0))
-    for t in net.turbines:
-        rows[t["inlet"]].append((t["var"], -1.0))
-        rows[t["outlet"]].append((t["var"], 1.0))
-    for t in net.xturbines:
-        rows[t["inlet"]].append((t["in_var"], -1.0))
-        for e in t["exts"]:
-            rows[e["header"]].append((e["var"], 1.0))
-        if t["exhaust"] is not None:
-            rows[t["exhaust"]].append((t["in_var"], 1.0))
-            for e in t["exts"]:
-                rows[t["exhaust"]].append((e["var"], -1.0))
-    for s, c in zip(net.letdowns, co.ld):
-        rows[s["inlet"]].append((s["var"], -1.0))
-        rows[s["outlet"]].append((s["var"], 1.0 + c["r"]))
-    for v in net.vents:
-        rows[v["header"]].append((v["var"], -1.0))
+    for hi, vi, coef in header_entries(net):
+        if isinstance(coef, tuple):              # ("out", j): let-down outlet, 1 + r
+            coef = 1.0 + co.ld[coef[1]]["r"]
+        rows[hi].append((vi, coef))
     for u, m in zip(net.users, co.user_flow):
         const[u["header"]] += m
-    if net.deaerator is not None:
-        rows[net.deaerator["header"]].append((net.deaerator["steam_var"], -1.0))
     return rows, const
 
 
@@ -124,25 +84,27 @@ def _da_rows(net: Net, co: Coeffs, h: list[float]):
     """Deaerator mass and energy rows: (terms, rhs) twice."""
     da = net.deaerator
     vf = da["vent_fraction"]
-    fw = _fw_terms(net, co)
     h_fw, h_vent = da["sat"].hf, da["sat"].hg
-    mass = [(da["steam_var"], 1.0), (da["makeup_var"], 1.0)]
-    energy = [(da["steam_var"], h[da["header"]]), (da["makeup_var"], net.makeup_h)]
-    for vi, c in fw:
-        mass.append((vi, -(1.0 + vf) * c))
-        energy.append((vi, -(h_fw + vf * h_vent) * c))
+    mass: list[tuple[int, float]] = []
+    energy: list[tuple[int, float]] = []
+    for row, vi, coef in da_entries(net):
+        if isinstance(coef, tuple):
+            key = coef[0]
+            if key == "h_da":
+                coef = h[da["header"]]
+            elif key == "h_mk":
+                coef = net.makeup_h
+            else:                                   # spray drawn from the deaerator
+                r = co.ld[coef[1]]["r"]
+                if not r > 0:
+                    continue
+                coef = (-(1.0 + vf) if key == "fw_mass" else -(h_fw + vf * h_vent)) * r
+        (mass if row == 0 else energy).append((vi, coef))
     r_mass = r_energy = 0.0
     for u, m in zip(net.users, co.user_flow):
         if u["ret"] > 0:
             r_mass -= u["ret"] * m
             r_energy -= u["ret"] * m * u["h_ret"]
-    for t in net.xturbines:
-        if t["ret"] > 0:
-            mass.append((t["in_var"], t["ret"]))
-            energy.append((t["in_var"], t["ret"] * t["cond_h"]))
-            for e in t["exts"]:
-                mass.append((e["var"], -t["ret"]))
-                energy.append((e["var"], -t["ret"] * t["cond_h"]))
     return (mass, r_mass), (energy, r_energy)
 
 
@@ -241,6 +203,10 @@ def _linear_solve(n: int, triplets, b: np.ndarray) -> np.ndarray | None:
         return np.asarray(x)
     a = np.zeros((n, n))
     np.add.at(a, (r, c), v)
+    return _dense_solve(a, b)
+
+
+def _dense_solve(a: np.ndarray, b: np.ndarray) -> np.ndarray | None:
     try:
         x = np.linalg.solve(a, b)
     except np.linalg.LinAlgError:
@@ -251,32 +217,37 @@ def _linear_solve(n: int, triplets, b: np.ndarray) -> np.ndarray | None:
 
 
 # -------------------------------------------------------------------- enthalpy mix
-def header_inflows(net: Net, co: Coeffs, x: np.ndarray):
-    """Per header: list of (source label, flow, enthalpy) entering it."""
-    ins: list[list[tuple[str, float, float]]] = [[] for _ in net.headers]
+def header_inflows(net: Net, co: Coeffs, x: np.ndarray, labels: bool = True):
+    """Per header: list of (source label, flow, enthalpy) entering it (labels None when
+    not asked for, as in the iterations)."""
+    ins: list[list[tuple[str | None, float, float]]] = [[] for _ in net.headers]
     for b in net.boilers:
-        ins[b["header"]].append((f"boiler '{b['name']}'", x[b["var"]], b["h"]))
+        name = b["name"]
+        ins[b["header"]].append((f"boiler '{name}'" if labels else None, x[b["var"]],
+                                 b["h"]))
         if b["flash"] is not None:
             fh = b["flash"]["header"]
             m = x[b["var"]] * b["bd"] / (1 - b["bd"]) * b["flash"]["fraction"]
-            ins[fh].append((f"boiler '{b['name']}' blowdown flash", m, net.sat[fh].hg))
+            ins[fh].append((f"boiler '{name}' blowdown flash" if labels else None, m,
+                            net.sat[fh].hg))
     for t in net.transfers:
         if t["dir"] == "import":
-            ins[t["header"]].append((f"import '{t['name']}'", x[t["var"]], t["h"]))
+            ins[t["header"]].append((f"import '{t['name']}'" if labels else None,
+                                     x[t["var"]], t["h"]))
     for t, c in zip(net.turbines, co.turb):
-        ins[t["outlet"]].append((f"turbine '{t['name']}'", x[t["var"]], c["h_out"]))
+        ins[t["outlet"]].append((f"turbine '{t['name']}'" if labels else None,
+                                 x[t["var"]], c["h_out"]))
     for t, c in zip(net.xturbines, co.xturb):
         rest = x[t["in_var"]]
+        label = f"extraction turbine '{t['name']}'" if labels else None
         for j, e in enumerate(t["exts"]):
-            ins[e["header"]].append((f"extraction turbine '{t['name']}'", x[e["var"]],
-                                     c["h"][j + 1]))
+            ins[e["header"]].append((label, x[e["var"]], c["h"][j + 1]))
             rest -= x[e["var"]]
         if t["exhaust"] is not None:
-            ins[t["exhaust"]].append((f"extraction turbine '{t['name']}' exhaust", rest,
-                                      c["h"][-1]))
+            ins[t["exhaust"]].append((label and label + " exhaust", rest, c["h"][-1]))
     for s, c in zip(net.letdowns, co.ld):
-        ins[s["outlet"]].append((f"letdown '{s['name']}'", x[s["var"]] * (1 + c["r"]),
-                                 c["h_out"]))
+        ins[s["outlet"]].append((f"letdown '{s['name']}'" if labels else None,
+                                 x[s["var"]] * (1 + c["r"]), c["h_out"]))
     return ins
 
 
@@ -293,7 +264,7 @@ def _mix(net: Net, co: Coeffs, x: np.ndarray,
     Negative inflows, which only intermediate iterates have (before the modes settle),
     are left out: they would give enthalpies no state of water has.
     """
-    ins = header_inflows(net, co, x)
+    ins = header_inflows(net, co, x, labels=False)
     out, cold = [], []
     for i, lst in enumerate(ins):
         m = sum(max(f, 0.0) for _, f, _ in lst)
@@ -310,7 +281,7 @@ def _mix(net: Net, co: Coeffs, x: np.ndarray,
 
 def _cold_findings(net: Net, co: Coeffs, x: np.ndarray, cold: list[int]) -> list[dict]:
     out = []
-    ins = header_inflows(net, co, x)
+    ins = header_inflows(net, co, x, labels=False)
     for i in cold:
         name = net.headers[i]
         m = sum(max(f, 0.0) for _, f, _ in ins[i])
@@ -559,7 +530,8 @@ def _derived_findings(net: Net, co: Coeffs, x: np.ndarray, tol: float) -> list[d
 
 
 def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
-              tol_x: float = 1e-9, start: dict | None = None) -> Solution:
+              tol_x: float = 1e-9, start: dict | None = None,
+              reference: bool = False) -> Solution:
     """Solve the balance of one case (see the module docstring).
 
     Parameters
@@ -575,9 +547,34 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
         Largest change of any flow between iterations at convergence [kg/s]
     start : dict, optional
         ``{"h": [...], "modes": [...]}`` from a previous, similar case (warm start).
+    reference : bool
+        Assemble the linear system with the reference code (:func:`_assemble`) instead
+        of the compiled :class:`~steamnet.solver.assembly.Plan`; the systems, and so
+        the answers, are the same [-]
     """
     t0 = time.perf_counter()
     n = len(net.vars)
+    if reference:
+        def assemble(co, h, modes, eff):
+            return _assemble(net, co, h, modes, eff)
+
+        def solve_system(co, h, modes, eff):
+            trip, b = _assemble(net, co, h, modes, eff)
+            return _linear_solve(n, trip, b)
+    else:
+        if net.plan is None:
+            net.plan = Plan(net)
+        plan = net.plan
+
+        def assemble(co, h, modes, eff):
+            return plan.assemble(net, co, h, modes, eff)
+
+        def solve_system(co, h, modes, eff):
+            dense = plan.dense(net, co, h, modes, eff) if n <= _SPARSE_ABOVE else None
+            if dense is None:
+                trip, b = plan.assemble(net, co, h, modes, eff)
+                return _linear_solve(n, trip, b)
+            return _dense_solve(*dense)
     if tol_h is None:
         tol_h = TOL_H_REL * max(abs(s.hg) for s in net.sat)
     h = list(start["h"]) if start and len(start["h"]) == len(net.headers) else _initial_h(net)
@@ -594,11 +591,11 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
     recent: list[set] = []      # exhausted (header, side) of the last iterations
     for it in range(1, max_iter + 1):
         eff = _extraction_bounds(net, co, x)
-        trip, b = _assemble(net, co, h, modes, eff)
-        x_new = _linear_solve(n, trip, b)
+        x_new = solve_system(co, h, modes, eff)
         if x_new is None:
-            rescued = _rescue_modes(net, co, h, modes, eff)
+            rescued = _rescue_modes(net, co, h, modes, eff, solve_system)
             if rescued is None:
+                trip, _ = assemble(co, h, modes, eff)
                 return Solution(net, np.full(n, np.nan), h, co, modes, it, "error",
                                 [], _singular_message(net, trip), time.perf_counter() - t0)
             modes, x_new = rescued
@@ -690,18 +687,16 @@ def _neighbours(net: Net, hi: int, mode) -> list:
     return out
 
 
-def _rescue_modes(net: Net, co: Coeffs, h, modes, eff):
+def _rescue_modes(net: Net, co: Coeffs, h, modes, eff, solve_system):
     """When the system of the current modes is singular (two headers whose moving
     elements only shift steam between them, so their joint balance is closed by
     neither), try the neighbouring mode of one header at a time, lowest pressure first.
     Returns (modes, x) of the first regular system, or None."""
-    n = len(net.vars)
     for hi in reversed(range(len(net.headers))):
         for alt in _neighbours(net, hi, modes[hi]):
             trial = list(modes)
             trial[hi] = alt
-            trip, b = _assemble(net, co, h, trial, eff)
-            x = _linear_solve(n, trip, b)
+            x = solve_system(co, h, trial, eff)
             if x is not None:
                 return trial, x
     return None

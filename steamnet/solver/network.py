@@ -12,7 +12,7 @@ enthalpies: turbine expansion lines, desuperheater spray ratios, duty-based user
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 from .. import properties as props
 from ..errors import PropertyRangeError
@@ -93,6 +93,9 @@ class Net:
     deaerator: dict | None
     makeup_h: float
     makeup_t: float
+    #: compiled assembly of the balance system (steamnet.solver.assembly), made on
+    #: first use and shared by the Nets :func:`rebuild` makes from this one
+    plan: object = field(default=None, repr=False, compare=False)
 
 
 def _prop(item: str, func, *args):
@@ -100,6 +103,18 @@ def _prop(item: str, func, *args):
         return func(*args)
     except PropertyRangeError as exc:
         raise ItemPropertyError(item, exc) from None
+
+
+def group_bounds(net: "Net", g: Group,
+                 eff: dict[int, tuple[float, float]]) -> tuple[float, float]:
+    """Range of a swing group's level (its members' flows over their shares), from
+    the members' limits or their effective ranges ``eff``."""
+    lo, hi = 0.0, INF
+    for vi, w in zip(g.members, g.weights):
+        vlo, vhi = eff.get(vi, (net.vars[vi].lo, net.vars[vi].hi))
+        lo = max(lo, vlo / w)
+        hi = min(hi, vhi / w)
+    return lo, hi
 
 
 def _share_groups(entries: list[tuple[int, int, float | None]]) -> list[Group]:
@@ -116,8 +131,12 @@ def _share_groups(entries: list[tuple[int, int, float | None]]) -> list[Group]:
     return groups
 
 
-def build(model) -> Net:
-    """Numeric structure of ``model`` (one case)."""
+def build(model, like: Net | None = None) -> Net:
+    """Numeric structure of ``model`` (one case). With ``like``, the Net of a similar
+    model (the previous case of a sweep), only what differs is built again when the two
+    have the same structure (:func:`same_structure`); the result is the same."""
+    if like is not None and same_structure(like.model, model):
+        return rebuild(like, model)
     on = lambda it: getattr(it, "in_service", True)  # noqa: E731
     headers = sorted(model.headers, key=lambda n: (-model.headers[n].pressure, n))
     hidx = {h: i for i, h in enumerate(headers)}
@@ -153,9 +172,8 @@ def build(model) -> Net:
             st = _prop(f"water supply '{n}'", props.state_pt, ws.pressure, ws.temperature)
             supplies[n] = {"name": n, "h": st.h, "t": st.t, "p": ws.pressure,
                            "from_da": False, "pump_work": 0.0}
-    mk_p = da["p"] if da else model.site.atmospheric_pressure
-    mk = _prop("site makeup_temperature", props.state_pt, max(mk_p, 2 * props.P_MIN),
-               model.site.makeup_temperature)
+
+    makeup_h = _makeup_h(model, da)
 
     boilers = []
     for n, b in model.table("boiler").items():
@@ -283,18 +301,6 @@ def build(model) -> Net:
         vents.append({"name": n, "var": vi, "header": hi})
         absorb_entries[hi].append((v.priority + VENT_RANK, vi))   # exports first
 
-    users = []
-    for n, u in model.table("user").items():
-        if not on(u):
-            continue
-        hi = hidx[u.header]
-        h_ret = None
-        if u.condensate_return > 0:
-            h_ret = _liquid_h(f"user '{n}'", u.condensate_temperature,
-                              da["p"] if da else p[hi])
-        users.append({"name": n, "header": hi, "demand": u.demand, "duty": u.duty,
-                      "ret": u.condensate_return, "h_ret": h_ret, "item": u})
-
     if da is not None:
         da["steam_var"] = new_var("da_steam", da["name"], "deaerator")
         da["makeup_var"] = new_var("da_makeup", da["name"], "deaerator")
@@ -307,9 +313,77 @@ def build(model) -> Net:
     return Net(model=model, headers=headers, hidx=hidx, p=p, sat=sat,
                q_loss=[model.headers[h].heat_loss for h in headers], vars=vars_,
                swing=swing, boilers=boilers, transfers=transfers, turbines=turbines,
-               xturbines=xturbines, letdowns=letdowns, vents=vents, users=users,
-               supplies=supplies, deaerator=da, makeup_h=mk.h,
-               makeup_t=model.site.makeup_temperature)
+               xturbines=xturbines, letdowns=letdowns, vents=vents,
+               users=_users(model, hidx, p, da), supplies=supplies, deaerator=da,
+               makeup_h=makeup_h, makeup_t=model.site.makeup_temperature)
+
+
+def _users(model, hidx: dict[str, int], p: list[float], da: dict | None,
+           like: list[dict] = ()) -> list[dict]:
+    """The in-service users: header, demand or duty, condensate returned. The entry of
+    a user whose item is the very one in ``like`` (users of a Net of the same
+    structure) is taken from there."""
+    users = []
+    same = {u["name"]: u for u in like}
+    for n, u in model.table("user").items():
+        if not getattr(u, "in_service", True):
+            continue
+        old = same.get(n)
+        if old is not None and old["item"] is u:
+            users.append(old)
+            continue
+        hi = hidx[u.header]
+        h_ret = None
+        if u.condensate_return > 0:
+            h_ret = _liquid_h(f"user '{n}'", u.condensate_temperature,
+                              da["p"] if da else p[hi])
+        users.append({"name": n, "header": hi, "demand": u.demand, "duty": u.duty,
+                      "ret": u.condensate_return, "h_ret": h_ret, "item": u})
+    return users
+
+
+def _makeup_h(model, da: dict | None) -> float:
+    """Enthalpy of the make-up water, at the deaerator pressure (or atmospheric)."""
+    mk_p = da["p"] if da else model.site.atmospheric_pressure
+    return _prop("site makeup_temperature", props.state_pt, max(mk_p, 2 * props.P_MIN),
+                 model.site.makeup_temperature).h
+
+
+#: Tables that :func:`rebuild` builds again for each case; every other table's items
+#: must be the very objects of the model the Net is rebuilt from.
+_REBUILT_TABLES = frozenset({"user", "header"})
+
+
+def same_structure(a, b) -> bool:
+    """Whether models ``a`` and ``b`` build Nets that differ only in their users, header
+    heat losses and make-up water: the same item objects in every other table, the
+    same headers at the same pressures and the same prices."""
+    if a is b:
+        return True
+    if a.prices is not b.prices and a.prices != b.prices:
+        return False
+    ha, hb = a.headers, b.headers
+    if list(ha) != list(hb) or any(ha[n].pressure != hb[n].pressure for n in ha):
+        return False
+    for t in (set(a.items) | set(b.items)) - _REBUILT_TABLES:
+        ta, tb = a.table(t), b.table(t)
+        if ta is tb:                          # a table the case did not change
+            continue
+        if list(ta) != list(tb) or any(tb[n] is not it for n, it in ta.items()):
+            return False
+    return True
+
+
+def rebuild(like: Net, model) -> Net:
+    """The Net of ``model`` from the Net of a model of the same structure (see
+    :func:`same_structure`): only users, heat losses and make-up water are built; the
+    rest is shared with ``like`` (never modified by the solver). Equal to
+    ``build(model)``."""
+    return replace(like, model=model,
+                   users=_users(model, like.hidx, like.p, like.deaerator, like.users),
+                   q_loss=[model.headers[h].heat_loss for h in like.headers],
+                   makeup_h=_makeup_h(model, like.deaerator),
+                   makeup_t=model.site.makeup_temperature)
 
 
 def _liquid_h(item: str, t: float, p_min: float) -> float:

@@ -53,7 +53,7 @@ def residuals(sol: Solution) -> dict:
     """
     net, x = sol.net, sol.x
     co = coefficients(net, sol.h, x)          # coefficients at the final enthalpies
-    ins = header_inflows(net, co, x)
+    ins = header_inflows(net, co, x, labels=False)
     outs = _h_out_flows(sol)
     mass, energy, through = [], [], []
     for i in range(len(net.headers)):
@@ -171,7 +171,7 @@ def water_balance(sol: Solution, co=None) -> dict:
 # ------------------------------------------------------------------------ tables
 def header_table(sol: Solution, case: str, res: dict) -> pd.DataFrame:
     net, x = sol.net, sol.x
-    ins = header_inflows(net, sol.co, x)
+    ins = header_inflows(net, sol.co, x, labels=False)
     outs = _h_out_flows(sol)
     p_atm = net.model.site.atmospheric_pressure
     rows = []

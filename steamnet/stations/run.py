@@ -14,6 +14,7 @@ from dataclasses import dataclass
 import pandas as pd
 
 from .. import properties as props
+from .._gc import young_collections_only
 from ..calc.desuperheater import gain_per_ratio, gain_per_spray
 from ..errors import ModelError, ModelErrors
 from ..units import Kind, parse_quantity
@@ -187,6 +188,11 @@ def run_checks(study, *, data: dict[str, StationData] | None = None) -> StationR
 
     Cases that did not solve are skipped; their stations get no rows.
     """
+    with young_collections_only():
+        return _run_checks(study, data)
+
+
+def _run_checks(study, data) -> StationReport:
     model = study.model
     data = data if data is not None else station_data(model)
     rows = []
@@ -209,14 +215,21 @@ def run_checks(study, *, data: dict[str, StationData] | None = None) -> StationR
         across, env = check_across_cases(data[name], pts, point_rows=per_rows[name])
         rows.extend(across)
         envs.append(_flatten_envelope(env, across))
-    checks = pd.DataFrame([{**{k: getattr(r, k) for k in CHECK_COLUMNS},
-                            "status": Status(r.status).value} for r in rows],
-                          columns=CHECK_COLUMNS)
-    return StationReport(checks=checks, envelopes=pd.DataFrame(envs),
+    return StationReport(checks=_check_frame(rows), envelopes=pd.DataFrame(envs),
                          gains=pd.DataFrame(gains, columns=["case", "station", "steam_t_h",
                                                             "spray_t_h", "ratio",
                                                             "gain_k_per_t_h",
                                                             "gain_per_ratio_k"]))
+
+
+def _check_frame(rows: list) -> pd.DataFrame:
+    """The checks table: one row per CheckRow, CHECK_COLUMNS, built column by column
+    (a year of hourly cases has some 300,000 rows)."""
+    if not rows:
+        return pd.DataFrame([], columns=CHECK_COLUMNS)
+    cols = {k: [getattr(r, k) for r in rows] for k in CHECK_COLUMNS}
+    cols["status"] = [Status(r.status).value for r in rows]
+    return pd.DataFrame(cols, columns=CHECK_COLUMNS)
 
 
 def _flatten_envelope(env: dict, across) -> dict:
