@@ -98,10 +98,10 @@ def test_an_internal_fault_in_one_case_is_reported_and_the_others_run(monkeypatc
     m = load_model(DATA / "two_header.toml")
     real = solve_mod.build
 
-    def faulty(model):
+    def faulty(model, *args, **kwargs):
         if model.case_name == "summer":
             raise RuntimeError("simulated fault")
-        return real(model)
+        return real(model, *args, **kwargs)
     monkeypatch.setattr(solve_mod, "build", faulty)
     study = solve_cases(m)
     assert [c.status for c in study.cases] == ["solved", "error", "infeasible"]
