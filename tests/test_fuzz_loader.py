@@ -144,6 +144,8 @@ CASES = [  # (item name, key, bad value, item label, field)
     ("Bark dryer", "demand", '{ value = 6 }', "user 'Bark dryer'", "demand"),
     ("Bark dryer", "name", '"Sootblowing"', "user 'Sootblowing'", "name"),
     ("DA", "pressure", '"20 bar(g)"', "deaerator 'DA'", "pressure"),
+    ("BFW", "pressure", '"6200 bar(g)"', "water supply 'BFW'", "pressure"),
+    ("BFW", "pump_efficiency", '"0.1 %"', "water supply 'BFW'", "pump_efficiency"),
     ("Orlewick Board Mill", "makeup_temperature", '"150 degC"', "site",
      "makeup_temperature"),
 ]

@@ -330,3 +330,16 @@ def test_headers_that_stay_long_are_reported_when_the_iteration_does_not_settle(
     long_ = {f["header"] for f in r.findings if f["side"] == "long"}
     assert long_ == {"S03-3", "S03-4"}
     assert "no vent or swing export on this header" in r.message
+
+
+def test_a_huge_boiler_maximum_does_not_hide_mode_changes(data_dir):
+    # Was: the solver's tolerance for moving a header to its next element was 1e-9 of
+    # the boilers' summed maxima, so a maximum written huge for "no limit" (1e12 t/h)
+    # let a let-down run at -3 t/h instead of the vent taking the excess, and the case
+    # ended 'not converged' (energy residual 4e-3).
+    text = (data_dir / "two_header.toml").read_text().replace(
+        'max_steam = "80 t/h"', 'max_steam = "1e12 t/h"')
+    r = solve_case(loads_model(text, source="huge.toml"), "summer")
+    assert_closes(r)
+    eq = r.equipment.set_index("item")["flow_t_h"]
+    assert eq["L1"] == 0.0 and eq["V1"] > 3.0

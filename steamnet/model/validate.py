@@ -121,6 +121,10 @@ def validate_model(model: Model) -> None:
         pass       # the deaerator pressure is reported below
     # ------------------------------------------------------------- water supplies
     for n, ws in supplies.items():
+        if not (props.P_MIN < ws.pressure <= props.P_MAX):
+            err("water_supply", n, "pressure", f"{ws.pressure / 1e5:.4g} bar(a) is "
+                f"outside IAPWS-IF97 (up to {props.P_MAX / 1e5:g} bar(a))")
+            continue
         if ws.source == "deaerator" and not deaerators:
             err("water_supply", n, "source", "source 'deaerator' but the model has no "
                 "[[deaerator]]")
@@ -129,6 +133,17 @@ def validate_model(model: Model) -> None:
             if ws.pressure < da.pressure:
                 err("water_supply", n, "pressure", "supply pressure is below the "
                     "deaerator pressure it is pumped from")
+            elif ws.pump_efficiency is not None and props.P_MIN < da.pressure < props.P_CRIT:
+                sat = props.saturation(da.pressure)   # pump work v dP / eta heats it
+                h = sat.hf + sat.vf * (ws.pressure - da.pressure) / ws.pump_efficiency
+                try:
+                    if props.state_ph(ws.pressure, h).phase != "liquid":
+                        err("water_supply", n, "pump_efficiency", "the pump work "
+                            "(v dP / efficiency) would boil the water: efficiency too low")
+                except PropertyRangeError:
+                    err("water_supply", n, "pump_efficiency", "the pump work (v dP / "
+                        "efficiency) heats the water beyond IAPWS-IF97: efficiency too "
+                        "low")
         if ws.temperature is not None:
             try:
                 props.state_pt(ws.pressure, ws.temperature)

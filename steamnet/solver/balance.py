@@ -583,9 +583,13 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
     x: np.ndarray | None = None
     exhausted: list = []
     history: dict = {}
-    scale = max(1.0, sum(abs(u) for u in [b["item"].max_steam or 0 for b in net.boilers]))
-    tol_mode = 1e-9 * scale
     co = coefficients(net, h, None)
+    # the size of the plant: what its users draw and its fixed flows carry (not the
+    # boilers' maxima, which may be written huge for "no limit" and would then hide
+    # every mode change below them)
+    scale = max(1.0, sum(m for m in co.user_flow if math.isfinite(m))
+                + sum(v.fixed for v in net.vars if v.fixed is not None))
+    tol_mode = 1e-9 * scale
     it = 0
     relax, r_prev = 1.0, None
     recent: list[set] = []      # exhausted (header, side) of the last iterations
