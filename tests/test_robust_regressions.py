@@ -343,3 +343,21 @@ def test_a_huge_boiler_maximum_does_not_hide_mode_changes(data_dir):
     assert_closes(r)
     eq = r.equipment.set_index("item")["flow_t_h"]
     assert eq["L1"] == 0.0 and eq["V1"] > 3.0
+
+
+def test_extraction_and_letdown_in_series_find_their_mode():
+    """Found by the long fuzz (network seed 100228): an extraction turbine at fixed
+    throttle flow feeds one header by its extraction and the next by its exhaust, with a
+    let-down between the two; the first operating mode is singular whatever the lowest
+    header does. With the extraction's limits known before the first solve, the next
+    mode of the extraction's header is regular and the case balances or is reported."""
+    import sys
+    from pathlib import Path
+    sys.path.insert(0, str(Path(__file__).resolve().parent))
+    from run_long_fuzz import network_sizes
+    from steamnet.synth import random_model_text
+    nh, ni = network_sizes(100228)
+    m = loads_model(random_model_text(100228, n_headers=nh, n_items=ni), source="s.toml")
+    for c in [None] + [c.name for c in m.cases]:
+        r = solve_case(m, c)
+        assert r.status in ("solved", "infeasible"), r.message

@@ -594,7 +594,8 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
     relax, r_prev = 1.0, None
     recent: list[set] = []      # exhausted (header, side) of the last iterations
     for it in range(1, max_iter + 1):
-        eff = _extraction_bounds(net, co, x)
+        # before the first solve, bound the extractions as if the others were at zero
+        eff = _extraction_bounds(net, co, x if x is not None else np.zeros(n))
         x_new = solve_system(co, h, modes, eff)
         if x_new is None:
             rescued = _rescue_modes(net, co, h, modes, eff, solve_system)
