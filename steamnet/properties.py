@@ -169,7 +169,7 @@ def add_stats(other: dict) -> None:
 
 def clear_cache() -> None:
     """Empty every property cache (for benchmarks that measure the uncached cost)."""
-    for f in (_sat, _pt, _ph, _ps, _tsat, _psat):
+    for f in (_sat, _pt, _ph, _ps, _tsat, _psat, _viscosity):
         f.cache_clear()
 
 
@@ -458,9 +458,16 @@ def state_ps(p: float, s: float) -> State:
 
 
 # ------------------------------------------------------------------------- transport
+@lru_cache(maxsize=65536)
+@_timed
+def _viscosity(rho: float, t: float) -> float:
+    return float(_if97._Viscosity(rho, t))
+
+
 def viscosity(st: State) -> float:
-    """Dynamic viscosity [Pa s] of a single-phase state (IAPWS R12-08, via iapws)."""
+    """Dynamic viscosity [Pa s] of a single-phase state (IAPWS R12-08, via iapws);
+    cached and counted like the other evaluations."""
     if st.is_wet:
         raise PropertyRangeError(f"{_fmt(st.p, h=st.h)}: viscosity of wet steam is not "
                                  "defined")
-    return float(_if97._Viscosity(st.rho, st.t))
+    return _viscosity(float(st.rho), float(st.t))

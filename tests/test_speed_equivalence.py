@@ -339,3 +339,17 @@ def test_case_models_leave_their_base_as_it_was(demo):
     assert b.table("user")["LP tracing"].demand == pytest.approx(1 / 3.6, rel=1e-12)
     assert a.table("header")["LP"].heat_loss == winter.table("header")["LP"].heat_loss
     assert a.table("boiler") is winter.table("boiler")       # unchanged tables shared
+
+
+def test_viscosity_asked_once_per_state():
+    """Viscosity is cached and counted like the other property evaluations; the value
+    is iapws's IAPWS R12-08 function at the state's density and temperature."""
+    from iapws.iapws97 import _Viscosity
+    props.clear_cache()
+    props.reset_stats()
+    st = props.state_pt(20e5, 573.15)
+    n = props.stats()["evaluations"]
+    mu = props.viscosity(st)
+    assert props.stats()["evaluations"] == n + 1
+    assert props.viscosity(st) == mu == _Viscosity(st.rho, st.t)
+    assert props.stats()["evaluations"] == n + 1
