@@ -361,3 +361,19 @@ def test_extraction_and_letdown_in_series_find_their_mode():
     for c in [None] + [c.name for c in m.cases]:
         r = solve_case(m, c)
         assert r.status in ("solved", "infeasible"), r.message
+
+
+@pytest.mark.xfail(strict=True, reason="open: an extraction turbine at fixed power with two "
+                   "swing extractions, one of them sharing its header's group with a "
+                   "let-down, and its exhaust on a header that flips between venting and "
+                   "supplying; the iteration does not settle (long-fuzz seed 108628)")
+def test_fixed_power_turbine_with_shared_extraction_group_settles():
+    import sys
+    from pathlib import Path
+    sys.path.insert(0, str(Path(__file__).resolve().parent))
+    from run_long_fuzz import network_sizes
+    from steamnet.synth import random_model_text
+    nh, ni = network_sizes(108628)
+    m = loads_model(random_model_text(108628, n_headers=nh, n_items=ni), source="s.toml")
+    r = solve_case(m)
+    assert r.status in ("solved", "infeasible"), r.message
