@@ -345,19 +345,25 @@ def test_a_huge_boiler_maximum_does_not_hide_mode_changes(data_dir):
     assert eq["L1"] == 0.0 and eq["V1"] > 3.0
 
 
+def _long_fuzz_model(seed: int):
+    """The network of tests/run_long_fuzz.py's input ``seed``."""
+    import sys
+    from pathlib import Path
+    sys.path.insert(0, str(Path(__file__).resolve().parent))
+    from run_long_fuzz import network_sizes
+    from steamnet.synth import random_model_text
+    nh, ni = network_sizes(seed)
+    return loads_model(random_model_text(seed, n_headers=nh, n_items=ni),
+                       source=f"seed{seed}.toml")
+
+
 def test_extraction_and_letdown_in_series_find_their_mode():
     """Found by the long fuzz (network seed 100228): an extraction turbine at fixed
     throttle flow feeds one header by its extraction and the next by its exhaust, with a
     let-down between the two; the first operating mode is singular whatever the lowest
     header does. With the extraction's limits known before the first solve, the next
     mode of the extraction's header is regular and the case balances or is reported."""
-    import sys
-    from pathlib import Path
-    sys.path.insert(0, str(Path(__file__).resolve().parent))
-    from run_long_fuzz import network_sizes
-    from steamnet.synth import random_model_text
-    nh, ni = network_sizes(100228)
-    m = loads_model(random_model_text(100228, n_headers=nh, n_items=ni), source="s.toml")
+    m = _long_fuzz_model(100228)
     for c in [None] + [c.name for c in m.cases]:
         r = solve_case(m, c)
         assert r.status in ("solved", "infeasible"), r.message
@@ -368,12 +374,6 @@ def test_extraction_and_letdown_in_series_find_their_mode():
                    "let-down, and its exhaust on a header that flips between venting and "
                    "supplying; the iteration does not settle (long-fuzz seed 108628)")
 def test_fixed_power_turbine_with_shared_extraction_group_settles():
-    import sys
-    from pathlib import Path
-    sys.path.insert(0, str(Path(__file__).resolve().parent))
-    from run_long_fuzz import network_sizes
-    from steamnet.synth import random_model_text
-    nh, ni = network_sizes(108628)
-    m = loads_model(random_model_text(108628, n_headers=nh, n_items=ni), source="s.toml")
+    m = _long_fuzz_model(108628)
     r = solve_case(m)
     assert r.status in ("solved", "infeasible"), r.message
