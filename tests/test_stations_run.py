@@ -79,3 +79,24 @@ def test_cli_exit_1_when_a_check_fails():
     assert r.returncode == 1
     first = [l for l in r.stdout.splitlines() if l.strip().startswith(("FAIL", "WARN"))]
     assert first and first[0].strip().startswith("FAIL")     # worst first
+
+
+def test_idle_station_rows_equal_a_fresh_check(demo_report):
+    """The rows of a station that passes no steam are reused across cases; they must
+    equal what check_point gives for that case."""
+    from steamnet.stations.checks import check_point
+    from steamnet.stations.run import station_points
+    study, rep = demo_report
+    data = station_data(study.model)
+    seen = 0
+    for cr in study.cases:
+        for p in station_points(cr):
+            if p.m_steam > 0:
+                continue
+            fresh = check_point(data[p.station], p)
+            got = rep.checks[(rep.checks.case == p.case) & (rep.checks.station == p.station)]
+            assert list(got["check"]) == [r.check for r in fresh]
+            assert list(got["status"]) == [r.status.value for r in fresh]
+            assert list(got["advice"]) == [r.advice for r in fresh]
+            seen += 1
+    assert seen >= 2

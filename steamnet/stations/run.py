@@ -9,6 +9,7 @@ each station's operating point from a solved case; :func:`run_checks` runs every
 
 from __future__ import annotations
 
+import dataclasses
 from dataclasses import dataclass
 
 import pandas as pd
@@ -199,11 +200,17 @@ def _run_checks(study, data) -> StationReport:
     per_station: dict[str, list] = {}
     per_rows: dict[str, list] = {}
     gains = []
+    idle: dict[str, list] = {}    # a station passing no steam: the same rows every case
     for cr in study.cases:
         for p in station_points(cr):
             if p.station not in data:
                 continue
-            r = check_point(data[p.station], p)
+            if p.m_steam <= 0 and p.station in idle:
+                r = [dataclasses.replace(x, case=p.case) for x in idle[p.station]]
+            else:
+                r = check_point(data[p.station], p)
+                if p.m_steam <= 0:
+                    idle[p.station] = r
             rows.extend(r)
             per_station.setdefault(p.station, []).append(p)
             per_rows.setdefault(p.station, []).extend(r)
