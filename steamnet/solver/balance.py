@@ -363,6 +363,12 @@ def _extraction_bounds(net: Net, co: Coeffs, x: np.ndarray | None) -> dict:
                 if a < 0:
                     l1, l2 = l2, l1
                 lo, hi = max(lo, l1), min(hi, l2)
+            if lo > hi:
+                # the turbine's limits cannot all hold with the other extractions where
+                # they are: hold this one at the tighter end, so the header's sequence
+                # stays ordered; the turbine's own limits are then reported
+                # (_derived_findings) if the case settles there
+                lo = hi = max(min(hi, e["hi"]), e["lo"])
             eff[e["var"]] = (lo, hi)
     return eff
 
@@ -593,6 +599,7 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
     it = 0
     relax, r_prev = 1.0, None
     recent: list[set] = []      # exhausted (header, side) of the last iterations
+    still = 0                   # iterations in a row in which nothing moved
     for it in range(1, max_iter + 1):
         # before the first solve, bound the extractions as if the others were at zero
         eff = _extraction_bounds(net, co, x if x is not None else np.zeros(n))
@@ -635,9 +642,12 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
                 new_modes[first] = _step(modes[first], new_modes[first])
             modes = new_modes
         co = coefficients(net, h, x)
+        still = still + 1 if (dh < tol_h and dx < tol_x) else 0
         if dh < tol_h and dx < tol_x and (not mode_changed
-                                          or history.get(tuple(modes), 0) > 2):
-            break   # settled; or a header flips between two modes that balance alike
+                                          or history.get(tuple(modes), 0) > 2
+                                          or still >= 5):
+            break   # settled; or headers flip between modes that balance alike (the
+            #         flows and enthalpies no longer move, so the answer is the same)
     else:
         msg = (f"not converged after {max_iter} iterations (last enthalpy change "
                f"{dh:.3g} J/kg, flow change {dx:.3g} kg/s)")
