@@ -35,7 +35,7 @@ def _solve_one(model, spec, start, tables, models: "_CaseModels | None" = None):
         if models is not None:
             try:
                 m, name = models.get(spec)
-                validate_model(m)
+                models.validate(m, spec)
             except ModelError:
                 return _solve_one(model, spec, start, tables)
             r = solve_model(m, name, start=start, tables=tables, like=models.net)
@@ -68,6 +68,23 @@ class _CaseModels:
         self.model = model
         self.bases: dict = {}
         self.net = None
+        self._valid: set[int] = set()         # id of base models that passed validation
+        self._last_base = None
+
+    def validate(self, m, spec) -> None:
+        """Validate case model ``m``: fully, unless its base passed and the case's own
+        value changes are ones validation never reads (then only what they touch)."""
+        from .model.validate import validate_model, validate_value_changes
+        base = self._last_base
+        if (isinstance(spec, str) or base is None or len(spec) < 2):
+            validate_model(m)
+            return
+        if id(base) not in self._valid:
+            validate_model(base)
+            self._valid.add(id(base))
+        values = self._last_values
+        if not validate_value_changes(m, values):
+            validate_model(m)
 
     def _base(self, key, make):
         try:
@@ -94,6 +111,7 @@ class _CaseModels:
         if other:
             base = self._base(("changes", based_on, tuple(other.items())),
                               lambda: base.with_changes(other, origin=origin))
+        self._last_base, self._last_values = base, values
         return base.with_values(values, origin=origin), name
 
 

@@ -55,3 +55,18 @@ def test_dask_local_cluster_on_loopback(model):
                                        scheduler=cluster.scheduler_address)
     serial = steamnet.solve_cases(model, specs, tables=False)
     pd.testing.assert_frame_equal(_frame(serial), _frame(on_dask), check_exact=True)
+
+
+def test_value_only_cases_are_still_validated(model):
+    """Cases that change only demands and the make-up temperature skip the full
+    cross-item validation; what those values can break is still checked: make-up water
+    above saturation at the deaerator (IAPWS-IF97 saturation, 0.4 bar(g): about 109 degC)
+    and a negative demand are errors of their own case only."""
+    specs = _specs(4)
+    specs[1] = ("hot", {**specs[1][1], "site.makeup_temperature": SI(273.15 + 150)},
+                "winter")
+    specs[2] = ("neg", {**specs[2][1], "user.PM1 dryer section.demand": "-3 t/h"},
+                "winter")
+    st = steamnet.solve_cases(model, specs, tables=False)
+    assert [c.status for c in st.cases] == ["solved", "error", "error", "solved"]
+    assert "make-up" in st.cases[1].message and "negative" in st.cases[2].message

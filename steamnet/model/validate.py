@@ -107,18 +107,7 @@ def validate_model(model: Model) -> None:
                     f"heating-steam header '{da.header}'")
         if not (props.P_MIN < da.pressure < props.P_CRIT):
             err("deaerator", n, "pressure", "outside IAPWS-IF97 saturation range")
-    mk_p = (next(iter(deaerators.values())).pressure if deaerators
-            else model.site.atmospheric_pressure)
-    t_mk = model.site.makeup_temperature
-    try:
-        if not (props.T_MIN < t_mk < props.t_sat(mk_p)):
-            errs.append(ModelError(
-                f"{t_mk - 273.15:.6g} degC is not a temperature of liquid make-up water "
-                f"(above 0 degC, below saturation {props.t_sat(mk_p) - 273.15:.1f} degC "
-                "at the deaerator)", file=src, item=f"{case}site",
-                field="makeup_temperature"))
-    except PropertyRangeError:
-        pass       # the deaerator pressure is reported below
+    errs.extend(_makeup_errors(model, case))
     # ------------------------------------------------------------- water supplies
     for n, ws in supplies.items():
         if not (props.P_MIN < ws.pressure <= props.P_MAX):
@@ -269,6 +258,56 @@ def _check_liquid_temperature(err, table, name, t) -> None:
     if t is not None and not (props.T_MIN < t < props.T_CRIT - 1):
         err(table, name, "condensate_temperature", f"{t - 273.15:.6g} degC is not a "
             f"temperature of liquid water (0 to {props.T_CRIT - 274.15:.0f} degC)")
+
+
+#: Fields that :func:`validate_model` never reads (table -> fields): a case that
+#: changes only these, on a model that passed validation, passes it too. The make-up
+#: temperature is read by one check only, :func:`_makeup_errors`.
+VALIDATION_FREE_FIELDS = {
+    "user": frozenset({"demand", "duty", "group"}),
+    "header": frozenset({"heat_loss", "description"}),
+    "prices": frozenset({"fuel", "electricity", "makeup_water"}),
+}
+
+
+def _makeup_errors(model: Model, case: str = "") -> list[ModelError]:
+    """The make-up water must be liquid at the deaerator (or site) pressure."""
+    deaerators = model.table("deaerator")
+    mk_p = (next(iter(deaerators.values())).pressure if deaerators
+            else model.site.atmospheric_pressure)
+    t_mk = model.site.makeup_temperature
+    try:
+        if not (props.T_MIN < t_mk < props.t_sat(mk_p)):
+            return [ModelError(
+                f"{t_mk - 273.15:.6g} degC is not a temperature of liquid make-up water "
+                f"(above 0 degC, below saturation {props.t_sat(mk_p) - 273.15:.1f} degC "
+                "at the deaerator)", file=model.source, item=f"{case}site",
+                field="makeup_temperature")]
+    except PropertyRangeError:
+        pass       # the deaerator pressure is reported by validate_model
+    return []
+
+
+def validate_value_changes(model: Model, changes) -> bool:
+    """Validate ``model``, made from an already validated model by ``changes``, as far
+    as those changes can matter; return False when they touch a field that needs the
+    full :func:`validate_model` (the caller then runs it). Raises like it."""
+    only_makeup = False
+    for key in changes:
+        parts = str(key).split(".")
+        table, field = parts[0], parts[-1]
+        if table == "site" and field == "makeup_temperature" and len(parts) == 2:
+            only_makeup = True
+            continue
+        if field not in VALIDATION_FREE_FIELDS.get(table, ()) or \
+                (table != "prices" and len(parts) != 3):
+            return False
+    if only_makeup:
+        case = f"case '{model.case_name}': " if model.case_name else ""
+        errs = _makeup_errors(model, case)
+        if errs:
+            raise ModelErrors(errs)
+    return True
 
 
 def _check_superheated(err, table, name, field, p, t) -> None:
