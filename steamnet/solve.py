@@ -26,6 +26,11 @@ from .solver.results import (TH, equipment_table, header_table, residuals, strea
 __all__ = ["CaseResult", "StudyResult", "solve_case", "solve_model", "solve_cases",
            "case_cost", "totals"]
 
+#: The empty table of a case solved without tables (long sweeps), shared by all such
+#: results because making an empty DataFrame costs more than a lean balance's bookkeeping;
+#: treat result tables as read-only.
+_NO_TABLE = pd.DataFrame()
+
 #: Relative closure every solved case must meet (issue 2: 1e-6 relative).
 CLOSURE = 1e-6
 
@@ -200,8 +205,8 @@ def _empty(case: str, status: str, message: str, findings=None, iterations=0,
                       iterations=iterations,
                       summary={"case": case, "status": status, "message": message,
                                "iterations": iterations},
-                      headers=pd.DataFrame(), equipment=pd.DataFrame(),
-                      streams=pd.DataFrame(), water={}, residuals={}, solution=solution)
+                      headers=_NO_TABLE, equipment=_NO_TABLE,
+                      streams=_NO_TABLE, water={}, residuals={}, solution=solution)
 
 
 def solve_case(model: Model, case: str | None = None, *, start: dict | None = None,
@@ -263,7 +268,7 @@ def solve_model(m: Model, name: str, *, start: dict | None = None, tables: bool 
             hd = header_table(sol, name, res)
             st = stream_table(sol, name) if streams else pd.DataFrame()
         else:
-            eq = hd = st = pd.DataFrame()
+            eq = hd = st = _NO_TABLE
     except (ItemPropertyError, PropertyRangeError) as exc:
         return _empty(name, "error", f"outside IAPWS-IF97: {exc}", solution=sol)
     wb = res["water"]
