@@ -9,13 +9,12 @@ Public API::
 """
 
 from ._version import FORMAT_VERSION, __version__
-from .errors import (ModelError, ModelErrors, NotConvergedError, PropertyRangeError,
-                     SteamnetError)
+from .errors import ModelError, ModelErrors, PropertyRangeError, SteamnetError
 from .model.model import Model, load_model, loads_model
 from .solve import CaseResult, StudyResult, solve_case, solve_cases
 
 __all__ = [
     "__version__", "FORMAT_VERSION", "load_model", "loads_model", "Model", "solve_case",
     "solve_cases", "CaseResult", "StudyResult", "SteamnetError", "ModelError",
-    "ModelErrors", "PropertyRangeError", "NotConvergedError",
+    "ModelErrors", "PropertyRangeError",
 ]

@@ -67,7 +67,3 @@ class ModelErrors(ModelError):
 
 class PropertyRangeError(SteamnetError):
     """A water/steam state lies outside the range of IAPWS-IF97."""
-
-
-class NotConvergedError(SteamnetError):
-    """The balance iteration did not converge."""

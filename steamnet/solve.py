@@ -8,20 +8,16 @@
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass, field, replace
 from typing import Callable, Iterable
 
-import numpy as np
 import pandas as pd
 
-from .errors import ModelError
 from .model.model import Model
 from .model.validate import validate_model
 from .solver.balance import Solution, solve_net
 from .solver.network import ItemPropertyError, build
-from .solver.results import (TH, equipment_table, header_table, residuals, stream_table,
-                             water_balance)
+from .solver.results import TH, equipment_table, header_table, residuals, stream_table
 
 __all__ = ["CaseResult", "StudyResult", "solve_case", "solve_model", "solve_cases",
            "case_cost", "totals"]

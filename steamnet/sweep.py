@@ -12,7 +12,7 @@ from concurrent.futures import ProcessPoolExecutor
 from typing import Callable, Sequence
 
 from ._gc import young_collections_only
-from .errors import ModelError, ModelErrors
+from .errors import ModelError
 
 __all__ = ["run_sweep", "CHUNK"]
 

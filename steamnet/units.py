@@ -23,7 +23,7 @@ import pint
 from .errors import ModelError
 
 __all__ = ["Kind", "parse_quantity", "parse_number_with_unit", "unit_factor", "UREG",
-           "format_pressure", "STANDARD_ATMOSPHERE"]
+           "STANDARD_ATMOSPHERE"]
 
 #: Standard atmosphere [Pa] (ISO 2533; the conventional 1.01325 bar).
 STANDARD_ATMOSPHERE = 101325.0
@@ -97,7 +97,6 @@ _PRESSURE_UNITS = {
 _GAUGE_RE = re.compile(r"^(?P<base>.+?)\s*(?:\((?P<p>[gaGA])\)|(?P<s>[ga]))$")
 _NUM_RE = re.compile(r"^\s*(?P<num>[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*(?P<unit>.*?)\s*$")
 _RATIO_RE = re.compile(r"^\s*(?P<a>\d+\.?\d*)\s*:\s*(?P<b>\d+\.?\d*)\s*$")
-_FLOW_COEFF = {"kv": 1.0, "cv": None}   # Cv converted with fluids' factor below
 
 
 def _err(msg: str) -> ModelError:
@@ -298,8 +297,3 @@ def parse_quantity(value, kind: Kind | str, *, p_atm: float = STANDARD_ATMOSPHER
     if not math.isfinite(si):
         raise _err(f"'{value}' is too large")
     return si
-
-
-def format_pressure(p_pa: float, p_atm: float = STANDARD_ATMOSPHERE) -> str:
-    """Human-readable gauge pressure, e.g. '42.0 bar(g)'."""
-    return f"{(p_pa - p_atm) / 1e5:.2f} bar(g)"

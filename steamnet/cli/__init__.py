@@ -72,10 +72,10 @@ def main(debug: bool) -> None:
 from . import commands  # noqa: E402,F401  (registers the subcommands)
 from . import studies  # noqa: E402,F401  (study subcommands)
 from . import report  # noqa: E402,F401  (the results workbook)
+from . import stations  # noqa: E402,F401  (the station checks)
 
 __all__ = ["main", "EXIT_OK", "EXIT_FAIL", "EXIT_INPUT", "EXIT_OUTPUT", "EXIT_INTERNAL"]
 
 
 if __name__ == "__main__":  # pragma: no cover
     sys.exit(main())
-from . import stations  # noqa: E402,F401

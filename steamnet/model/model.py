@@ -14,13 +14,12 @@ import tomllib
 from dataclasses import dataclass, field, replace
 from functools import cached_property
 from pathlib import Path
-from typing import Any, Iterable
+from typing import Any
 
 from pydantic import ValidationError
 
 from .._version import FORMAT_VERSION
 from ..errors import ModelError, ModelErrors
-from ..units import STANDARD_ATMOSPHERE, Kind, parse_quantity
 from .schema import EQUIPMENT_TABLES, NAME_RE, Case, Prices, Site
 
 __all__ = ["Model", "load_model", "loads_model", "ITEM_LABELS"]
@@ -497,17 +496,3 @@ def _build(doc: dict, *, source: str, sha256: str) -> Model:
     if errors:
         raise ModelErrors(errors)
     return model
-
-
-def parse_si(value: Any, kind: Kind, model: Model) -> float:
-    """Parse one quantity in the context of ``model``'s site."""
-    return parse_quantity(value, kind, p_atm=model.site.atmospheric_pressure
-                          if model else STANDARD_ATMOSPHERE,
-                          currency=model.site.currency if model else "EUR")
-
-
-def iter_items(model: Model, tables: Iterable[str] | None = None):
-    """(table, name, item) for every item, tables in schema order."""
-    for t in (tables or EQUIPMENT_TABLES):
-        for n, it in model.table(t).items():
-            yield t, n, it

@@ -30,7 +30,7 @@ import time
 import numpy as np
 
 from .assembly import Plan, da_entries, header_entries
-from .network import (INF, CaseInfeasible, Coeffs, ItemPropertyError, Net, build,
+from .network import (INF, Coeffs, ItemPropertyError, Net, build,
                       coefficients)
 from .network import group_bounds as _group_bounds
 
@@ -636,10 +636,10 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
         if mode_changed:
             key = tuple(new_modes)
             history[key] = history.get(key, 0) + 1
-            if history[key] > 3:   # cycling between modes: move one header at a time
-                first = next(i for i, (a, bb) in enumerate(zip(modes, new_modes)) if a != bb)
+            if history[key] > 3:
+                # cycling between modes: stay in the present ones, so the enthalpies
+                # and flows settle and the stopping rule below can end the solve
                 new_modes = list(modes)
-                new_modes[first] = _step(modes[first], new_modes[first])
             modes = new_modes
         co = coefficients(net, h, x)
         still = still + 1 if (dh < tol_h and dx < tol_x) else 0
@@ -739,10 +739,6 @@ def _singular_message(net: Net, trip) -> str:
             "from outside the group, or fix one of the flows")
 
 
-def _step(old, new):
-    return new
-
-
 def _modes_valid(net: Net, modes) -> bool:
     """Whether warm-start ``modes`` fit ``net``: every header's moving group or absorber
     exists, and every one before it, held at its maximum, has a finite maximum (a case
@@ -761,4 +757,4 @@ def _modes_valid(net: Net, modes) -> bool:
     return True
 
 
-__all__ += ["CaseInfeasible", "ItemPropertyError", "header_inflows", "IDLE_FLOW"]
+__all__ += ["ItemPropertyError", "header_inflows", "IDLE_FLOW"]

@@ -25,14 +25,6 @@ VENT_RANK = 1000
 USER_DH_FLOOR = 0.01
 
 
-class CaseInfeasible(Exception):
-    """The case cannot balance; carries findings for the report."""
-
-    def __init__(self, message: str, findings: list[dict]):
-        super().__init__(message)
-        self.findings = findings
-
-
 class ItemPropertyError(Exception):
     """A property call of one item fell outside IAPWS-IF97."""
 

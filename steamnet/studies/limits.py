@@ -17,6 +17,8 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
+from ..model.model import ITEM_LABELS
+
 __all__ = ["Check", "limit_checks", "newly_binding", "station_loads", "TH"]
 
 TH = 3.6                       # kg/s -> t/h
@@ -88,9 +90,7 @@ class Check:
         }.get(self.kind, f"{who} reaches its {self.kind} {lim}")
 
 
-_LABEL = {"boiler": "boiler", "steam_transfer": "steam transfer", "turbine": "turbine",
-          "extraction_turbine": "extraction turbine", "extraction": "extraction",
-          "letdown": "letdown", "vent": "vent", "header": "header"}
+_LABEL = {**ITEM_LABELS, "extraction": "extraction"}
 
 
 def station_loads(sol) -> list[dict]:
