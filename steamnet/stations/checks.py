@@ -493,10 +493,11 @@ def check_across_cases(data: StationData, points: list[StationPoint], *,
     rated = (ds.rated_max_steam / ds.rated_min_steam
              if ds is not None and ds.rated_min_steam and ds.rated_max_steam else None)
     worst_by_check: dict[str, Status] = {}
-    for r in point_rows + rows:
-        worst_by_check[r.check] = worst([worst_by_check.get(r.check,
-                                                            Status.NOT_APPLICABLE),
-                                         r.status])
+    # each (check, verdict) pair once, in order of first appearance (a year of cases
+    # repeats a handful of pairs a hundred thousand times)
+    for check, status in dict.fromkeys((r.check, r.status) for r in point_rows + rows):
+        worst_by_check[check] = worst([worst_by_check.get(check, Status.NOT_APPLICABLE),
+                                       status])
     envelope = {
         "station": data.name,
         "cases": [p.case for p in flowing],

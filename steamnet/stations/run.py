@@ -9,7 +9,6 @@ each station's operating point from a solved case; :func:`run_checks` runs every
 
 from __future__ import annotations
 
-import dataclasses
 from dataclasses import dataclass
 
 import pandas as pd
@@ -21,7 +20,7 @@ from ..errors import ModelError, ModelErrors
 from ..units import Kind, parse_quantity
 from .checks import check_across_cases, check_point
 from .data import DesuperheaterData, StationData, StationLimits, StationPoint, ValveData
-from .rows import SEVERITY, Status
+from .rows import SEVERITY, CheckRow, Status
 
 __all__ = ["StationReport", "station_data", "station_points", "points_from_solution",
            "run_checks", "parse_limits"]
@@ -206,7 +205,7 @@ def _run_checks(study, data) -> StationReport:
             if p.station not in data:
                 continue
             if p.m_steam <= 0 and p.station in idle:
-                r = [dataclasses.replace(x, case=p.case) for x in idle[p.station]]
+                r = [CheckRow(p.case, *x[1:]) for x in idle[p.station]]
             else:
                 r = check_point(data[p.station], p)
                 if p.m_steam <= 0:
@@ -230,13 +229,18 @@ def _run_checks(study, data) -> StationReport:
 
 
 def _check_frame(rows: list) -> pd.DataFrame:
-    """The checks table: one row per CheckRow, CHECK_COLUMNS, built column by column
-    (a year of hourly cases has some 300,000 rows)."""
+    """The checks table: one row per CheckRow, CHECK_COLUMNS (the fields of a CheckRow,
+    in order), built column by column (a year of hourly trip cases has about a million
+    rows); statuses as their plain strings."""
     if not rows:
         return pd.DataFrame([], columns=CHECK_COLUMNS)
-    cols = {k: [getattr(r, k) for r in rows] for k in CHECK_COLUMNS}
-    cols["status"] = [Status(r.status).value for r in rows]
+    cols = dict(zip(CHECK_COLUMNS, zip(*rows)))
+    cols["status"] = [_STATUS_TEXT[s] for s in cols["status"]]
     return pd.DataFrame(cols, columns=CHECK_COLUMNS)
+
+
+#: Status (or its text) -> its text (a dict lookup: Status(s).value costs more)
+_STATUS_TEXT = {**{s: s.value for s in Status}, **{s.value: s.value for s in Status}}
 
 
 def _flatten_envelope(env: dict, across) -> dict:
