@@ -353,3 +353,24 @@ def test_viscosity_asked_once_per_state():
     assert props.stats()["evaluations"] == n + 1
     assert props.viscosity(st) == mu == _Viscosity(st.rho, st.t)
     assert props.stats()["evaluations"] == n + 1
+
+
+# ------------------------------------------------------------ the dense linear solve
+def test_dense_solve_matches_numpy_linalg_and_rejects_singular_systems():
+    """The iterations solve their dense systems with LAPACK dgesv directly; the
+    reference is numpy.linalg.solve (the same LU with partial pivoting behind numpy's
+    wrapper), on random systems the size of plant balances, and a singular matrix
+    (exactly, and to the last bit) must give None, as numpy raises LinAlgError."""
+    rng = np.random.default_rng(7)
+    for n in (2, 5, 15, 40, 120):
+        a = rng.normal(size=(n, n)) + n * np.eye(n)
+        b = rng.normal(size=n)
+        x = balance._dense_solve(a, b)
+        ref = np.linalg.solve(a, b)
+        assert np.allclose(x, ref, rtol=1e-12, atol=0.0)
+        assert np.allclose(a @ x, b, rtol=0.0, atol=1e-12 * np.abs(b).max())
+    singular = np.array([[1.0, 2.0, 0.0], [2.0, 4.0, 0.0], [0.0, 0.0, 1.0]])
+    with pytest.raises(np.linalg.LinAlgError):
+        np.linalg.solve(singular, np.ones(3))
+    assert balance._dense_solve(singular, np.ones(3)) is None
+    assert balance._dense_solve(np.zeros((4, 4)), np.ones(4)) is None
