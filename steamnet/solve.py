@@ -89,6 +89,9 @@ class StudyResult:
 
     model: Model
     cases: list[CaseResult]
+    #: single-point station checks made while solving (``station_checks=``), one
+    #: :class:`~steamnet.stations.run.PointChecks` per chunk; :func:`run_checks` uses them
+    point_checks: list | None = None
 
     def _cat(self, attr: str) -> pd.DataFrame:
         frames = [getattr(c, attr) for c in self.cases if len(getattr(c, attr))]
@@ -308,7 +311,8 @@ def _summary(name, status, message, sol, tot, wb, res, cost) -> dict:
 def solve_cases(model: Model, cases: Iterable | None = None, *,
                 progress: Callable[[int, int, str], None] | None = None,
                 warm_start: bool = True, workers: int = 1, scheduler: str | None = None,
-                tables: bool = True, reference: bool = False) -> StudyResult:
+                tables: bool = True, reference: bool = False,
+                station_checks: "bool | dict" = False) -> StudyResult:
     """Solve every case of ``model`` (or the given ones; the base model when it has no
     cases). A case that cannot balance is reported and the others still run.
 
@@ -326,11 +330,24 @@ def solve_cases(model: Model, cases: Iterable | None = None, *,
     reference : bool
         Make, build and solve every case from scratch with the reference assembly (the
         code before issue 7), to check that the fast path gives the same answers [-]
+    station_checks : bool or dict
+        Also run the single-point station checks of every case where it is solved (in
+        the workers of a parallel sweep), for :func:`steamnet.stations.run.run_checks`
+        to join; True checks against ``station_data(model)``, a dict against the
+        station data given. The report is the same as without [-]
     """
-    from .sweep import run_sweep
+    from .sweep import _chunk_checks, run_sweep
     specs = list(cases) if cases is not None else [c.name for c in model.cases]
+    stations = None
+    if station_checks is not False and station_checks is not None:
+        from .stations.run import station_data
+        stations = station_data(model) if station_checks is True else station_checks
     if not specs:
-        return StudyResult(model, [solve_case(model, reference=reference)])
-    out = run_sweep(model, specs, workers=workers, scheduler=scheduler, tables=tables,
-                    progress=progress, warm_start=warm_start, reference=reference)
-    return StudyResult(model, out)
+        one = [solve_case(model, reference=reference)]
+        block = _chunk_checks(stations, one)
+        return StudyResult(model, one, None if block is None else [block])
+    out, blocks = run_sweep(model, specs, workers=workers, scheduler=scheduler,
+                            tables=tables, progress=progress, warm_start=warm_start,
+                            reference=reference, stations=stations)
+    return StudyResult(model, out, blocks)
+

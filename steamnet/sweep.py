@@ -131,59 +131,76 @@ def solve_chunk(model, specs: Sequence, tables: bool = False, warm_start: bool =
     return out
 
 
-_WORKER_MODEL = None
+def _chunk_checks(stations, part):
+    """The single-point station checks of a solved chunk (None when not asked for)."""
+    if stations is None:
+        return None
+    from .stations.run import point_checks
+    return point_checks(stations, part)
 
 
-def _init_worker(model) -> None:
-    global _WORKER_MODEL
-    _WORKER_MODEL = model
+_WORKER = (None, None)      # (model, station data) of this worker process
 
 
-def _counted_chunk(model, specs, tables, warm_start, reference):
+def _init_worker(model, stations) -> None:
+    global _WORKER
+    _WORKER = (model, stations)
+
+
+def _counted_chunk(model, stations, specs, tables, warm_start, reference):
     """A chunk solved away from the caller: the results without their raw solutions,
-    and the property statistics of the chunk (added to the caller's)."""
+    their station checks when asked for, and the property statistics of the chunk
+    (added to the caller's)."""
     from . import properties as props
     before = props.stats()
     part = solve_chunk(model, specs, tables, warm_start, keep_solution=False,
                        reference=reference)
+    checks = _chunk_checks(stations, part)
     after = props.stats()
-    return part, {k: after[k] - before[k] for k in after}
+    return part, checks, {k: after[k] - before[k] for k in after}
 
 
 def _worker_chunk(specs, tables, warm_start, reference):
-    return _counted_chunk(_WORKER_MODEL, specs, tables, warm_start, reference)
+    return _counted_chunk(*_WORKER, specs, tables, warm_start, reference)
 
 
-def _dask_chunk(model, specs, tables, warm_start, reference):
-    return _counted_chunk(model, specs, tables, warm_start, reference)
+def _dask_chunk(model, stations, specs, tables, warm_start, reference):
+    return _counted_chunk(model, stations, specs, tables, warm_start, reference)
 
 
 def run_sweep(model, specs: Sequence, *, workers: int = 1, scheduler: str | None = None,
               tables: bool = True, progress: Callable[[int, int, str], None] | None = None,
-              warm_start: bool = True, chunk: int = CHUNK, reference: bool = False) -> list:
+              warm_start: bool = True, chunk: int = CHUNK, reference: bool = False,
+              stations: dict | None = None) -> tuple[list, list | None]:
     """Solve ``specs`` (see :func:`steamnet.solve.solve_cases`) and return the
-    CaseResults in order. In processes or on a cluster the raw solutions are not sent
+    CaseResults in order, and with ``stations`` (station data, as
+    :func:`steamnet.stations.run.station_data` gives) the single-point station checks
+    of every chunk (:class:`~steamnet.stations.run.PointChecks`), made where the chunk
+    was solved; else None. In processes or on a cluster the raw solutions are not sent
     back (each result keeps its tables, summary and station operating points); the
     property statistics of the workers are added to this process's
     (:func:`steamnet.properties.stats`)."""
     with young_collections_only():
         return _run_sweep(model, list(specs), workers=workers, scheduler=scheduler,
                           tables=tables, progress=progress, warm_start=warm_start,
-                          chunk=chunk, reference=reference)
+                          chunk=chunk, reference=reference, stations=stations)
 
 
 def _run_sweep(model, specs: list, *, workers, scheduler, tables, progress, warm_start,
-               chunk, reference) -> list:
+               chunk, reference, stations) -> tuple[list, list | None]:
     from . import properties as props
     chunks = [specs[i:i + chunk] for i in range(0, len(specs), chunk)]
     total = len(specs)
     done = 0
     results: list = []
+    checks: list | None = [] if stations is not None else None
 
-    def tick(part, stats=None):
+    def tick(part, block=None, stats=None):
         nonlocal done
         if stats:
             props.add_stats(stats)
+        if checks is not None:
+            checks.append(block)
         done += len(part)
         if progress and part:
             progress(done, total, part[-1].case)
@@ -197,36 +214,38 @@ def _run_sweep(model, specs: list, *, workers, scheduler, tables, progress, warm
         client = Client(scheduler)
         try:
             m = client.scatter(model, broadcast=True)
-            futures = [client.submit(_dask_chunk, m, c, tables, warm_start, reference,
-                                     pure=False) for c in chunks]
+            st = client.scatter(stations, broadcast=True) if stations is not None \
+                else None
+            futures = [client.submit(_dask_chunk, m, st, c, tables, warm_start,
+                                     reference, pure=False) for c in chunks]
             for f in futures:
-                part, stats = f.result()
+                part, block, stats = f.result()
                 results.extend(part)
-                tick(part, stats)
+                tick(part, block, stats)
         except BaseException:
             for f in locals().get("futures", []):
                 f.cancel()
             raise
         finally:
             client.close()
-        return results
+        return results, checks
     if workers <= 1 or len(chunks) <= 1:
         for c in chunks:
             part = solve_chunk(model, c, tables, warm_start, reference=reference)
             results.extend(part)
-            tick(part)
-        return results
+            tick(part, _chunk_checks(stations, part))
+        return results, checks
     ex = ProcessPoolExecutor(max_workers=workers, initializer=_init_worker,
-                             initargs=(model,))
+                             initargs=(model, stations))
     try:
         futures = [ex.submit(_worker_chunk, c, tables, warm_start, reference)
                    for c in chunks]
         for f in futures:
-            part, stats = f.result()
+            part, block, stats = f.result()
             results.extend(part)
-            tick(part, stats)
+            tick(part, block, stats)
     except BaseException:
         ex.shutdown(wait=False, cancel_futures=True)
         raise
     ex.shutdown()
-    return results
+    return results, checks

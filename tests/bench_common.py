@@ -264,13 +264,18 @@ def main(doc: str, run_one, argv=None, extra_args=None) -> None:
 
 def sweep_config(cfg: str, a, title: str, model, specs: list) -> tuple[dict, object]:
     """Solve ``specs`` and run the station checks on them in configuration ``cfg``
-    (``fast:N``, ``reference:1`` or ``dask:N``); print the figures; return the report
-    dict and the study."""
+    (``fast:N``, ``reference:1``, ``before:1`` or ``dask:N``); print the figures;
+    return the report dict and the study. The single-point station checks are made
+    while solving (``station_checks=True``: in the workers when there are workers),
+    except by a package older than that option, which runs them all afterwards."""
     import steamnet
     from steamnet.stations.run import run_checks
     kind, n = cfg.split(":")
     n = int(n)
+    import inspect
     kw: dict = {"tables": False}
+    if "station_checks" in inspect.signature(steamnet.solve_cases).parameters:
+        kw["station_checks"] = True      # point checks where each chunk is solved
     cluster = None
     if kind == "reference":
         kw["reference"] = True
@@ -290,9 +295,10 @@ def sweep_config(cfg: str, a, title: str, model, specs: list) -> tuple[dict, obj
     try:
         with Run(f"{title}, {label}", len(specs), n, a.tracemalloc) as r:
             study = steamnet.solve_cases(model, specs, **kw)
-            r.mark("solve")
+            r.mark("solve" + (" and point checks" if "station_checks" in kw else ""))
             report = run_checks(study)
-            r.mark("station checks")
+            r.mark("station checks" if "station_checks" not in kw else
+                   "joining them, checks across cases")
     finally:
         if cluster is not None:
             cluster.close()

@@ -13,6 +13,7 @@ bit-identical, which the assembly tests check directly.
 
 from __future__ import annotations
 
+import dataclasses
 import math
 
 import networkx as nx
@@ -264,21 +265,62 @@ def test_worker_property_counts_reach_the_caller(demo):
 
 
 # ------------------------------------------------------------- tables and parsing
-def test_check_table_built_by_columns_equals_the_records(demo):
-    """run_checks builds its table column by column; the frame is the one pandas makes
-    from one record per row."""
+def _records_table(study, data):
+    """The checks table made the plain way: one record per row of the public check
+    functions, every case's single-point rows and then each station's rows across
+    cases."""
     import pandas as pd
     from steamnet.stations import run
-    from steamnet.stations.checks import check_point
-    study = steamnet.solve_cases(demo, _hours(30), tables=False)
+    from steamnet.stations.checks import check_across_cases, check_point
+    rows, per_station = [], {}
+    for c in study.cases:
+        for p in run.station_points(c):
+            rows.extend(check_point(data[p.station], p))
+            per_station.setdefault(p.station, []).append(p)
+    for name, pts in per_station.items():
+        rows.extend(check_across_cases(data[name], pts)[0])
+    return pd.DataFrame([{**{k: getattr(r, k) for k in run.CHECK_COLUMNS},
+                          "status": run.Status(r.status).value} for r in rows],
+                        columns=run.CHECK_COLUMNS)
+
+
+def test_check_table_built_by_columns_equals_the_records(demo):
+    """run_checks builds its table column by column (idle stations' rows copied); the
+    frame is the one pandas makes from one record per row."""
+    import pandas as pd
+    from steamnet.stations import run
+    specs = _hours(30) + [(f"h{i:04d} TG1 trip", {**ch, "turbine.TG1.mode": "tripped"},
+                           base) for i, (_, ch, base) in enumerate(_hours(30))]
+    study = steamnet.solve_cases(demo, specs, tables=False)
     data = run.station_data(demo)
-    rows = [r for c in study.cases for p in run.station_points(c)
-            for r in check_point(data[p.station], p)]
-    records = pd.DataFrame([{**{k: getattr(r, k) for k in run.CHECK_COLUMNS},
-                             "status": run.Status(r.status).value} for r in rows],
-                           columns=run.CHECK_COLUMNS)
-    pd.testing.assert_frame_equal(run._check_frame(rows), records)
-    assert run._check_frame([]).equals(pd.DataFrame([], columns=run.CHECK_COLUMNS))
+    records = _records_table(study, data)
+    assert records["advice"].str.contains("no steam passes").any()     # idle rows
+    pd.testing.assert_frame_equal(run.run_checks(study).checks, records)
+
+
+@pytest.mark.parametrize("workers", [1, 2])
+def test_station_checks_made_while_solving_give_the_same_report(demo, workers):
+    """solve_cases(station_checks=True) makes the single-point rows where each chunk
+    is solved (in the workers with workers=2); the report equals that of run_checks
+    on a study solved without them, table for table."""
+    import pandas as pd
+    from steamnet.stations import run
+    specs = _hours(60)
+    plain = run.run_checks(steamnet.solve_cases(demo, specs, tables=False))
+    study = steamnet.solve_cases(demo, specs, tables=False, workers=workers,
+                                 station_checks=True)
+    assert study.point_checks and len(study.point_checks) == 3     # chunks of 24
+    joined = run.run_checks(study)
+    for attr in ("checks", "envelopes", "gains"):
+        pd.testing.assert_frame_equal(getattr(joined, attr), getattr(plain, attr))
+    # other station data than the rows were made with: checked again, not reused
+    other = {k: dataclasses.replace(v, sensor_distance=None)
+             for k, v in run.station_data(demo).items()}
+    again = run.run_checks(study, data=other)
+    pd.testing.assert_frame_equal(again.checks,
+                                  run.run_checks(steamnet.solve_cases(
+                                      demo, specs, tables=False), data=other).checks)
+    assert not again.checks.equals(joined.checks)
 
 
 def test_remembered_quantity_texts_still_fail_each_time(demo):

@@ -52,9 +52,16 @@ def test_dask_local_cluster_on_loopback(model):
     with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
                                   host="127.0.0.1", dashboard_address=None) as cluster:
         on_dask = steamnet.solve_cases(model, specs, tables=False,
-                                       scheduler=cluster.scheduler_address)
+                                       scheduler=cluster.scheduler_address,
+                                       station_checks=True)
     serial = steamnet.solve_cases(model, specs, tables=False)
     pd.testing.assert_frame_equal(_frame(serial), _frame(on_dask), check_exact=True)
+    # the station checks made on the cluster's workers join into the serial report
+    from steamnet.stations.run import run_checks
+    assert len(on_dask.point_checks) == 2                   # chunks of 24
+    a, b = run_checks(serial), run_checks(on_dask)
+    for attr in ("checks", "envelopes", "gains"):
+        pd.testing.assert_frame_equal(getattr(a, attr), getattr(b, attr))
 
 
 def test_value_only_cases_are_still_validated(model):

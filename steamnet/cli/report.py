@@ -47,7 +47,7 @@ def report(ctx, model: str, out: str, csv_folder: str | None, cases: tuple[str, 
     data = station_data(m)
     for name in cases:
         m.case(name)
-    study = solve_cases(m, list(cases) if cases else None)
+    study = solve_cases(m, list(cases) if cases else None, station_checks=data)
     names = [c.case for c in study.cases]
     if network_case is not None and network_case not in names:
         raise ModelError(f"no case '{network_case}' in this run (cases: "

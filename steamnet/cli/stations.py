@@ -44,7 +44,7 @@ def stations(ctx, model, cases, json_path, show_all):
     data = station_data(m)
     for name in cases:
         m.case(name)
-    study = solve_cases(m, list(cases) if cases else None)
+    study = solve_cases(m, list(cases) if cases else None, station_checks=data)
     for c in study.cases:
         if not c.ok:
             click.echo(f"case '{c.case}': {c.status}: {c.message}")

@@ -27,6 +27,8 @@ References
 
 from __future__ import annotations
 
+from typing import Iterable
+
 from .. import properties as props
 from ..calc.desuperheater import (evaporation_distance, gain_per_ratio, gain_per_spray,
                                   spray_water_flow)
@@ -457,7 +459,8 @@ def _extreme(points: list[StationPoint], attr: str, pick) -> dict | None:
 
 
 def check_across_cases(data: StationData, points: list[StationPoint], *,
-                       point_rows: list[CheckRow] | None = None
+                       point_rows: list[CheckRow] | None = None,
+                       verdicts: Iterable[tuple[str, Status]] | None = None
                        ) -> tuple[list[CheckRow], dict]:
     """Checks across a station's cases and the station's operating envelope.
 
@@ -469,6 +472,9 @@ def check_across_cases(data: StationData, points: list[StationPoint], *,
         All operating points of this station [-]
     point_rows : list of CheckRow, optional
         Rows of :func:`check_point` for these points, when already computed [-]
+    verdicts : iterable of (check, Status), optional
+        Instead of ``point_rows``: the (check id, verdict) pairs those rows have, each
+        pair once or more [-]
 
     Returns
     -------
@@ -483,8 +489,10 @@ def check_across_cases(data: StationData, points: list[StationPoint], *,
     """
     for p in points:
         _same_station(data, p)
-    if point_rows is None:
-        point_rows = [r for p in points for r in check_point(data, p)]
+    if verdicts is None:
+        if point_rows is None:
+            point_rows = [r for p in points for r in check_point(data, p)]
+        verdicts = ((r.check, r.status) for r in point_rows)
     rows = check_gain_spread(data, points)
     flowing = [p for p in points if p.m_steam > 0]
     ds = data.desuperheater
@@ -495,7 +503,8 @@ def check_across_cases(data: StationData, points: list[StationPoint], *,
     worst_by_check: dict[str, Status] = {}
     # each (check, verdict) pair once, in order of first appearance (a year of cases
     # repeats a handful of pairs a hundred thousand times)
-    for check, status in dict.fromkeys((r.check, r.status) for r in point_rows + rows):
+    pairs = [*verdicts, *((r.check, r.status) for r in rows)]
+    for check, status in dict.fromkeys(pairs):
         worst_by_check[check] = worst([worst_by_check.get(check, Status.NOT_APPLICABLE),
                                        status])
     envelope = {
