@@ -64,12 +64,15 @@ class Balances:
                 setattr(m, "solve", self.real)
 
 
-def timed(label: str, func):
+def timed(label: str, func, balances: int | None = None):
+    """Run ``func`` and print its time and balances (counted, or ``balances`` for a
+    case set, which runs as a sweep without steamnet.studies.common.solve)."""
     with Balances() as b:
         t = time.perf_counter()
         out = func()
         dt = time.perf_counter() - t
-    print(f"{label:<44} {dt:8.2f} s  {b.n:6d} balances  {1e3 * dt / max(1, b.n):6.1f} "
+    n = b.n if balances is None else balances
+    print(f"{label:<44} {dt:8.2f} s  {n:6d} balances  {1e3 * dt / max(1, n):6.1f} "
           "ms/balance")
     return out
 
@@ -78,6 +81,8 @@ def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--hours", type=int, default=8760, help="hours of the profile")
     ap.add_argument("--skip-json", action="store_true", help="skip the JSON export")
+    ap.add_argument("--workers", type=int, default=2, help="worker processes for the "
+                    "second solve of the profile (default 2)")
     args = ap.parse_args()
     print(f"python {sys.version.split()[0]}, demo {DEMO.name}")
     model = load_model(DEMO)
@@ -100,9 +105,11 @@ def main() -> None:
               f"{1e3 * dt / len(cs):.2f} ms/hour")
         m1 = peak_mb()
         study = timed(f"solve {len(cs)} hours (lean, warm starts)",
-                      lambda: solve_case_set(cs))
+                      lambda: solve_case_set(cs), balances=len(cs))
         df = case_results(study)
         m2 = peak_mb()
+        timed(f"the same in {args.workers} worker processes",
+              lambda: solve_case_set(cs, workers=args.workers), balances=len(cs))
         print(f"peak memory: {m0:.0f} MB before reading, +{m1 - m0:.0f} MB reading, "
               f"+{m2 - m1:.0f} MB solving and tabulating ({len(df)} rows x "
               f"{df.shape[1]} columns)")

@@ -336,18 +336,19 @@ def solve_cases(model: Model, cases: Iterable | None = None, *,
         to join; True checks against ``station_data(model)``, a dict against the
         station data given. The report is the same as without [-]
     """
-    from .sweep import _chunk_checks, run_sweep
+    from .sweep import run_sweep
     specs = list(cases) if cases is not None else [c.name for c in model.cases]
-    stations = None
+    extra = None
     if station_checks is not False and station_checks is not None:
-        from .stations.run import station_data
-        stations = station_data(model) if station_checks is True else station_checks
+        from functools import partial
+        from .stations.run import point_checks, station_data
+        extra = partial(point_checks, station_data(model) if station_checks is True
+                        else station_checks)
     if not specs:
         one = [solve_case(model, reference=reference)]
-        block = _chunk_checks(stations, one)
-        return StudyResult(model, one, None if block is None else [block])
+        return StudyResult(model, one, None if extra is None else [extra(one)])
     out, blocks = run_sweep(model, specs, workers=workers, scheduler=scheduler,
                             tables=tables, progress=progress, warm_start=warm_start,
-                            reference=reference, stations=stations)
+                            reference=reference, extra=extra)
     return StudyResult(model, out, blocks)
 

@@ -131,76 +131,78 @@ def solve_chunk(model, specs: Sequence, tables: bool = False, warm_start: bool =
     return out
 
 
-def _chunk_checks(stations, part):
-    """The single-point station checks of a solved chunk (None when not asked for)."""
-    if stations is None:
-        return None
-    from .stations.run import point_checks
-    return point_checks(stations, part)
+_WORKER = (None, None)      # (model, per-chunk extra) of this worker process
 
 
-_WORKER = (None, None)      # (model, station data) of this worker process
-
-
-def _init_worker(model, stations) -> None:
+def _init_worker(model, extra) -> None:
     global _WORKER
-    _WORKER = (model, stations)
+    _WORKER = (model, extra)
 
 
-def _counted_chunk(model, stations, specs, tables, warm_start, reference):
+def _solve_with_extra(model, extra, specs, tables, warm_start, reference,
+                      keep_solution: bool):
+    """Solve a chunk; ``extra(results)`` (when given) runs on its results while their
+    raw solutions are still at hand."""
+    part = solve_chunk(model, specs, tables, warm_start, reference=reference)
+    made = extra(part) if extra is not None else None
+    if not keep_solution:
+        part = [r.without_solution() for r in part]
+    return part, made
+
+
+def _counted_chunk(model, extra, specs, tables, warm_start, reference):
     """A chunk solved away from the caller: the results without their raw solutions,
-    their station checks when asked for, and the property statistics of the chunk
-    (added to the caller's)."""
+    the chunk's extra, and the property statistics of the chunk (added to the
+    caller's)."""
     from . import properties as props
     before = props.stats()
-    part = solve_chunk(model, specs, tables, warm_start, keep_solution=False,
-                       reference=reference)
-    checks = _chunk_checks(stations, part)
+    part, made = _solve_with_extra(model, extra, specs, tables, warm_start, reference,
+                                   keep_solution=False)
     after = props.stats()
-    return part, checks, {k: after[k] - before[k] for k in after}
+    return part, made, {k: after[k] - before[k] for k in after}
 
 
 def _worker_chunk(specs, tables, warm_start, reference):
     return _counted_chunk(*_WORKER, specs, tables, warm_start, reference)
 
 
-def _dask_chunk(model, stations, specs, tables, warm_start, reference):
-    return _counted_chunk(model, stations, specs, tables, warm_start, reference)
+def _dask_chunk(model, extra, specs, tables, warm_start, reference):
+    return _counted_chunk(model, extra, specs, tables, warm_start, reference)
 
 
 def run_sweep(model, specs: Sequence, *, workers: int = 1, scheduler: str | None = None,
               tables: bool = True, progress: Callable[[int, int, str], None] | None = None,
               warm_start: bool = True, chunk: int = CHUNK, reference: bool = False,
-              stations: dict | None = None) -> tuple[list, list | None]:
+              extra: Callable[[list], object] | None = None) -> tuple[list, list | None]:
     """Solve ``specs`` (see :func:`steamnet.solve.solve_cases`) and return the
-    CaseResults in order, and with ``stations`` (station data, as
-    :func:`steamnet.stations.run.station_data` gives) the single-point station checks
-    of every chunk (:class:`~steamnet.stations.run.PointChecks`), made where the chunk
-    was solved; else None. In processes or on a cluster the raw solutions are not sent
-    back (each result keeps its tables, summary and station operating points); the
-    property statistics of the workers are added to this process's
+    CaseResults in order, and the value of ``extra(results)`` for every chunk (made
+    where the chunk was solved, while the raw solutions are at hand; a module-level
+    function or a functools.partial of one, so that it can be sent to workers), or
+    None without ``extra``. In processes or on a cluster the raw solutions are not
+    sent back (each result keeps its tables, summary and station operating points);
+    the property statistics of the workers are added to this process's
     (:func:`steamnet.properties.stats`)."""
     with young_collections_only():
         return _run_sweep(model, list(specs), workers=workers, scheduler=scheduler,
                           tables=tables, progress=progress, warm_start=warm_start,
-                          chunk=chunk, reference=reference, stations=stations)
+                          chunk=chunk, reference=reference, extra=extra)
 
 
 def _run_sweep(model, specs: list, *, workers, scheduler, tables, progress, warm_start,
-               chunk, reference, stations) -> tuple[list, list | None]:
+               chunk, reference, extra) -> tuple[list, list | None]:
     from . import properties as props
     chunks = [specs[i:i + chunk] for i in range(0, len(specs), chunk)]
     total = len(specs)
     done = 0
     results: list = []
-    checks: list | None = [] if stations is not None else None
+    extras: list | None = [] if extra is not None else None
 
-    def tick(part, block=None, stats=None):
+    def tick(part, made=None, stats=None):
         nonlocal done
         if stats:
             props.add_stats(stats)
-        if checks is not None:
-            checks.append(block)
+        if extras is not None:
+            extras.append(made)
         done += len(part)
         if progress and part:
             progress(done, total, part[-1].case)
@@ -214,38 +216,37 @@ def _run_sweep(model, specs: list, *, workers, scheduler, tables, progress, warm
         client = Client(scheduler)
         try:
             m = client.scatter(model, broadcast=True)
-            st = client.scatter(stations, broadcast=True) if stations is not None \
-                else None
-            futures = [client.submit(_dask_chunk, m, st, c, tables, warm_start,
+            futures = [client.submit(_dask_chunk, m, extra, c, tables, warm_start,
                                      reference, pure=False) for c in chunks]
             for f in futures:
-                part, block, stats = f.result()
+                part, made, stats = f.result()
                 results.extend(part)
-                tick(part, block, stats)
+                tick(part, made, stats)
         except BaseException:
             for f in locals().get("futures", []):
                 f.cancel()
             raise
         finally:
             client.close()
-        return results, checks
+        return results, extras
     if workers <= 1 or len(chunks) <= 1:
         for c in chunks:
-            part = solve_chunk(model, c, tables, warm_start, reference=reference)
+            part, made = _solve_with_extra(model, extra, c, tables, warm_start,
+                                           reference, keep_solution=True)
             results.extend(part)
-            tick(part, _chunk_checks(stations, part))
-        return results, checks
+            tick(part, made)
+        return results, extras
     ex = ProcessPoolExecutor(max_workers=workers, initializer=_init_worker,
-                             initargs=(model, stations))
+                             initargs=(model, extra))
     try:
         futures = [ex.submit(_worker_chunk, c, tables, warm_start, reference)
                    for c in chunks]
         for f in futures:
-            part, block, stats = f.result()
+            part, made, stats = f.result()
             results.extend(part)
-            tick(part, block, stats)
+            tick(part, made, stats)
     except BaseException:
         ex.shutdown(wait=False, cancel_futures=True)
         raise
     ex.shutdown()
-    return results, checks
+    return results, extras

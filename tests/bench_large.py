@@ -6,7 +6,8 @@ Not a test (pytest collects test_*.py only). Run:
     .venv/bin/python tests/bench_large.py --reference      # and the reference path
 
 The network is steamnet.synth.random_model(seed, 100, 1000): synthetic test data, not a
-plant. Generating and loading it are timed apart from the solve; the figures are those
+plant (with ``--before``, the earlier package solves the network this checkout
+generates). Generating and loading it are timed apart from the solve; the figures are those
 of solving its base case with tables off and running the station checks on it. (At this
 size some sub-plant of a random network is nearly always short or long of steam, so the
 case ends infeasible after its modes are exhausted: the whole solve all the same.) See
@@ -16,6 +17,9 @@ one run.
 
 from __future__ import annotations
 
+import os
+import subprocess
+import sys
 import time
 
 import bench_common as bc
@@ -27,7 +31,10 @@ def run_one(cfg: str, a) -> dict:
     from steamnet.synth import random_model_text
     kind, _ = cfg.split(":")
     t0 = time.perf_counter()
-    text = random_model_text(a.seed, n_headers=a.headers, n_items=a.items)
+    if kind == "before":
+        text = _text_from_this_checkout(a)
+    else:
+        text = random_model_text(a.seed, n_headers=a.headers, n_items=a.items)
     t1 = time.perf_counter()
     model = steamnet.loads_model(text, source=f"synth seed {a.seed}")
     t2 = time.perf_counter()
@@ -50,6 +57,17 @@ def run_one(cfg: str, a) -> dict:
     print(f"  status               {c.status} after {c.iterations} iterations")
     print(f"  station check rows   {len(report.checks)}")
     return res
+
+
+def _text_from_this_checkout(a) -> str:
+    """The network text from this checkout's generator, so that an earlier package
+    (``--before``, whose own generator may differ) solves the same network."""
+    code = ("import sys; from steamnet.synth import random_model_text; "
+            f"sys.stdout.write(random_model_text({a.seed}, n_headers={a.headers}, "
+            f"n_items={a.items}))")
+    env = {**os.environ, "PYTHONPATH": str(bc.ROOT)}
+    return subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                          env=env, check=True).stdout
 
 
 def extra(ap) -> None:

@@ -97,6 +97,25 @@ def test_cases_command_demo_table_json(tmp_path):
     assert "\x1b" not in r.stderr and "it/s" not in r.stderr   # no bar without a TTY
 
 
+def test_cases_command_workers_give_the_same_results(tmp_path):
+    """--workers 2 solves the hours in two processes: the same printed table and JSON
+    (apart from the time written and the solve times)."""
+    day = tmp_path / "two-days.csv"
+    day.write_text("\n".join(HOURLY.read_text().splitlines()[:49]) + "\n")
+    docs = []
+    for w in ("1", "2"):
+        out = tmp_path / f"w{w}.json"
+        r = run("cases", DEMO, day, "--workers", w, "--rows", "0", "--json", out)
+        assert r.returncode == 0, r.stderr
+        assert "48 solved" in r.stdout
+        doc = json.loads(out.read_text())
+        doc.pop("written_utc")
+        for c in doc["cases"]:
+            c["summary"].pop("solve_ms")
+        docs.append((r.stdout.replace(str(out), "OUT"), doc))
+    assert docs[0] == docs[1]
+
+
 def test_trips_command_exit_1_with_findings_and_json(tmp_path):
     out = tmp_path / "trips.json"
     r = invoke("trips", DEMO, "--boilers", "--json", out, "--rows", "5")

@@ -207,3 +207,47 @@ def test_lean_results_keep_totals_and_flows(model, tmp_path):
     a, b = case_results(full), case_results(lean)
     assert list(a.columns) == list(b.columns)
     assert math.isclose(a["cost_per_h"].sum(), b["cost_per_h"].sum(), rel_tol=1e-12)
+
+
+# ------------------------------------------------------ case sets run as sweeps
+def test_rows_based_on_rows_solve_as_their_models(model, tmp_path):
+    """A row based on another row is swept as the chain's changes on the model-file
+    case at its root; each case balances as the model CaseSet.build makes, solved on
+    its own (cold) within the solver's tolerance (flows to 1e-9 kg/s)."""
+    p = write(tmp_path, "case,based_on,user.LP tracing.demand [t/h],"
+                        "user.PM1 dryer section.demand [t/h],turbine.TG1.mode\n"
+                        "a,winter,2,,\n"
+                        "b,a,,30,\n"
+                        "c,b,3,,tripped\n"
+                        "d,,1,28,\n")
+    cs = read_case_table(p, model)
+    from steamnet.studies.runcases import sweep_specs
+    specs = dict((s[0], s[1:]) for s in sweep_specs(cs))
+    assert specs["c"][1] == "winter" and specs["d"][1] is None
+    assert specs["c"][0]["turbine.TG1.mode"] == "tripped"
+    assert specs["c"][0]["user.LP tracing.demand"] == pytest.approx(3 * T_H)  # c's own
+    assert specs["c"][0]["user.PM1 dryer section.demand"] == pytest.approx(30 * T_H)
+    swept = case_results(solve_case_set(cs))
+    from steamnet.solve import solve_model
+    from steamnet.studies.runcases import CaseSetResult
+    alone = case_results(CaseSetResult(model, [solve_model(cs.build(n), n)
+                                               for n in cs.names], case_set=cs))
+    assert list(swept["case"]) == list(alone["case"]) == ["a", "b", "c", "d"]
+    for col in swept.columns:
+        if swept[col].dtype.kind == "f":
+            assert swept[col].to_numpy() == pytest.approx(alone[col].to_numpy(),
+                                                          rel=1e-9, abs=1e-6,
+                                                          nan_ok=True), col
+        else:
+            assert list(swept[col]) == list(alone[col]), col
+
+
+def test_case_set_in_two_workers_equals_serial(model, tmp_path):
+    lines = HOURLY.read_text().splitlines()[:61]           # 60 hours: three chunks
+    p = write(tmp_path, "\n".join(lines) + "\n", "h60.csv")
+    cs = read_case_table(p, model, base="winter")
+    serial = case_results(solve_case_set(cs))
+    par = case_results(solve_case_set(cs, workers=2))
+    import pandas as pd
+    pd.testing.assert_frame_equal(serial, par, check_exact=True)
+    assert (serial["status"] == "solved").all() and len(serial) == 60

@@ -57,6 +57,15 @@ def _error_text(exc: ModelError) -> str:
     return "\n".join(lines)
 
 
+def parallel_options(f):
+    """--workers and --scheduler, for the commands that solve many cases as a sweep."""
+    f = click.option("--scheduler", metavar="ADDRESS", help="Run on a dask.distributed "
+                     "scheduler at ADDRESS (extra 'dask').")(f)
+    return click.option("--workers", type=click.IntRange(1, 256), default=1,
+                        show_default=True,
+                        help="Solve in this many processes (identical results).")(f)
+
+
 @click.group(cls=_Group, context_settings={"help_option_names": ["-h", "--help"]})
 @click.version_option(__version__, "--version", prog_name="steamnet")
 @click.option("--debug", is_flag=True, hidden=True, help="Show tracebacks of internal "

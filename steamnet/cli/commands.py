@@ -6,7 +6,7 @@ import click
 
 from ..model.model import load_model
 from ..solve import solve_cases
-from . import EXIT_FAIL, EXIT_OK, main
+from . import EXIT_FAIL, EXIT_OK, main, parallel_options
 
 
 def _fmt(v, nd=1):
@@ -63,10 +63,7 @@ def check(model: str) -> None:
 @click.option("--json", "json_path", type=click.Path(dir_okay=False),
               help="Write every result to this JSON file (layout: docs/results.md).")
 @click.option("--quiet", is_flag=True, help="Print only problems.")
-@click.option("--workers", type=click.IntRange(1, 256), default=1, show_default=True,
-              help="Solve in this many processes (identical results).")
-@click.option("--scheduler", metavar="ADDRESS", help="Run on a dask.distributed "
-              "scheduler at ADDRESS (extra 'dask').")
+@parallel_options
 @click.pass_context
 def solve(ctx, model: str, cases: tuple[str, ...], json_path: str | None,
           quiet: bool, workers: int, scheduler: str | None) -> None:

@@ -18,7 +18,7 @@ from ..studies import (case_results, header_headroom, marginal_steam_cost,
                        model_case_set, new_consumer_impact, read_case_table,
                        solve_case_set, trip_screening)
 from ..studies.progress import ProgressBar
-from . import EXIT_FAIL, EXIT_OK, main
+from . import EXIT_FAIL, EXIT_OK, main, parallel_options
 
 _CAUTION = ("Results support studies; they do not replace licensed engineering, the "
             "equipment maker's data or the site's codes.")
@@ -118,8 +118,10 @@ def _base_study(cs, quiet: bool):
 @click.argument("model", type=click.Path(dir_okay=False))
 @click.argument("table", type=click.Path(dir_okay=False))
 @_study_options(table=False)
+@parallel_options
 @click.pass_context
-def cases_command(ctx, model, table, base, cases, json_path, quiet, rows):
+def cases_command(ctx, model, table, base, cases, json_path, quiet, rows, workers,
+                  scheduler):
     """Solve every case of a case table or hourly profile TABLE on MODEL.
 
     TABLE is a .csv or .xlsx file with a 'case' column (or 'timestamp' for an hourly
@@ -131,7 +133,7 @@ def cases_command(ctx, model, table, base, cases, json_path, quiet, rows):
     if not quiet:
         click.echo(f"solving {len(cs)} cases from {table}", err=True)
     with ProgressBar("solving cases", quiet=quiet) as bar:
-        study = solve_case_set(cs, progress=bar)
+        study = solve_case_set(cs, progress=bar, workers=workers, scheduler=scheduler)
     df = case_results(study)
     bad = df[df["status"] != "solved"]
     if not quiet:

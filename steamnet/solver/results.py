@@ -210,6 +210,13 @@ def _limit_state(value, lo, hi, tol=1e-7):
 
 
 def equipment_table(sol: Solution, case: str) -> pd.DataFrame:
+    """One row per item: flows, powers, states and limits (docs/results.md)."""
+    return pd.DataFrame(equipment_rows(sol, case))
+
+
+def equipment_rows(sol: Solution, case: str) -> list[dict]:
+    """The rows of :func:`equipment_table` as dicts (without pandas: what a sweep of
+    lean cases reads its equipment flows from)."""
     net, x, co = sol.net, sol.x, sol.co
     H = net.headers
     rows = []
@@ -324,7 +331,7 @@ def equipment_table(sol: Solution, case: str) -> pd.DataFrame:
                          feedwater_t_h=wb["feedwater_from_da_kg_s"] * TH,
                          vent_t_h=wb["da_vent_kg_s"] * TH,
                          t_out_degc=da["sat"].t - C0))
-    return pd.DataFrame(rows)
+    return rows
 
 
 def stream_table(sol: Solution, case: str) -> pd.DataFrame:

@@ -10,6 +10,7 @@ each station's operating point from a solved case; :func:`run_checks` runs every
 from __future__ import annotations
 
 from dataclasses import dataclass
+from itertools import chain
 
 import pandas as pd
 
@@ -267,8 +268,9 @@ def _run_checks(study, data) -> StationReport:
     model = study.model
     data = data if data is not None else station_data(model)
     blocks = _precomputed(study, data) or [point_checks(data, study.cases)]
-    columns = [[v for b in blocks for v in b.columns[k]] for k in range(len(CHECK_COLUMNS))]
-    gains = [g for b in blocks for g in b.gains]
+    columns = [list(chain.from_iterable(b.columns[k] for b in blocks))
+               for k in range(len(CHECK_COLUMNS))]
+    gains = list(chain.from_iterable(b.gains for b in blocks))
     per_station: dict[str, list] = {}
     for cr in study.cases:
         for p in station_points(cr):

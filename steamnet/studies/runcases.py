@@ -14,11 +14,12 @@ from dataclasses import dataclass, field, replace
 import pandas as pd
 
 from ..solve import CaseResult, StudyResult
-from .casetable import CaseSet
-from .common import Progress, solve, tick, warm
+from ..errors import ModelError
+from .casetable import BASE, CaseSet
+from .common import Progress
 
-__all__ = ["CaseSetResult", "solve_case_set", "case_results", "SUMMARY_COLUMNS",
-           "LEAN_ABOVE"]
+__all__ = ["CaseSetResult", "solve_case_set", "sweep_specs", "case_results",
+           "SUMMARY_COLUMNS", "LEAN_ABOVE"]
 
 #: Totals copied from each case's summary, in this order.
 SUMMARY_COLUMNS = ["steam_raised_t_h", "fuel_mw", "power_generated_mw",
@@ -47,18 +48,24 @@ def _flow_row(r: CaseResult) -> dict:
     eq = r.equipment
     if not len(eq):
         return {}
-    cols = {c: eq[c].to_numpy() if c in eq else None
-            for c in ("item", "type", "flow_t_h", "spray_t_h", "power_kw")}
+    return _flow_row_of(eq[[c for c in ("item", "type", "flow_t_h", "spray_t_h",
+                                        "power_kw") if c in eq]].to_dict("records"))
+
+
+def _flow_row_of(rows: list[dict]) -> dict:
+    """Flow (and spray, power) columns from equipment rows (dicts of
+    :func:`steamnet.solver.results.equipment_rows`)."""
     row = {}
-    for i, typ in enumerate(cols["type"]):
+    for r in rows:
+        typ = r["type"]
         if typ not in _FLOW_TYPES:
             continue
-        item = cols["item"][i]
-        row[_column(item, "flow_t_h")] = float(cols["flow_t_h"][i])
+        item = r["item"]
+        row[_column(item, "flow_t_h")] = float(r["flow_t_h"])
         if typ == "letdown":
-            row[_column(item, "spray_t_h")] = float(cols["spray_t_h"][i])
+            row[_column(item, "spray_t_h")] = float(r["spray_t_h"])
         if typ in ("turbine", "extraction_turbine"):
-            row[_column(item, "power_kw")] = float(cols["power_kw"][i])
+            row[_column(item, "power_kw")] = float(r["power_kw"])
     return row
 
 
@@ -80,10 +87,15 @@ def _lean(r: CaseResult) -> CaseResult:
 
 
 def solve_case_set(cs: CaseSet, *, progress: Progress | None = None,
-                   keep_tables: bool | None = None,
-                   warm_start: bool = True) -> CaseSetResult:
+                   keep_tables: bool | None = None, warm_start: bool = True,
+                   workers: int = 1, scheduler: str | None = None) -> CaseSetResult:
     """Balance every case of ``cs`` in order; a case that cannot balance is reported
     (status) and the others still run.
+
+    The cases run as a sweep (:mod:`steamnet.sweep`): in chunks of 24, each case
+    warm-started from the one before, serially, in ``workers`` processes or on a dask
+    cluster, with the same answers. A row based on other rows is made with their
+    changes and its own, in that order, on the model-file case at the root.
 
     Parameters
     ----------
@@ -91,34 +103,76 @@ def solve_case_set(cs: CaseSet, *, progress: Progress | None = None,
         From :func:`~steamnet.studies.casetable.read_case_table` or
         :func:`~steamnet.studies.casetable.model_case_set`.
     progress : callable, optional
-        ``progress(done, total, case)`` after each case.
+        ``progress(done, total, case)`` after each chunk of cases.
     keep_tables : bool, optional
-        Keep each case's header and equipment tables (default: when the set has at most
-        :data:`LEAN_ABOVE` cases). Without them each case keeps its summary; the flows
-        are in ``study.flows`` either way.
+        Keep each case's header, equipment and stream tables (default: when the set has
+        at most :data:`LEAN_ABOVE` cases). Without them each case keeps its summary;
+        the flows are in ``study.flows`` either way.
     warm_start : bool
         Start each balance from the enthalpies and modes of the case before.
+    workers : int
+        Processes to solve in [-]
+    scheduler : str, optional
+        Address of a dask.distributed scheduler to run on (extra ``dask``).
 
     Returns
     -------
     CaseSetResult
     """
+    from ..sweep import run_sweep
     keep = len(cs) <= LEAN_ABOVE if keep_tables is None else keep_tables
-    out: list[CaseResult] = []
-    flows: list[dict] = []
-    start = None
-    n = len(cs)
-    for i, name in enumerate(cs):
-        m = cs.build(name)
-        r = solve(m, start=start if warm_start else None)
-        if r.ok and warm_start:
-            start = warm(r)
-        flows.append(_flow_row(r))
-        if not keep:
-            r = _lean(r)
-        out.append(r)
-        tick(progress, i + 1, n, name)
+    out, per_chunk = run_sweep(cs.model, sweep_specs(cs), workers=workers,
+                               scheduler=scheduler, tables=keep, progress=progress,
+                               warm_start=warm_start, extra=_chunk_flows)
+    flows = [f for chunk in per_chunk for f in chunk]
+    if not keep:
+        out = [_lean(r) for r in out]
     return CaseSetResult(cs.model, out, flows=flows, case_set=cs)
+
+
+def sweep_specs(cs: CaseSet) -> list:
+    """The cases of ``cs`` in order as sweep specs: a model-file case by its name, a
+    table row as ``(name, changes, based_on)`` with the changes of the rows it is based
+    on first and its own last, on the model-file case at the root (None: the model
+    itself)."""
+    has_base_case = any(c.name == BASE for c in cs.model.cases)
+    out = []
+    for name in cs:
+        spec = cs.specs.get(name)
+        if spec is None or spec.row is None:
+            out.append(name if name != BASE or has_base_case else (BASE, {}, None))
+            continue
+        changes = dict(spec.changes)
+        parent = spec.based_on or cs.base
+        seen = {name}
+        while parent in cs.specs and cs.specs[parent].row is not None:
+            if parent in seen:
+                raise ModelError("cases are based on each other in a loop",
+                                 file=cs.source, item=f"row {spec.row}",
+                                 field="based_on")
+            seen.add(parent)
+            up = cs.specs[parent]
+            changes = {**up.changes, **changes}
+            parent = up.based_on or cs.base
+        if parent == BASE and not has_base_case:
+            parent = None
+        out.append((name, changes, parent))
+    return out
+
+
+def _chunk_flows(results: list[CaseResult]) -> list[dict]:
+    """The equipment flow columns of each case of a solved chunk, read from its raw
+    solution (so also for cases solved without tables)."""
+    from ..solver.results import equipment_rows
+    out = []
+    for r in results:
+        sol = r.solution
+        if r.status == "error" or sol is None or sol.status not in ("solved",
+                                                                    "infeasible"):
+            out.append({})
+        else:
+            out.append(_flow_row_of(equipment_rows(sol, r.case)))
+    return out
 
 
 def case_results(study: StudyResult) -> pd.DataFrame:
