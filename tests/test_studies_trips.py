@@ -187,3 +187,30 @@ def test_demo_screening_covers_every_running_unit_and_sorts_worst_first(demo_tri
     f = demo_trips[(demo_trips["trip"] == "B2-gas") & (demo_trips["row"] == "finding")]
     assert len(f) == 3 and set(f["header"]) == {"HP"}
     assert not math.isnan(demo_trips["steam_change_t_h"].dropna().iloc[0])
+
+
+def test_trip_that_leaves_a_header_unreachable_is_an_invalid_finding():
+    """Without the let-down, the turbine is the only way steam reaches LP: its trip
+    leaves LP's users with no path from a boiler, which validation rejects; the trip
+    is reported as an 'invalid' finding that cannot balance, not an error of the
+    study (common practice, no source: every user needs a steam path)."""
+    start = NET.index("[[letdown]]")
+    net = NET[:start] + NET[NET.index("[[user]]"):]
+    net = net.replace('demand = "40 t/h"', 'demand = "15 t/h"')  # T1's 25 t/h suffice
+    m = loads_model(net, source="no-letdown.toml")
+    assert solve_case(m).ok
+    df = trip_screening(m)
+    assert len(df) == 1
+    row = df.iloc[0]
+    assert (row["trip"], row["status"], row["row"], row["verdict"]) == \
+        ("T1", "invalid", "finding", "cannot balance")
+    assert "no path from any boiler" in row["message"]
+    assert row["message"].startswith("after the trip: ")
+
+
+def test_screening_in_two_workers_equals_serial(demo_trips):
+    """The screening runs as two sweeps (the cases, then the trips unit by unit); in two
+    processes the table is the same, cell for cell."""
+    import pandas as pd
+    par = trip_screening(load_model(DEMO), boilers=True, workers=2)
+    pd.testing.assert_frame_equal(par, demo_trips, check_exact=True)

@@ -168,8 +168,10 @@ def cases_command(ctx, model, table, base, cases, json_path, quiet, rows, worker
 @click.argument("model", type=click.Path(dir_okay=False))
 @_study_options
 @click.option("--boilers", is_flag=True, help="Also trip each running boiler.")
+@parallel_options
 @click.pass_context
-def trips_command(ctx, model, cases, table, base, json_path, quiet, rows, boilers):
+def trips_command(ctx, model, cases, table, base, json_path, quiet, rows, boilers,
+                  workers, scheduler):
     """Trip each running turbine (and with --boilers each boiler) of each case in turn;
     the post-trip steam and spray of every let-down station against its limits, worst
     first (docs/howto-trips.md).
@@ -179,7 +181,8 @@ def trips_command(ctx, model, cases, table, base, json_path, quiet, rows, boiler
     m = load_model(model)
     cs = _case_set(m, table, base, cases, quiet)
     with ProgressBar("trip screening", quiet=quiet) as bar:
-        df = trip_screening(m, cs, boilers=boilers, progress=bar)
+        df = trip_screening(m, cs, boilers=boilers, progress=bar, workers=workers,
+                            scheduler=scheduler)
     findings = df[df["row"] == "finding"]
     over = df[(df["row"] == "station") & (df["verdict"] == "over limit")]
     if not quiet:

@@ -22,6 +22,7 @@ from __future__ import annotations
 
 import math
 import re
+from functools import partial
 
 import numpy as np
 import pandas as pd
@@ -30,7 +31,7 @@ from ..errors import ModelError
 from ..model.model import Model
 from ..model.validate import validate_model
 from .casetable import CaseSet
-from .common import Progress, resolve_cases, solve, tick
+from .common import Progress, resolve_cases
 from .limits import TH, station_loads
 
 __all__ = ["trip_screening", "TRIP_COLUMNS"]
@@ -128,8 +129,8 @@ def _finding_rows(case, trip, ttype, tflow, result) -> list[dict]:
 
 
 def trip_screening(model: Model, cases: CaseSet | list[str] | str | None = None, *,
-                   boilers: bool = False,
-                   progress: Progress | None = None) -> pd.DataFrame:
+                   boilers: bool = False, progress: Progress | None = None,
+                   workers: int = 1, scheduler: str | None = None) -> pd.DataFrame:
     """Trip each running turbine (and boiler, with ``boilers=True``) of each case in
     turn; the post-trip load of every let-down station.
 
@@ -143,7 +144,12 @@ def trip_screening(model: Model, cases: CaseSet | list[str] | str | None = None,
     boilers : bool
         Also trip (set mode ``off``) each running boiler.
     progress : callable, optional
-        ``progress(done, total, label)`` after each balance.
+        ``progress(done, total, label)`` as the balances go (the total grows once the
+        untripped cases are known).
+    workers : int
+        Processes to solve in; results are the same for any number [-]
+    scheduler : str, optional
+        Address of a dask.distributed scheduler to run on (extra ``dask``).
 
     Returns
     -------
@@ -152,49 +158,62 @@ def trip_screening(model: Model, cases: CaseSet | list[str] | str | None = None,
         row per station per trip, and ``row == 'finding'`` rows for trips after which
         the plant cannot balance; worst first. A case that does not balance untripped
         gives one finding row with ``trip == ''``.
+
+    Notes
+    -----
+    Both stages run as sweeps (:mod:`steamnet.sweep`): first the untripped cases, then
+    every trip, unit by unit, so that a trip starts from the same trip of the case
+    before (the hour before, in a profile).
     """
+    from ..sweep import run_sweep
+    from .runcases import sweep_specs
     cs = resolve_cases(model, cases)
-    # the number of trips is known only after each untripped balance: count as we go
-    work = [len(cs)]
-    done = 0
+    specs = sweep_specs(cs)
+    n = len(specs)
+
+    def stage(offset, total):
+        if progress is None:
+            return None
+        return lambda done, _, label: progress(offset + done, total, label)
+
+    base, per_chunk = run_sweep(model, specs, workers=workers, scheduler=scheduler,
+                                tables=False, progress=stage(0, n),
+                                extra=partial(_untripped, boilers))
+    info = [x for chunk in per_chunk for x in chunk]
+    trips = []                          # (case index, table, unit, flow), unit by unit
+    units_in_order: dict[tuple, None] = {}
+    for i, x in enumerate(info):
+        for table, unit, _ in (x[1] if x else ()):
+            units_in_order.setdefault((table, unit))
+    for key in units_in_order:
+        for i, x in enumerate(info):
+            for table, unit, flow in (x[1] if x else ()):
+                if (table, unit) == key:
+                    trips.append((i, table, unit, flow))
+    trip_specs = [_trip_spec(specs[i], table, unit) for i, table, unit, _ in trips]
+    done, per_chunk = run_sweep(model, trip_specs, workers=workers, scheduler=scheduler,
+                                tables=False, progress=stage(n, n + len(trip_specs)),
+                                extra=_tripped) if trip_specs else ([], [])
+    after = {(i, unit): (r, loads) for (i, _, unit, _), r, loads in zip(
+        trips, done, (x for chunk in per_chunk for x in chunk))}
     rows: list[dict] = []
-    for name in cs:
-        m = cs.build(name)
-        r0 = solve(m)
-        done += 1
-        if not r0.ok:
+    for i, (name, r0) in enumerate(zip(cs.names, base)):
+        if info[i] is None:
             rows.extend(_finding_rows(name, "", "", 0.0, r0))
-            tick(progress, done, sum(work), name)
             continue
-        before = station_loads(r0.solution)
-        units = _running(r0, boilers)
-        work.append(len(units))
-        tick(progress, done, sum(work), name)
+        before, units = info[i]
         for table, unit, flow in units:
-            tbl, mode = _TRIP[table]
-            label = f"{name}: {unit}"
-            try:
-                mt = m.with_changes({f"{tbl}.{unit}.mode": mode},
-                                    origin=f"trip of {unit}")
-                validate_model(mt)
-            except ModelError as exc:
-                rows.append({"case": name, "trip": unit, "trip_type": table,
-                             "trip_flow_t_h": flow * TH, "status": "invalid",
-                             "row": "finding", "verdict": "cannot balance",
-                             "header": _header_named(exc),
-                             "message": "after the trip: " + "; ".join(
-                                 e.message for e in getattr(exc, "errors", [exc]))})
-                done += 1
-                tick(progress, done, sum(work), label)
-                continue
-            r = solve(mt)
+            r, loads = after[i, unit]
+            if r.status == "error":
+                invalid = _invalid_trip(cs, name, table, unit, flow)
+                if invalid is not None:
+                    rows.append(invalid)
+                    continue
             if r.status != "solved":
                 rows.extend(_finding_rows(name, unit, table, flow, r))
-            if r.solution is not None and r.status in ("solved", "infeasible"):
+            if loads is not None:
                 rows.extend(_station_rows(name, unit, table, flow, r.status, before,
-                                          station_loads(r.solution)))
-            done += 1
-            tick(progress, done, sum(work), label)
+                                          loads))
     df = pd.DataFrame(rows, columns=TRIP_COLUMNS)
     if not len(df):
         return df
@@ -202,3 +221,47 @@ def trip_screening(model: Model, cases: CaseSet | list[str] | str | None = None,
     worst = df["worst_use_percent"].fillna(-1.0).to_numpy(float)
     order = np.lexsort((-worst, rank))
     return df.iloc[order].reset_index(drop=True)
+
+
+def _untripped(boilers: bool, results) -> list:
+    """Per untripped case of a solved chunk: (station loads, running units), or None
+    when the case did not balance (made where the chunk was solved)."""
+    return [(station_loads(r.solution), _running(r, boilers)) if r.ok else None
+            for r in results]
+
+
+def _tripped(results) -> list:
+    """Per trip of a solved chunk: the station loads after it (None when the balance
+    gave no flows to read)."""
+    return [station_loads(r.solution) if r.solution is not None and r.status in
+            ("solved", "infeasible") else None for r in results]
+
+
+def _trip_spec(spec, table: str, unit: str):
+    """The sweep spec of case ``spec`` with ``unit`` tripped."""
+    tbl, mode = _TRIP[table]
+    change = {f"{tbl}.{unit}.mode": mode}
+    if isinstance(spec, str):
+        return (f"{spec}: trip of {unit}", change, spec)
+    name, changes, based_on = spec
+    return (f"{name}: trip of {unit}", {**changes, **change}, based_on)
+
+
+def _invalid_trip(cs: CaseSet, name: str, table: str, unit: str,
+                  flow: float) -> dict | None:
+    """The finding row of a trip whose model is not valid (the plant cannot balance
+    without the unit: e.g. a header left with nothing to close its balance), or None
+    when it is valid (its error is then the balance's). Made again on its own: only
+    trips that failed come here."""
+    tbl, mode = _TRIP[table]
+    try:
+        mt = cs.build(name).with_changes({f"{tbl}.{unit}.mode": mode},
+                                         origin=f"trip of {unit}")
+        validate_model(mt)
+    except ModelError as exc:
+        return {"case": name, "trip": unit, "trip_type": table,
+                "trip_flow_t_h": flow * TH, "status": "invalid", "row": "finding",
+                "verdict": "cannot balance", "header": _header_named(exc),
+                "message": "after the trip: " + "; ".join(
+                    e.message for e in getattr(exc, "errors", [exc]))}
+    return None
