@@ -251,3 +251,12 @@ def test_case_set_in_two_workers_equals_serial(model, tmp_path):
     import pandas as pd
     pd.testing.assert_frame_equal(serial, par, check_exact=True)
     assert (serial["status"] == "solved").all() and len(serial) == 60
+
+
+def test_unknown_based_on_lists_the_model_cases_in_file_order(model, tmp_path):
+    """The list is the model file's order on every run (it came from a set before)."""
+    p = write(tmp_path, "case,based_on\na,nowhere\n")
+    with pytest.raises(ModelError) as info:
+        read_case_table(p, model)
+    order = ", ".join(c.name for c in model.cases)
+    assert f"(model cases: {order})" in str(info.value)

@@ -630,7 +630,7 @@ def read_case_table(path: str | Path, model: Model, *, base: str | None = None,
     names = _case_names(rows, cols, rownum, profile, src, errors)
     if errors:
         raise ModelErrors(errors[:_MAX_ERRORS])
-    model_cases = {c.name for c in model.cases}
+    model_cases = {c.name: None for c in model.cases}    # in file order, for messages
     seen: dict[str, int] = {}
     for i, n in enumerate(names):
         if n in seen:
