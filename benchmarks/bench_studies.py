@@ -7,9 +7,10 @@ Usage::
 
 Figures: wall time of each study on cases/orlewick.toml (three cases), the number of
 balances it needed, and for the hourly profile (cases/orlewick_hourly.csv, base case
-'winter') the time to read and check the table, the time per hour to solve it, the
-growth of the peak resident memory while solving, and the time and memory of the JSON
-export. Peak memory is the process's maximum resident set size (getrusage), so each
+'winter') the time to read and check the table, the time per hour to solve it (in one process
+and in ``--workers``), the trip screening of its first ``--trip-hours`` hours (in one
+process and in ``--workers``), the growth of the peak resident memory while solving,
+and the time and memory of the JSON export. Peak memory is the process's maximum resident set size (getrusage), so each
 figure is the growth over everything measured before it.
 """
 
@@ -82,7 +83,10 @@ def main() -> None:
     ap.add_argument("--hours", type=int, default=8760, help="hours of the profile")
     ap.add_argument("--skip-json", action="store_true", help="skip the JSON export")
     ap.add_argument("--workers", type=int, default=2, help="worker processes for the "
-                    "second solve of the profile (default 2)")
+                    "second solve of the profile and the trips (default 2)")
+    ap.add_argument("--trip-hours", type=int, default=720, help="hours of the profile "
+                    "to screen for trips, in one process and in --workers (default "
+                    "720; 0 skips)")
     args = ap.parse_args()
     print(f"python {sys.version.split()[0]}, demo {DEMO.name}")
     model = load_model(DEMO)
@@ -110,6 +114,17 @@ def main() -> None:
         m2 = peak_mb()
         timed(f"the same in {args.workers} worker processes",
               lambda: solve_case_set(cs, workers=args.workers), balances=len(cs))
+        if args.trip_hours:
+            sub = cs.select(cs.names[:args.trip_hours])
+            for w in (1, args.workers):
+                seen = {}
+                t = time.perf_counter()
+                tr = trip_screening(model, sub, workers=w,
+                                    progress=lambda d, n, _: seen.update(n=n))
+                dt = time.perf_counter() - t
+                label = f"trips of {len(sub)} hours, {w} process{'es' if w > 1 else ''}"
+                print(f"{label:<44} {dt:8.2f} s  {seen['n']:6d} balances  "
+                      f"{1e3 * dt / seen['n']:6.1f} ms/balance  ({len(tr)} rows)")
         print(f"peak memory: {m0:.0f} MB before reading, +{m1 - m0:.0f} MB reading, "
               f"+{m2 - m1:.0f} MB solving and tabulating ({len(df)} rows x "
               f"{df.shape[1]} columns)")
