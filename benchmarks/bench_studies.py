@@ -26,6 +26,7 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parents[1]
 sys.path.insert(0, str(ROOT))
 
+from steamnet import properties as props  # noqa: E402
 from steamnet.io.jsonout import write_json  # noqa: E402
 from steamnet.model.model import load_model  # noqa: E402
 from steamnet.studies import (case_results, header_headroom, marginal_steam_cost,  # noqa: E402
@@ -65,14 +66,16 @@ class Balances:
                 setattr(m, "solve", self.real)
 
 
-def timed(label: str, func, balances: int | None = None):
-    """Run ``func`` and print its time and balances (counted, or ``balances`` for a
-    case set, which runs as a sweep without steamnet.studies.common.solve)."""
-    with Balances() as b:
+def timed(label: str, func, balances=None):
+    """Run ``func`` and print its time and balances: counted, or ``balances`` (a number,
+    or a function giving it afterwards) for the studies that run as sweeps, without
+    steamnet.studies.common.solve (case sets, trip screening)."""
+    props.clear_cache()      # each study from cold property caches (forked workers
+    with Balances() as b:    # would otherwise inherit what the one before cached)
         t = time.perf_counter()
         out = func()
         dt = time.perf_counter() - t
-    n = b.n if balances is None else balances
+    n = b.n if balances is None else balances() if callable(balances) else balances
     print(f"{label:<44} {dt:8.2f} s  {n:6d} balances  {1e3 * dt / max(1, n):6.1f} "
           "ms/balance")
     return out
@@ -90,8 +93,11 @@ def main() -> None:
     args = ap.parse_args()
     print(f"python {sys.version.split()[0]}, demo {DEMO.name}")
     model = load_model(DEMO)
+    seen = {}
     timed("trip screening (turbines and boilers)",
-          lambda: trip_screening(model, boilers=True))
+          lambda: trip_screening(model, boilers=True,
+                                 progress=lambda d, n, _: seen.update(n=n)),
+          balances=lambda: seen["n"])
     timed("headroom, 4 headers x 3 cases", lambda: header_headroom(model))
     timed("marginal cost, 4 headers x 3 cases", lambda: marginal_steam_cost(model))
     timed("new consumer 12 t/h on LP, 3 cases",
@@ -118,6 +124,7 @@ def main() -> None:
             sub = cs.select(cs.names[:args.trip_hours])
             for w in (1, args.workers):
                 seen = {}
+                props.clear_cache()
                 t = time.perf_counter()
                 tr = trip_screening(model, sub, workers=w,
                                     progress=lambda d, n, _: seen.update(n=n))
