@@ -374,24 +374,34 @@ def _same_station(data: StationData, point: StationPoint) -> None:
 
 # ----------------------------------------------------------------- across cases
 def _gains(data: StationData, points: list[StationPoint]):
-    """(label, |dT/dm_w|, |dT/dR|) per usable point, plus the rated minimum flow."""
+    """(label, |dT/dm_w|, |dT/dR|) per usable point, plus the rated minimum flow. The
+    label is a point's case (a str) or "rated minimum flow"; see :func:`_label`."""
     out = []
     usable = []
     for p in points:
         h_w = water_enthalpy(p)
-        st = outlet(p) if h_w is not None else None
-        if p.m_steam > 0 and st is not None and not st.is_wet:
-            usable.append((p, h_w, st.cp))
+        if p.m_steam > 0 and h_w is not None:
+            st = outlet(p)
+            if not st.is_wet:
+                usable.append((p, h_w, st.cp))
     for p, h_w, cp in usable:
-        out.append((f"case '{p.case}'", p.m_steam, p.m_spray, p.h_in, p.h_out, h_w, cp))
+        out.append((p.case, p.m_steam, p.m_spray, p.h_in, p.h_out, h_w, cp))
     m_min = data.desuperheater.rated_min_steam
     if m_min is not None and usable:
         p, h_w, cp = min(usable, key=lambda u: u[0].m_steam)
         m_w = spray_water_flow(m_min, p.h_in, p.h_out, h_w)
-        out.append(("rated minimum flow", m_min, m_w, p.h_in, p.h_out, h_w, cp))
+        out.append((_RATED_MIN, m_min, m_w, p.h_in, p.h_out, h_w, cp))
     return [(label, abs(gain_per_spray(h_w, h_out, cp, m_s, m_w)),
              abs(gain_per_ratio(h_w, h_in, cp, m_w / m_s)))
             for label, m_s, m_w, h_in, h_out, h_w, cp in out]
+
+
+_RATED_MIN = object()      # the label of the rated-minimum-flow point in _gains
+
+
+def _label(key) -> str:
+    """How a point of :func:`_gains` is named in the check's basis."""
+    return "rated minimum flow" if key is _RATED_MIN else f"case '{key}'"
 
 
 def check_gain_spread(data: StationData, points: list[StationPoint]) -> list[CheckRow]:
@@ -433,8 +443,8 @@ def check_gain_spread(data: StationData, points: list[StationPoint]) -> list[Che
         hi = max(gains, key=lambda g: g[idx])
         spread = hi[idx] / lo[idx]
         status, limit = grade_high(spread, lim.gain_spread_warn, None)
-        basis = (f"energy balance over {len(gains)} points; largest at {hi[0]}, "
-                 f"smallest at {lo[0]}")
+        basis = (f"energy balance over {len(gains)} points; largest at "
+                 f"{_label(hi[0])}, smallest at {_label(lo[0])}")
         if check == "gain_spread_spray":
             advice = (f"gain to spray flow varies {spread:.1f}:1: a loop tuned at full "
                       "flow is unstable at low flow; spray in ratio to steam flow "
