@@ -58,6 +58,9 @@ class CaseResult:
         Mass/energy residuals (relative maxima and per header).
     solution : Solution or None
         The raw solution (flows, enthalpies, modes) for studies and station checks.
+    input_errors : tuple of (message, item, field)
+        For a case whose model was not valid (status ``"error"``): each problem found,
+        as :class:`~steamnet.errors.ModelError` gives it (empty otherwise).
     """
 
     case: str
@@ -73,6 +76,7 @@ class CaseResult:
     residuals: dict
     solution: Solution | None = field(default=None, repr=False, compare=False)
     points: tuple = field(default=(), repr=False, compare=False)
+    input_errors: tuple = field(default=(), repr=False, compare=False)
 
     def without_solution(self) -> "CaseResult":
         """A copy without the raw solution (small to pickle; station points kept)."""
@@ -199,13 +203,14 @@ def _supply_flow(sol: Solution, name: str) -> float:
 
 
 def _empty(case: str, status: str, message: str, findings=None, iterations=0,
-           solution=None) -> CaseResult:
+           solution=None, input_errors=()) -> CaseResult:
     return CaseResult(case=case, status=status, message=message, findings=findings or [],
                       iterations=iterations,
                       summary={"case": case, "status": status, "message": message,
                                "iterations": iterations},
                       headers=_NO_TABLE, equipment=_NO_TABLE,
-                      streams=_NO_TABLE, water={}, residuals={}, solution=solution)
+                      streams=_NO_TABLE, water={}, residuals={}, solution=solution,
+                      input_errors=tuple(input_errors))
 
 
 def solve_case(model: Model, case: str | None = None, *, start: dict | None = None,

@@ -24,7 +24,8 @@ def _spec_name(spec) -> str:
     return spec if isinstance(spec, str) else spec[0]
 
 
-def _solve_one(model, spec, start, tables, models: "_CaseModels | None" = None):
+def _solve_one(model, spec, start, tables, models: "_CaseModels | None" = None,
+               streams: bool = True):
     """Solve one spec. With ``models`` (the fast path) the case model is made by
     :class:`_CaseModels` and the Net from the previous case's; without, every case is
     made and built from scratch (the reference path). A case whose changes are bad is
@@ -37,20 +38,24 @@ def _solve_one(model, spec, start, tables, models: "_CaseModels | None" = None):
                 m, name = models.get(spec)
                 models.validate(m, spec)
             except ModelError:
-                return _solve_one(model, spec, start, tables)
-            r = solve_model(m, name, start=start, tables=tables, like=models.net)
+                return _solve_one(model, spec, start, tables, streams=streams)
+            r = solve_model(m, name, start=start, tables=tables, streams=streams,
+                            like=models.net)
             if r.solution is not None:
                 models.net = r.solution.net
             return r
         if isinstance(spec, str):
-            return solve_case(model, spec, start=start, tables=tables, reference=True)
+            return solve_case(model, spec, start=start, tables=tables, streams=streams,
+                              reference=True)
         name, changes = spec[0], spec[1]
         base = model.for_case(spec[2]) if len(spec) > 2 and spec[2] else model
         m = base.with_changes(changes, origin=f"case '{name}'")
         validate_model(m)
-        return solve_model(m, name, start=start, tables=tables, reference=True)
+        return solve_model(m, name, start=start, tables=tables, streams=streams,
+                           reference=True)
     except ModelError as exc:      # includes ModelErrors: a bad case, the others go on
-        return _empty(_spec_name(spec), "error", str(exc))
+        return _empty(_spec_name(spec), "error", str(exc), input_errors=[
+            (e.message, e.item, e.field) for e in getattr(exc, "errors", [exc])])
     except Exception as exc:       # a fault of ours: report it on this case, go on
         return _empty(_spec_name(spec), "error", f"internal error: "
                       f"{type(exc).__name__}: {exc} (please report this)")
@@ -116,7 +121,8 @@ class _CaseModels:
 
 
 def solve_chunk(model, specs: Sequence, tables: bool = False, warm_start: bool = True,
-                keep_solution: bool = True, reference: bool = False) -> list:
+                keep_solution: bool = True, reference: bool = False,
+                streams: bool = True) -> list:
     """Solve consecutive cases, each warm-started from the one before. ``reference``
     makes and builds every case from scratch (the code path before issue 7, kept to
     check that the fast one gives the same answers)."""
@@ -124,7 +130,8 @@ def solve_chunk(model, specs: Sequence, tables: bool = False, warm_start: bool =
     start = None
     models = None if reference else _CaseModels(model)
     for spec in specs:
-        r = _solve_one(model, spec, start if warm_start else None, tables, models)
+        r = _solve_one(model, spec, start if warm_start else None, tables, models,
+                       streams=streams)
         if r.solution is not None and r.ok and warm_start:
             start = {"h": r.solution.h, "modes": r.solution.modes}
         out.append(r if keep_solution else r.without_solution())
@@ -139,57 +146,60 @@ def _init_worker(model, extra) -> None:
     _WORKER = (model, extra)
 
 
-def _solve_with_extra(model, extra, specs, tables, warm_start, reference,
-                      keep_solution: bool):
-    """Solve a chunk; ``extra(results)`` (when given) runs on its results while their
-    raw solutions are still at hand."""
-    part = solve_chunk(model, specs, tables, warm_start, reference=reference)
+def _solve_with_extra(model, extra, specs, opts: dict, keep_solution: bool):
+    """Solve a chunk (``opts``: tables, streams, warm_start, reference);
+    ``extra(results)`` (when given) runs on its results while their raw solutions are
+    still at hand."""
+    part = solve_chunk(model, specs, **opts)
     made = extra(part) if extra is not None else None
     if not keep_solution:
         part = [r.without_solution() for r in part]
     return part, made
 
 
-def _counted_chunk(model, extra, specs, tables, warm_start, reference):
+def _counted_chunk(model, extra, specs, opts):
     """A chunk solved away from the caller: the results without their raw solutions,
     the chunk's extra, and the property statistics of the chunk (added to the
     caller's)."""
     from . import properties as props
     before = props.stats()
-    part, made = _solve_with_extra(model, extra, specs, tables, warm_start, reference,
-                                   keep_solution=False)
+    part, made = _solve_with_extra(model, extra, specs, opts, keep_solution=False)
     after = props.stats()
     return part, made, {k: after[k] - before[k] for k in after}
 
 
-def _worker_chunk(specs, tables, warm_start, reference):
-    return _counted_chunk(*_WORKER, specs, tables, warm_start, reference)
+def _worker_chunk(specs, opts):
+    return _counted_chunk(*_WORKER, specs, opts)
 
 
-def _dask_chunk(model, extra, specs, tables, warm_start, reference):
-    return _counted_chunk(model, extra, specs, tables, warm_start, reference)
+def _dask_chunk(model, extra, specs, opts):
+    return _counted_chunk(model, extra, specs, opts)
 
 
 def run_sweep(model, specs: Sequence, *, workers: int = 1, scheduler: str | None = None,
               tables: bool = True, progress: Callable[[int, int, str], None] | None = None,
               warm_start: bool = True, chunk: int = CHUNK, reference: bool = False,
-              extra: Callable[[list], object] | None = None) -> tuple[list, list | None]:
+              extra: Callable[[list], object] | None = None, streams: bool = True,
+              keep_solutions: bool = True) -> tuple[list, list | None]:
     """Solve ``specs`` (see :func:`steamnet.solve.solve_cases`) and return the
     CaseResults in order, and the value of ``extra(results)`` for every chunk (made
     where the chunk was solved, while the raw solutions are at hand; a module-level
     function or a functools.partial of one, so that it can be sent to workers), or
-    None without ``extra``. In processes or on a cluster the raw solutions are not
-    sent back (each result keeps its tables, summary and station operating points);
-    the property statistics of the workers are added to this process's
-    (:func:`steamnet.properties.stats`)."""
+    None without ``extra``. ``streams`` builds the stream table of each case (with
+    ``tables``). In processes or on a cluster the raw solutions are not sent back (each
+    result keeps its tables, summary and station operating points); serially they are
+    kept unless ``keep_solutions`` is False. The property statistics of the workers
+    are added to this process's (:func:`steamnet.properties.stats`)."""
+    opts = {"tables": tables, "streams": streams, "warm_start": warm_start,
+            "reference": reference}
     with young_collections_only():
         return _run_sweep(model, list(specs), workers=workers, scheduler=scheduler,
-                          tables=tables, progress=progress, warm_start=warm_start,
-                          chunk=chunk, reference=reference, extra=extra)
+                          opts=opts, progress=progress, chunk=chunk, extra=extra,
+                          keep_solutions=keep_solutions)
 
 
-def _run_sweep(model, specs: list, *, workers, scheduler, tables, progress, warm_start,
-               chunk, reference, extra) -> tuple[list, list | None]:
+def _run_sweep(model, specs: list, *, workers, scheduler, opts, progress, chunk, extra,
+               keep_solutions) -> tuple[list, list | None]:
     from . import properties as props
     chunks = [specs[i:i + chunk] for i in range(0, len(specs), chunk)]
     total = len(specs)
@@ -216,8 +226,8 @@ def _run_sweep(model, specs: list, *, workers, scheduler, tables, progress, warm
         client = Client(scheduler)
         try:
             m = client.scatter(model, broadcast=True)
-            futures = [client.submit(_dask_chunk, m, extra, c, tables, warm_start,
-                                     reference, pure=False) for c in chunks]
+            futures = [client.submit(_dask_chunk, m, extra, c, opts, pure=False)
+                       for c in chunks]
             for f in futures:
                 part, made, stats = f.result()
                 results.extend(part)
@@ -231,16 +241,15 @@ def _run_sweep(model, specs: list, *, workers, scheduler, tables, progress, warm
         return results, extras
     if workers <= 1 or len(chunks) <= 1:
         for c in chunks:
-            part, made = _solve_with_extra(model, extra, c, tables, warm_start,
-                                           reference, keep_solution=True)
+            part, made = _solve_with_extra(model, extra, c, opts,
+                                           keep_solution=keep_solutions)
             results.extend(part)
             tick(part, made)
         return results, extras
     ex = ProcessPoolExecutor(max_workers=workers, initializer=_init_worker,
                              initargs=(model, extra))
     try:
-        futures = [ex.submit(_worker_chunk, c, tables, warm_start, reference)
-                   for c in chunks]
+        futures = [ex.submit(_worker_chunk, c, opts) for c in chunks]
         for f in futures:
             part, made, stats = f.result()
             results.extend(part)

@@ -260,3 +260,51 @@ def test_unknown_based_on_lists_the_model_cases_in_file_order(model, tmp_path):
         read_case_table(p, model)
     order = ", ".join(c.name for c in model.cases)
     assert f"(model cases: {order})" in str(info.value)
+
+
+def test_lean_case_whose_equipment_leaves_if97_is_an_error_the_others_run(
+        model, tmp_path, monkeypatch):
+    """Lean sets read each case's flows from its equipment rows; a state there outside
+    IAPWS-IF97 makes that case an error, as building its tables would (fault injected:
+    the rows of one case raise), and the other cases still run."""
+    from steamnet.errors import PropertyRangeError
+    from steamnet.solver import results as res
+    lines = HOURLY.read_text().splitlines()[:7]
+    p = write(tmp_path, "\n".join(lines) + "\n", "h6.csv")
+    cs = read_case_table(p, model, base="winter")
+    bad = cs.names[2]
+    real = res.equipment_rows
+
+    def rows(sol, case):
+        if case == bad:
+            raise PropertyRangeError("p=0.1 MPa, T=2000 K is outside IAPWS-IF97")
+        return real(sol, case)
+    monkeypatch.setattr(res, "equipment_rows", rows)
+    for keep in (False, True):
+        df = case_results(solve_case_set(cs, keep_tables=keep))
+        st = dict(zip(df["case"], df["status"]))
+        assert st.pop(bad) == "error" and set(st.values()) == {"solved"}, keep
+        msg = df.loc[df["case"] == bad, "message"].iloc[0]
+        assert "outside IAPWS-IF97" in msg
+
+
+def test_small_sets_keep_tables_but_no_stream_tables(model):
+    """Up to LEAN_ABOVE cases each case keeps its header and equipment tables; the
+    stream tables, which no case-set output reads, are not made."""
+    study = solve_case_set(casetable.model_case_set(model))
+    assert all(len(c.equipment) and len(c.headers) and not len(c.streams)
+               for c in study.cases)
+
+
+def test_unchecked_bad_row_is_an_error_naming_file_row_and_column(model, tmp_path):
+    """A table read without its check: a row whose value breaks validation is that
+    case's error, worded as the check words it (file, row, column); the others run."""
+    p = write(tmp_path, "case,based_on,user.PM1 dryer section.demand [t/h]\n"
+                        "a,winter,30\nneg,winter,-5\nc,winter,31\n", "unchecked.csv")
+    cs = read_case_table(p, model, check=False)
+    df = case_results(solve_case_set(cs))
+    st = dict(zip(df["case"], df["status"]))
+    assert st == {"neg": "error", "a": "solved", "c": "solved"}
+    msg = df.loc[df["case"] == "neg", "message"].iloc[0]
+    assert "unchecked.csv" in msg and "row 3" in msg
+    assert "user.PM1 dryer section.demand [t/h]" in msg

@@ -208,9 +208,49 @@ def test_trip_that_leaves_a_header_unreachable_is_an_invalid_finding():
     assert row["message"].startswith("after the trip: ")
 
 
-def test_screening_in_two_workers_equals_serial(demo_trips):
-    """The screening runs as two sweeps (the cases, then the trips unit by unit); in two
-    processes the table is the same, cell for cell."""
+def _counting_pools(monkeypatch):
+    """Count the process pools the sweeps start (so a test knows workers ran)."""
+    from steamnet import sweep
+    started = []
+
+    class Counting(sweep.ProcessPoolExecutor):
+        def __init__(self, *a, **k):
+            started.append(k.get("max_workers"))
+            super().__init__(*a, **k)
+    monkeypatch.setattr(sweep, "ProcessPoolExecutor", Counting)
+    return started
+
+
+def test_screening_in_two_workers_equals_serial(tmp_path, monkeypatch):
+    """The screening runs as two sweeps (the hours, then the trips unit by unit); over
+    48 hours (two chunks of hours, six of trips) two processes give the same table,
+    cell for cell, as one."""
     import pandas as pd
-    par = trip_screening(load_model(DEMO), boilers=True, workers=2)
-    pd.testing.assert_frame_equal(par, demo_trips, check_exact=True)
+    from conftest import ROOT
+    from steamnet.studies import read_case_table
+    lines = (ROOT / "cases" / "orlewick_hourly.csv").read_text().splitlines()[:49]
+    p = tmp_path / "two-days.csv"
+    p.write_text("\n".join(lines) + "\n")
+    m = load_model(DEMO)
+    cs = read_case_table(p, m, base="winter")
+    serial = trip_screening(m, cs)
+    started = _counting_pools(monkeypatch)
+    par = trip_screening(m, cs, workers=2)
+    assert started == [2, 2]                   # both sweeps ran in worker processes
+    assert len(serial) == 48 * 3 * 4           # every hour, 3 trips, 4 stations
+    pd.testing.assert_frame_equal(par, serial, check_exact=True)
+
+
+def test_screening_solves_a_case_set_on_its_own_model():
+    """A case set made on a changed model is screened on that model (as its cases
+    are built), whatever model is passed beside it."""
+    import pandas as pd
+    from steamnet.studies import model_case_set
+    m = load_model(DEMO)
+    # the PM1 dryers down to 5 t/h (no case of the file changes them)
+    m2 = m.with_changes({"user.PM1 dryer section.demand": "5 t/h"})
+    cs = model_case_set(m2, ["winter"])
+    got = trip_screening(m, cs)
+    pd.testing.assert_frame_equal(got, trip_screening(m2, cs), check_exact=True)
+    on_m = trip_screening(m, model_case_set(m, ["winter"]))
+    assert got["steam_t_h"].sum() < on_m["steam_t_h"].sum() - 10.0     # [t/h]

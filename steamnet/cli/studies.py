@@ -107,10 +107,10 @@ def _write_json(study, path, key: str, payload: dict, quiet: bool) -> None:
         click.echo(f"\nwrote {path}")
 
 
-def _base_study(cs, quiet: bool):
+def _base_study(cs, quiet: bool, workers: int = 1, scheduler: str | None = None):
     """The balances of the cases themselves, for the JSON export."""
     with ProgressBar("balancing the cases", quiet=quiet) as bar:
-        return solve_case_set(cs, progress=bar)
+        return solve_case_set(cs, progress=bar, workers=workers, scheduler=scheduler)
 
 
 # ------------------------------------------------------------------------ cases
@@ -211,8 +211,9 @@ def trips_command(ctx, model, cases, table, base, json_path, quiet, rows, boiler
                        f"{r.worst_limit} at {r.worst_use_percent:.0f} %")
     _caution(quiet)
     if json_path:
-        _write_json(_base_study(cs, True), json_path, "trip_screening",
-                    {"boilers": boilers, "rows": df}, quiet)
+        base = _base_study(cs, True, workers, scheduler)
+        _write_json(base, json_path, "trip_screening", {"boilers": boilers, "rows": df},
+                    quiet)
     ctx.exit(EXIT_OK if not (len(findings) or len(over)) else EXIT_FAIL)
 
 

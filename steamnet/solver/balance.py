@@ -211,6 +211,8 @@ def _dense_solve(a: np.ndarray, b: np.ndarray) -> np.ndarray | None:
     """Solve a dense system by LU with partial pivoting (LAPACK dgesv, the routine
     numpy.linalg.solve calls, here without numpy's wrapper: a third of its cost for
     the 15 flows of a plant); None when it is singular or nearly so."""
+    if not len(b):                  # nothing to solve (dgesv rejects an empty system)
+        return np.zeros(0)
     _, _, x, info = _dgesv(a, b)
     if info != 0 or not np.isfinite(x).all():   # nearly singular: as the sparse branch
         return None

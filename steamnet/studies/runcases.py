@@ -13,7 +13,7 @@ from dataclasses import dataclass, field, replace
 
 import pandas as pd
 
-from ..solve import CaseResult, StudyResult
+from ..solve import CaseResult, StudyResult, _empty
 from ..errors import ModelError
 from .casetable import BASE, CaseSet
 from .common import Progress
@@ -122,12 +122,29 @@ def solve_case_set(cs: CaseSet, *, progress: Progress | None = None,
     from ..sweep import run_sweep
     keep = len(cs) <= LEAN_ABOVE if keep_tables is None else keep_tables
     out, per_chunk = run_sweep(cs.model, sweep_specs(cs), workers=workers,
-                               scheduler=scheduler, tables=keep, progress=progress,
-                               warm_start=warm_start, extra=_chunk_flows)
+                               scheduler=scheduler, tables=keep, streams=False,
+                               progress=progress, warm_start=warm_start,
+                               extra=_chunk_flows, keep_solutions=keep)
     flows = [f for chunk in per_chunk for f in chunk]
+    for i, (r, f) in enumerate(zip(out, flows)):
+        if isinstance(f, str):              # its equipment rows left IAPWS-IF97
+            out[i], flows[i] = _empty(r.case, "error", f), {}
+        elif r.status == "error" and r.input_errors:
+            out[i] = replace(r, message=_row_message(cs, r))
     if not keep:
         out = [_lean(r) for r in out]
     return CaseSetResult(cs.model, out, flows=flows, case_set=cs)
+
+
+def _row_message(cs: CaseSet, r: CaseResult) -> str:
+    """The error of a case whose model is not valid, as the case set words it (naming
+    the table file, the row and the column); made again on its own, only for such
+    cases."""
+    try:
+        cs.build(r.case)
+    except ModelError as exc:
+        return str(exc)
+    return r.message
 
 
 def sweep_specs(cs: CaseSet) -> list:
@@ -160,9 +177,13 @@ def sweep_specs(cs: CaseSet) -> list:
     return out
 
 
-def _chunk_flows(results: list[CaseResult]) -> list[dict]:
+def _chunk_flows(results: list[CaseResult]) -> list:
     """The equipment flow columns of each case of a solved chunk, read from its raw
-    solution (so also for cases solved without tables)."""
+    solution (so also for cases solved without tables); for a case whose equipment
+    states leave IAPWS-IF97, the error text instead (the case is then reported as an
+    error, as when its tables are built)."""
+    from ..errors import PropertyRangeError
+    from ..solver.network import ItemPropertyError
     from ..solver.results import equipment_rows
     out = []
     for r in results:
@@ -170,8 +191,11 @@ def _chunk_flows(results: list[CaseResult]) -> list[dict]:
         if r.status == "error" or sol is None or sol.status not in ("solved",
                                                                     "infeasible"):
             out.append({})
-        else:
+            continue
+        try:
             out.append(_flow_row_of(equipment_rows(sol, r.case)))
+        except (ItemPropertyError, PropertyRangeError) as exc:
+            out.append(f"outside IAPWS-IF97: {exc}")     # the case is an error
     return out
 
 

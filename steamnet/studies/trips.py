@@ -27,9 +27,7 @@ from functools import partial
 import numpy as np
 import pandas as pd
 
-from ..errors import ModelError
 from ..model.model import Model
-from ..model.validate import validate_model
 from .casetable import CaseSet
 from .common import Progress, resolve_cases
 from .limits import TH, station_loads
@@ -106,9 +104,10 @@ def _station_rows(case, trip, ttype, tflow, status, before, after) -> list[dict]
     return rows
 
 
-def _header_named(exc: ModelError) -> str | None:
-    for e in getattr(exc, "errors", [exc]):
-        m = re.search(r"header '([^']+)'$", e.item or "")
+def _header_named(items) -> str | None:
+    """The header an error is about: the first item written "... header 'NAME'"."""
+    for item in items:
+        m = re.search(r"header '([^']+)'$", item or "")
         if m:
             return m.group(1)
     return None
@@ -168,6 +167,7 @@ def trip_screening(model: Model, cases: CaseSet | list[str] | str | None = None,
     from ..sweep import run_sweep
     from .runcases import sweep_specs
     cs = resolve_cases(model, cases)
+    model = cs.model                    # a case set is solved on its own model
     specs = sweep_specs(cs)
     n = len(specs)
 
@@ -178,7 +178,8 @@ def trip_screening(model: Model, cases: CaseSet | list[str] | str | None = None,
 
     base, per_chunk = run_sweep(model, specs, workers=workers, scheduler=scheduler,
                                 tables=False, progress=stage(0, n),
-                                extra=partial(_untripped, boilers))
+                                extra=partial(_untripped, boilers),
+                                keep_solutions=False)
     info = [x for chunk in per_chunk for x in chunk]
     trips = []                          # (case index, table, unit, flow), unit by unit
     units_in_order: dict[tuple, None] = {}
@@ -193,7 +194,8 @@ def trip_screening(model: Model, cases: CaseSet | list[str] | str | None = None,
     trip_specs = [_trip_spec(specs[i], table, unit) for i, table, unit, _ in trips]
     done, per_chunk = run_sweep(model, trip_specs, workers=workers, scheduler=scheduler,
                                 tables=False, progress=stage(n, n + len(trip_specs)),
-                                extra=_tripped) if trip_specs else ([], [])
+                                extra=_tripped, keep_solutions=False) \
+        if trip_specs else ([], [])
     after = {(i, unit): (r, loads) for (i, _, unit, _), r, loads in zip(
         trips, done, (x for chunk in per_chunk for x in chunk))}
     rows: list[dict] = []
@@ -204,11 +206,9 @@ def trip_screening(model: Model, cases: CaseSet | list[str] | str | None = None,
         before, units = info[i]
         for table, unit, flow in units:
             r, loads = after[i, unit]
-            if r.status == "error":
-                invalid = _invalid_trip(cs, name, table, unit, flow)
-                if invalid is not None:
-                    rows.append(invalid)
-                    continue
+            if r.status == "error" and r.input_errors:
+                rows.append(_invalid_trip(name, table, unit, flow, r.input_errors))
+                continue
             if r.status != "solved":
                 rows.extend(_finding_rows(name, unit, table, flow, r))
             if loads is not None:
@@ -247,21 +247,12 @@ def _trip_spec(spec, table: str, unit: str):
     return (f"{name}: trip of {unit}", {**changes, **change}, based_on)
 
 
-def _invalid_trip(cs: CaseSet, name: str, table: str, unit: str,
-                  flow: float) -> dict | None:
+def _invalid_trip(name: str, table: str, unit: str, flow: float,
+                  errors: tuple) -> dict:
     """The finding row of a trip whose model is not valid (the plant cannot balance
-    without the unit: e.g. a header left with nothing to close its balance), or None
-    when it is valid (its error is then the balance's). Made again on its own: only
-    trips that failed come here."""
-    tbl, mode = _TRIP[table]
-    try:
-        mt = cs.build(name).with_changes({f"{tbl}.{unit}.mode": mode},
-                                         origin=f"trip of {unit}")
-        validate_model(mt)
-    except ModelError as exc:
-        return {"case": name, "trip": unit, "trip_type": table,
-                "trip_flow_t_h": flow * TH, "status": "invalid", "row": "finding",
-                "verdict": "cannot balance", "header": _header_named(exc),
-                "message": "after the trip: " + "; ".join(
-                    e.message for e in getattr(exc, "errors", [exc]))}
-    return None
+    without the unit: e.g. a header left with nothing to close its balance), from the
+    problems the sweep found in it (message, item, field)."""
+    return {"case": name, "trip": unit, "trip_type": table, "trip_flow_t_h": flow * TH,
+            "status": "invalid", "row": "finding", "verdict": "cannot balance",
+            "header": _header_named(item for _, item, _ in errors),
+            "message": "after the trip: " + "; ".join(msg for msg, _, _ in errors)}
