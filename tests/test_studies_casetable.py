@@ -308,3 +308,28 @@ def test_unchecked_bad_row_is_an_error_naming_file_row_and_column(model, tmp_pat
     msg = df.loc[df["case"] == "neg", "message"].iloc[0]
     assert "unchecked.csv" in msg and "row 3" in msg
     assert "user.PM1 dryer section.demand [t/h]" in msg
+
+
+def test_profile_rows_are_checked_without_a_full_validation_each(model, tmp_path,
+                                                                 monkeypatch):
+    """Rows that change only values validation never reads are checked for what they
+    touch on their validated base: a day of hours costs one full validation (of the
+    base case), and a make-up temperature that is not liquid water is still refused,
+    naming its row (150 degC: water boils at it below 4.76 bar, IAPWS-IF97 saturation
+    pressure, far above the demo deaerator's 0.4 bar(g))."""
+    calls = []
+    real = casetable.validate_model
+    monkeypatch.setattr(casetable, "validate_model",
+                        lambda m: (calls.append(m.case_name), real(m)))
+    lines = HOURLY.read_text().splitlines()[:25]
+    p = write(tmp_path, "\n".join(lines) + "\n", "day.csv")
+    cs = read_case_table(p, model, base="winter")
+    assert len(cs) == 24 and len(calls) == 1
+    heading = lines[0].split(",")
+    col = heading.index("site.makeup_temperature [degC]")
+    row = lines[5].split(",")
+    row[col] = "150"
+    lines[5] = ",".join(row)
+    p = write(tmp_path, "\n".join(lines) + "\n", "hot.csv")
+    with pytest.raises(ModelError, match=r"row 6 .*not a temperature of liquid make-up"):
+        read_case_table(p, model, base="winter")

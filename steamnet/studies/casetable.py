@@ -46,7 +46,7 @@ from pydantic import BaseModel
 from ..errors import ModelError, ModelErrors
 from ..model.model import ITEM_LABELS, Model
 from ..model.schema import EQUIPMENT_TABLES, SI, Prices, Site
-from ..model.validate import validate_model
+from ..model.validate import validate_model, validate_value_changes
 from ..units import Kind, parse_quantity, unit_factor
 
 __all__ = ["CaseSpec", "CaseSet", "read_case_table", "model_case_set", "BASE"]
@@ -108,6 +108,7 @@ class CaseSet:
         self._headings = headings or {}   # change key -> column heading
         self._parents = {s.based_on or base for s in self.specs.values()} - {None}
         self._cache: dict[str, Model] = {}
+        self._valid: dict[int, tuple[Model, bool]] = {}   # id -> (model, passed)
 
     # ---------------------------------------------------------------- access
     @property
@@ -177,15 +178,30 @@ class CaseSet:
         else:
             parent = self._model_case(parent_name)
         try:
-            m = parent.with_changes(spec.changes, origin=_row_label(spec))
+            m = parent.with_values(spec.changes, origin=_row_label(spec))
         except ModelError as exc:
             raise self._wrap(spec, exc) from None
         m = replace(m, case_name=spec.name)
         try:
-            validate_model(m)
+            # a row that changes only values validation never reads (demands, duties,
+            # heat losses, prices), on a valid parent, is checked for what they touch
+            if not (self._passes(parent) and validate_value_changes(m, spec.changes)):
+                validate_model(m)
         except ModelError as exc:
             raise self._wrap(spec, exc, validation=True) from None
         return m
+
+    def _passes(self, m: Model) -> bool:
+        """Whether ``m`` (a parent of rows) passes validation; asked once per model."""
+        got = self._valid.get(id(m))
+        if got is None:
+            try:
+                validate_model(m)
+                ok = True
+            except ModelError:
+                ok = False
+            got = self._valid[id(m)] = (m, ok)     # the model kept: its id stays its own
+        return got[1]
 
     def _model_case(self, name: str) -> Model:
         if name in self._cache:
@@ -195,6 +211,7 @@ class CaseSet:
         else:
             m = self.model.for_case(name)
             validate_model(m)
+            self._valid[id(m)] = (m, True)
         if name in self._parents:
             self._cache[name] = m
         return m
