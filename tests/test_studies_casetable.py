@@ -308,6 +308,8 @@ def test_unchecked_bad_row_is_an_error_naming_file_row_and_column(model, tmp_pat
     msg = df.loc[df["case"] == "neg", "message"].iloc[0]
     assert "unchecked.csv" in msg and "row 3" in msg
     assert "user.PM1 dryer section.demand [t/h]" in msg
+    # the rule, not the value in kg/s the column's t/h became (-5 t/h = -1.389 kg/s)
+    assert "must not be negative" in msg and "1.38" not in msg
 
 
 def test_profile_rows_are_checked_without_a_full_validation_each(model, tmp_path,

@@ -20,7 +20,7 @@ from pydantic import ValidationError
 
 from .._version import FORMAT_VERSION
 from ..errors import ModelError, ModelErrors
-from .schema import EQUIPMENT_TABLES, NAME_RE, Case, Prices, Site
+from .schema import EQUIPMENT_TABLES, NAME_RE, SI, Case, Prices, Site
 
 __all__ = ["Model", "load_model", "loads_model", "ITEM_LABELS"]
 
@@ -60,8 +60,11 @@ def _pydantic_errors(exc: ValidationError, *, file: str | None, item: str,
                 fld = f"{prefix}.{fld}"
             written = (err.get("input") or {}).get(cause.field) \
                 if isinstance(err.get("input"), dict) else None
-            if isinstance(written, (str, int, float)) and not isinstance(written, bool):
-                msg = f"{msg} (written {written!r})"     # as the user wrote it, not SI
+            # as the user wrote it; a value a case table converted to SI from the unit
+            # of its column heading is not what the user wrote (the heading is named)
+            if isinstance(written, (str, int, float)) and \
+                    not isinstance(written, (bool, SI)):
+                msg = f"{msg} (written {written!r})"
         if typ == "extra_forbidden":
             msg = "unknown key (check the spelling; see docs/model-file.md)"
         elif typ == "missing":
