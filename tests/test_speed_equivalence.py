@@ -16,7 +16,6 @@ from __future__ import annotations
 import dataclasses
 import math
 
-import networkx as nx
 import numpy as np
 import pytest
 
