@@ -253,4 +253,6 @@ def test_screening_solves_a_case_set_on_its_own_model():
     got = trip_screening(m, cs)
     pd.testing.assert_frame_equal(got, trip_screening(m2, cs), check_exact=True)
     on_m = trip_screening(m, model_case_set(m, ["winter"]))
+    # the dryers draw 27 t/h less (32 t/h in cases/orlewick.toml, 5 t/h here), so the
+    # let-downs that feed LP pass less in the trips; 10 t/h is a margin well inside it
     assert got["steam_t_h"].sum() < on_m["steam_t_h"].sum() - 10.0     # [t/h]

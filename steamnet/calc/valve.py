@@ -306,6 +306,9 @@ def size_gas_valve(p_in: float, p_out: float, q_normal: float, *, t_in: float,
         raise ModelError("the liquid pressure recovery factor fl is needed when "
                          "diameters are given (for the valve Reynolds number)")
     # IEC 60534-2-1:2011 Eqs. (8a)/(14a), with (11a)/(17a) for fittings, via fluids.
+    # fluids reads FL only for the valve Reynolds number, which it works out only when
+    # diameters are given (and then fl is given, above): without them the FL passed is
+    # never used, so any placeholder serves.
     out = _cv.size_control_valve_g(
         T=t_in, MW=mw, mu=mu, gamma=gamma, Z=z, P1=p_in, P2=p_out, Q=q_normal,
         D1=d1, D2=d2, d=d, FL=0.9 if fl is None else fl, Fd=fd_used, xT=xt,

@@ -469,7 +469,6 @@ def _extreme(points: list[StationPoint], attr: str, pick) -> dict | None:
 
 
 def check_across_cases(data: StationData, points: list[StationPoint], *,
-                       point_rows: list[CheckRow] | None = None,
                        verdicts: Iterable[tuple[str, Status]] | None = None
                        ) -> tuple[list[CheckRow], dict]:
     """Checks across a station's cases and the station's operating envelope.
@@ -480,11 +479,10 @@ def check_across_cases(data: StationData, points: list[StationPoint], *,
         Station data [-]
     points : list of StationPoint
         All operating points of this station [-]
-    point_rows : list of CheckRow, optional
-        Rows of :func:`check_point` for these points, when already computed [-]
     verdicts : iterable of (check, Status), optional
-        Instead of ``point_rows``: the (check id, verdict) pairs those rows have, each
-        pair once or more [-]
+        The (check id, verdict) pairs of the :func:`check_point` rows of these points,
+        each pair once or more, when they are already known (else they are checked
+        here) [-]
 
     Returns
     -------
@@ -500,9 +498,7 @@ def check_across_cases(data: StationData, points: list[StationPoint], *,
     for p in points:
         _same_station(data, p)
     if verdicts is None:
-        if point_rows is None:
-            point_rows = [r for p in points for r in check_point(data, p)]
-        verdicts = ((r.check, r.status) for r in point_rows)
+        verdicts = ((r.check, r.status) for p in points for r in check_point(data, p))
     rows = check_gain_spread(data, points)
     flowing = [p for p in points if p.m_steam > 0]
     ds = data.desuperheater

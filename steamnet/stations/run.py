@@ -294,8 +294,9 @@ def _run_checks(study, data) -> StationReport:
                          gains=pd.DataFrame(gains, columns=GAIN_COLUMNS))
 
 
-#: Status (or its text) -> its text (a dict lookup: Status(s).value costs more)
-_STATUS_TEXT = {**{s: s.value for s in Status}, **{s.value: s.value for s in Status}}
+#: Status (or its text: a str Enum member hashes and compares as its text) -> its text
+#: (a dict lookup: Status(s).value costs more)
+_STATUS_TEXT = {s: s.value for s in Status}
 
 
 def _flatten_envelope(env: dict, across) -> dict:

@@ -181,16 +181,11 @@ def trip_screening(model: Model, cases: CaseSet | list[str] | str | None = None,
                                 extra=partial(_untripped, boilers),
                                 keep_solutions=False)
     info = [x for chunk in per_chunk for x in chunk]
-    trips = []                          # (case index, table, unit, flow), unit by unit
-    units_in_order: dict[tuple, None] = {}
+    by_unit: dict[tuple, list] = {}     # (table, unit) -> [(case index, table, unit, flow)]
     for i, x in enumerate(info):
-        for table, unit, _ in (x[1] if x else ()):
-            units_in_order.setdefault((table, unit))
-    for key in units_in_order:
-        for i, x in enumerate(info):
-            for table, unit, flow in (x[1] if x else ()):
-                if (table, unit) == key:
-                    trips.append((i, table, unit, flow))
+        for table, unit, flow in (x[1] if x else ()):
+            by_unit.setdefault((table, unit), []).append((i, table, unit, flow))
+    trips = [t for unit_trips in by_unit.values() for t in unit_trips]  # unit by unit
     trip_specs = [_trip_spec(specs[i], table, unit) for i, table, unit, _ in trips]
     done, per_chunk = run_sweep(model, trip_specs, workers=workers, scheduler=scheduler,
                                 tables=False, progress=stage(n, n + len(trip_specs)),
