@@ -28,7 +28,7 @@ sys.path.insert(0, str(ROOT))
 
 from steamnet import properties as props  # noqa: E402
 from steamnet.io.jsonout import write_json  # noqa: E402
-from steamnet.model.model import load_model  # noqa: E402
+from steamnet.model.load import load_model  # noqa: E402
 from steamnet.studies import (case_results, header_headroom, marginal_steam_cost,  # noqa: E402
                               new_consumer_impact, read_case_table, solve_case_set,
                               trip_screening)

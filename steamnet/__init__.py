@@ -10,8 +10,10 @@ Public API::
 
 from ._version import FORMAT_VERSION, __version__
 from .errors import ModelError, ModelErrors, PropertyRangeError, SteamnetError
-from .model.model import Model, load_model, loads_model
-from .solve import CaseResult, StudyResult, solve_case, solve_cases
+from .model.load import load_model, loads_model
+from .model.model import Model
+from .solve import CaseResult, StudyResult, solve_case
+from .sweep import solve_cases
 
 __all__ = [
     "__version__", "FORMAT_VERSION", "load_model", "loads_model", "Model", "solve_case",

@@ -1,4 +1,5 @@
-"""Sweeps of many cases: serial, in processes, or on a dask.distributed cluster.
+"""Many cases: :func:`solve_cases` and the sweeps behind it, serial, in processes, or on
+a dask.distributed cluster (one case: :mod:`steamnet.solve`).
 
 Cases are cut into chunks of :data:`CHUNK` consecutive cases. Within a chunk each case
 starts from the solution of the one before (warm start); each chunk starts cold. The
@@ -9,12 +10,17 @@ results serially, with ``--workers N`` and on a cluster.
 from __future__ import annotations
 
 from concurrent.futures import ProcessPoolExecutor
-from typing import Callable, Sequence
+from typing import Callable, Iterable, Sequence
 
 from ._gc import young_collections_only
 from .errors import ModelError
+from .model.cases import CaseModels
+from .model.model import Model
+from .model.validate import validate_model
+from .solve import CaseResult, StudyResult, solve_case, solve_model
+from .status import CaseStatus
 
-__all__ = ["run_sweep", "CHUNK"]
+__all__ = ["solve_cases", "run_sweep", "solve_chunk", "CHUNK"]
 
 #: Cases per chunk (a day of hourly cases).
 CHUNK = 24
@@ -24,14 +30,12 @@ def _spec_name(spec) -> str:
     return spec if isinstance(spec, str) else spec[0]
 
 
-def _solve_one(model, spec, start, tables, models: "_CaseModels | None" = None,
+def _solve_one(model, spec, start, tables, models: CaseModels | None = None,
                streams: bool = True):
     """Solve one spec. With ``models`` (the fast path) the case model is made by
-    :class:`_CaseModels` and the Net from the previous case's; without, every case is
+    :class:`~steamnet.model.cases.CaseModels` and the Net from the previous case's; without, every case is
     made and built from scratch (the reference path). A case whose changes are bad is
     made again on the reference path, so that its error reads the same either way."""
-    from .model.validate import validate_model
-    from .solve import _empty, solve_case, solve_model
     try:
         if models is not None:
             try:
@@ -54,70 +58,11 @@ def _solve_one(model, spec, start, tables, models: "_CaseModels | None" = None,
         return solve_model(m, name, start=start, tables=tables, streams=streams,
                            reference=True)
     except ModelError as exc:      # includes ModelErrors: a bad case, the others go on
-        return _empty(_spec_name(spec), "error", str(exc), input_errors=[
+        return CaseResult.failed(_spec_name(spec), CaseStatus.ERROR, str(exc), input_errors=[
             (e.message, e.item, e.field) for e in getattr(exc, "errors", [exc])])
     except Exception as exc:       # a fault of ours: report it on this case, go on
-        return _empty(_spec_name(spec), "error", f"internal error: "
+        return CaseResult.failed(_spec_name(spec), CaseStatus.ERROR, f"internal error: "
                       f"{type(exc).__name__}: {exc} (please report this)")
-
-
-class _CaseModels:
-    """The case models of one chunk, made with as little repeated work as gives the
-    same models: each ``based_on`` case is made once; the changes that can alter the
-    network (modes, equipment in or out of service, anything not in
-    ``steamnet.graph.GRAPH_FREE_FIELDS``) are applied once per distinct set; the value
-    changes (demands, duties, make-up temperature ...) on top of that, sharing its
-    network graph. ``net`` is the last Net solved, the template of the next."""
-
-    def __init__(self, model):
-        self.model = model
-        self.bases: dict = {}
-        self.net = None
-        self._valid: set[int] = set()         # id of base models that passed validation
-        self._last_base = None
-
-    def validate(self, m, spec) -> None:
-        """Validate case model ``m``: fully, unless its base passed and the case's own
-        value changes are ones validation never reads (then only what they touch)."""
-        from .model.validate import validate_model, validate_value_changes
-        base = self._last_base
-        if (isinstance(spec, str) or base is None or len(spec) < 2):
-            validate_model(m)
-            return
-        if id(base) not in self._valid:
-            validate_model(base)
-            self._valid.add(id(base))
-        values = self._last_values
-        if not validate_value_changes(m, values):
-            validate_model(m)
-
-    def _base(self, key, make):
-        try:
-            m = self.bases.get(key)
-        except TypeError:                     # a change value that cannot be hashed
-            return make()
-        if m is None:
-            m = self.bases[key] = make()
-            m.graph                           # built once, shared by the cases on m
-        return m
-
-    def get(self, spec):
-        """(case model, case name) of ``spec``; raises ModelError for a bad one."""
-        from .model.model import graph_free
-        if isinstance(spec, str):
-            return self._base(("case", spec), lambda: self.model.for_case(spec)), spec
-        name, changes = spec[0], spec[1]
-        based_on = spec[2] if len(spec) > 2 and spec[2] else None
-        origin = f"case '{name}'"
-        values = {k: v for k, v in changes.items() if graph_free({k: v})}
-        other = {k: v for k, v in changes.items() if k not in values}
-        base = self._base(("case", based_on), lambda: self.model.for_case(based_on)) \
-            if based_on else self.model
-        if other:
-            base = self._base(("changes", based_on, tuple(other.items())),
-                              lambda: base.with_changes(other, origin=origin))
-        self._last_base, self._last_values = base, values
-        return base.with_values(values, origin=origin), name
 
 
 def solve_chunk(model, specs: Sequence, tables: bool = False, warm_start: bool = True,
@@ -128,7 +73,7 @@ def solve_chunk(model, specs: Sequence, tables: bool = False, warm_start: bool =
     check that the fast one gives the same answers)."""
     out = []
     start = None
-    models = None if reference else _CaseModels(model)
+    models = None if reference else CaseModels(model)
     for spec in specs:
         r = _solve_one(model, spec, start if warm_start else None, tables, models,
                        streams=streams)
@@ -259,3 +204,47 @@ def _run_sweep(model, specs: list, *, workers, scheduler, opts, progress, chunk,
         raise
     ex.shutdown()
     return results, extras
+
+
+def solve_cases(model: Model, cases: Iterable | None = None, *,
+                progress: Callable[[int, int, str], None] | None = None,
+                warm_start: bool = True, workers: int = 1, scheduler: str | None = None,
+                tables: bool = True, reference: bool = False,
+                station_checks: "bool | dict" = False) -> StudyResult:
+    """Solve every case of ``model`` (or the given ones; the base model when it has no
+    cases). A case that cannot balance is reported and the others still run.
+
+    Parameters
+    ----------
+    cases : iterable, optional
+        Case names of the model, or ``(name, changes)`` pairs (changes to the base
+        model, as in :meth:`Model.with_changes`), or ``(name, changes, based_on)``.
+    workers : int
+        Processes to solve in; results are identical for any number [-]
+    scheduler : str, optional
+        Address of a dask.distributed scheduler to run the sweep on (extra ``dask``).
+    tables : bool
+        Build the result tables of each case (off for long sweeps) [-]
+    reference : bool
+        Make, build and solve every case from scratch with the reference assembly (the
+        code before issue 7), to check that the fast path gives the same answers [-]
+    station_checks : bool or dict
+        Also run the single-point station checks of every case where it is solved (in
+        the workers of a parallel sweep), for :func:`steamnet.stations.run.run_checks`
+        to join; True checks against ``model.stations``, a dict against the
+        station data given. The report is the same as without [-]
+    """
+    specs = list(cases) if cases is not None else [c.name for c in model.cases]
+    extra = None
+    if station_checks is not False and station_checks is not None:
+        from functools import partial
+        from .stations.run import point_checks
+        extra = partial(point_checks, model.stations if station_checks is True
+                        else station_checks)
+    if not specs:
+        one = [solve_case(model, reference=reference)]
+        return StudyResult(model, one, None if extra is None else [extra(one)])
+    out, blocks = run_sweep(model, specs, workers=workers, scheduler=scheduler,
+                            tables=tables, progress=progress, warm_start=warm_start,
+                            reference=reference, extra=extra)
+    return StudyResult(model, out, blocks)

@@ -23,10 +23,16 @@ import pint
 from .errors import ModelError
 
 __all__ = ["Kind", "parse_quantity", "parse_number_with_unit", "unit_factor", "UREG",
-           "STANDARD_ATMOSPHERE"]
+           "STANDARD_ATMOSPHERE", "T_H", "KJ", "C0"]
 
 #: Standard atmosphere [Pa] (ISO 2533; the conventional 1.01325 bar).
 STANDARD_ATMOSPHERE = 101325.0
+#: t/h per kg/s (1 t = 1000 kg, 1 h = 3600 s): a flow in kg/s times T_H is in t/h.
+T_H = 3.6
+#: kJ/kg per J/kg.
+KJ = 1e-3
+#: 0 degC in kelvin (the definition of the Celsius scale).
+C0 = 273.15
 
 UREG = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
 UREG.define("tph = tonne / hour")

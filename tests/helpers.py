@@ -5,7 +5,7 @@ from __future__ import annotations
 
 import pandas as pd
 
-from steamnet.model.model import loads_model
+from steamnet.model.load import loads_model
 from steamnet.solve import CaseResult, solve_case
 
 #: Standard atmosphere [Pa] (ISO 2533: 101 325 Pa), the default site atmosphere.

@@ -18,8 +18,8 @@ from click.testing import CliRunner
 from helpers import (LETDOWN_L1, boiler, deaerator, external_water, headers, turbine,
                      user)
 from steamnet.cli import main
-from steamnet.model.model import loads_model
-from steamnet.solve import solve_cases
+from steamnet.model.load import loads_model
+from steamnet.sweep import solve_cases
 
 BASE = (headers(site="Bad input bench") + """
 [[water_supply]]

@@ -21,8 +21,9 @@ from conftest import DATA, DEMO
 from helpers import (LETDOWN_L1, boiler, equip, external_water, headers, kg_s,
                      model as model_from_text, solve, user)
 from steamnet import properties as props
-from steamnet.model.model import load_model
-from steamnet.solve import solve_case, solve_cases
+from steamnet.model.load import load_model
+from steamnet.solve import solve_case
+from steamnet.sweep import solve_cases
 from table_balances import deaerator_balance, header_balances, plant_water
 
 CLOSE = 1e-6          # issue 2, point 6

@@ -9,8 +9,8 @@ import json
 from click.testing import CliRunner
 
 from steamnet.cli import main
-from steamnet.model.model import load_model
-from steamnet.solve import solve_cases
+from steamnet.model.load import load_model
+from steamnet.sweep import solve_cases
 from table_balances import deaerator_balance, header_balances, plant_water
 
 NEWCOMER = """\

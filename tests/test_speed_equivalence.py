@@ -291,7 +291,7 @@ def test_check_table_built_by_columns_equals_the_records(demo):
     specs = _hours(30) + [(f"h{i:04d} TG1 trip", {**ch, "turbine.TG1.mode": "tripped"},
                            base) for i, (_, ch, base) in enumerate(_hours(30))]
     study = steamnet.solve_cases(demo, specs, tables=False)
-    data = run.station_data(demo)
+    data = demo.stations
     records = _records_table(study, data)
     assert records["advice"].str.contains("no steam passes").any()     # idle rows
     pd.testing.assert_frame_equal(run.run_checks(study).checks, records)
@@ -314,7 +314,7 @@ def test_station_checks_made_while_solving_give_the_same_report(demo, workers):
         pd.testing.assert_frame_equal(getattr(joined, attr), getattr(plain, attr))
     # other station data than the rows were made with: checked again, not reused
     other = {k: dataclasses.replace(v, sensor_distance=None)
-             for k, v in run.station_data(demo).items()}
+             for k, v in demo.stations.items()}
     again = run.run_checks(study, data=other)
     pd.testing.assert_frame_equal(again.checks,
                                   run.run_checks(steamnet.solve_cases(

@@ -9,7 +9,7 @@ import pytest
 
 import steamnet
 from steamnet.errors import ModelErrors
-from steamnet.stations.run import run_checks, station_data
+from steamnet.stations.run import run_checks
 from conftest import DEMO
 
 
@@ -63,7 +63,7 @@ def test_spray_in_report_equals_balance(demo_report):
 def test_limits_from_model_file(tmp_path):
     text = DEMO.read_text().replace("[prices]", '[station_limits]\nspray_capacity_warn = "99 %"\n\n[prices]', 1)
     m = steamnet.loads_model(text, source="x.toml")
-    assert station_data(m)["PRV-HL"].limits.spray_capacity_warn == pytest.approx(0.99)
+    assert m.stations["PRV-HL"].limits.spray_capacity_warn == pytest.approx(0.99)
 
 
 def test_bad_limit_is_model_error():
@@ -87,7 +87,7 @@ def test_idle_station_rows_equal_a_fresh_check(demo_report):
     from steamnet.stations.checks import check_point
     from steamnet.stations.run import station_points
     study, rep = demo_report
-    data = station_data(study.model)
+    data = study.model.stations
     seen = 0
     for cr in study.cases:
         for p in station_points(cr):

@@ -17,9 +17,11 @@ import pytest
 
 from conftest import DEMO, ROOT
 from steamnet.errors import ModelError
-from steamnet.model.model import load_model, loads_model
+from steamnet.model.load import load_model, loads_model
 from steamnet.solve import solve_case
-from steamnet.studies import casetable, read_case_table, solve_case_set
+from steamnet.io import casetable
+from steamnet.model import cases as model_cases
+from steamnet.studies import read_case_table, solve_case_set
 from steamnet.studies.runcases import case_results
 
 DEMO_TABLE = ROOT / "cases" / "orlewick_cases.csv"
@@ -221,7 +223,7 @@ def test_rows_based_on_rows_solve_as_their_models(model, tmp_path):
                         "c,b,3,,tripped\n"
                         "d,,1,28,\n")
     cs = read_case_table(p, model)
-    from steamnet.studies.runcases import sweep_specs
+    from steamnet.model.cases import sweep_specs
     specs = dict((s[0], s[1:]) for s in sweep_specs(cs))
     assert specs["c"][1] == "winter" and specs["d"][1] is None
     assert specs["c"][0]["turbine.TG1.mode"] == "tripped"
@@ -291,7 +293,7 @@ def test_lean_case_whose_equipment_leaves_if97_is_an_error_the_others_run(
 def test_small_sets_keep_tables_but_no_stream_tables(model):
     """Up to LEAN_ABOVE cases each case keeps its header and equipment tables; the
     stream tables, which no case-set output reads, are not made."""
-    study = solve_case_set(casetable.model_case_set(model))
+    study = solve_case_set(model_cases.model_case_set(model))
     assert all(len(c.equipment) and len(c.headers) and not len(c.streams)
                for c in study.cases)
 
@@ -320,8 +322,8 @@ def test_profile_rows_are_checked_without_a_full_validation_each(model, tmp_path
     naming its row (150 degC: water boils at it below 4.76 bar, IAPWS-IF97 saturation
     pressure, far above the demo deaerator's 0.4 bar(g))."""
     calls = []
-    real = casetable.validate_model
-    monkeypatch.setattr(casetable, "validate_model",
+    real = model_cases.validate_model
+    monkeypatch.setattr(model_cases, "validate_model",
                         lambda m: (calls.append(m.case_name), real(m)))
     lines = HOURLY.read_text().splitlines()[:25]
     p = write(tmp_path, "\n".join(lines) + "\n", "day.csv")

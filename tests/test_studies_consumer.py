@@ -15,7 +15,7 @@ import pytest
 
 from conftest import DATA, DEMO
 from steamnet.errors import ModelError
-from steamnet.model.model import load_model, loads_model
+from steamnet.model.load import load_model, loads_model
 from steamnet.solve import solve_case
 from steamnet.studies import new_consumer_impact
 

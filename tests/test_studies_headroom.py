@@ -14,7 +14,7 @@ import math
 import pytest
 
 from conftest import DATA, DEMO
-from steamnet.model.model import load_model, loads_model
+from steamnet.model.load import load_model, loads_model
 from steamnet.model.schema import SI
 from steamnet.solve import solve_case
 from steamnet.studies import header_headroom

@@ -14,7 +14,7 @@ from __future__ import annotations
 import pytest
 
 from conftest import DATA, DEMO
-from steamnet.model.model import load_model
+from steamnet.model.load import load_model
 from steamnet.model.schema import SI
 from steamnet.solve import solve_case
 from steamnet.studies import marginal_steam_cost

@@ -14,7 +14,7 @@ import numpy as np
 import pytest
 
 from conftest import DEMO
-from steamnet.model.model import load_model, loads_model
+from steamnet.model.load import load_model, loads_model
 from steamnet.solve import solve_case
 from steamnet.studies import trip_screening
 

@@ -23,8 +23,8 @@ import if97_ref as ref
 from conftest import DEMO
 from helpers import (DA_WATER, boiler, deaerator, equip, header, headers, j_kg, kg_s,
                      model as model_from_text, turbine, user)
-from steamnet.model.model import load_model
-from steamnet.solve import solve_cases
+from steamnet.model.load import load_model
+from steamnet.sweep import solve_cases
 
 CLOSE = 1e-6          # the closure the balance promises (issue 2, point 6)
 

@@ -36,6 +36,36 @@ def _finite(**values: float) -> None:
             raise ModelError(f"{name} must be a finite number, got {val!r}")
 
 
+def spray_ratio(h_steam: float, h_out: float, h_water: float) -> float:
+    """Spray water per unit steam that brings steam at ``h_steam`` to ``h_out``.
+
+    .. math:: R = \\frac{\\dot m_w}{\\dot m_s} = \\frac{h_s - h_{out}}{h_{out} - h_w}
+
+    The one home of the desuperheater's energy balance: the solver and the checks both
+    call it. No guard here (the callers hold h_steam > h_out > h_water).
+
+    Parameters
+    ----------
+    h_steam : float
+        Specific enthalpy of the entering steam [J/kg]
+    h_out : float
+        Specific enthalpy wanted at the outlet [J/kg]
+    h_water : float
+        Specific enthalpy of the spray water [J/kg]
+
+    Returns
+    -------
+    float
+        Spray-to-steam mass ratio [-]
+
+    Examples
+    --------
+    >>> round(spray_ratio(3.2e6, 2.9e6, 0.4e6), 12)
+    0.12
+    """
+    return (h_steam - h_out) / (h_out - h_water)
+
+
 def spray_water_flow(m_steam: float, h_steam: float, h_out: float,
                      h_water: float) -> float:
     """Spray water flow that brings a steam flow to an outlet enthalpy.
@@ -82,7 +112,7 @@ def spray_water_flow(m_steam: float, h_steam: float, h_out: float,
         raise ModelError(
             f"spray water enthalpy {h_water / 1e3:.1f} kJ/kg is not below the outlet "
             f"enthalpy {h_out / 1e3:.1f} kJ/kg: the water cannot cool the steam")
-    return m_steam * (h_steam - h_out) / (h_out - h_water)
+    return m_steam * spray_ratio(h_steam, h_out, h_water)
 
 
 def gain_per_spray(h_water: float, h_out: float, cp_out: float, m_steam: float,

@@ -4,9 +4,10 @@ from __future__ import annotations
 
 import click
 
-from ..model.model import load_model
-from ..solve import solve_cases
+from ..model.load import load_model
+from ..sweep import solve_cases
 from . import EXIT_FAIL, EXIT_OK, main, parallel_options
+from ..status import CaseStatus
 
 
 def _fmt(v, nd=1):
@@ -22,12 +23,12 @@ def print_summary(study) -> None:
     click.echo(f"{m.site.name} ({m.source}, sha256 {m.sha256[:12]})")
     for c in study.cases:
         s = c.summary
-        mark = {"solved": "ok", "infeasible": "INFEASIBLE",
-                "not_converged": "NOT CONVERGED", "error": "ERROR"}[c.status]
+        mark = {CaseStatus.SOLVED: "ok", CaseStatus.INFEASIBLE: "INFEASIBLE",
+                CaseStatus.NOT_CONVERGED: "NOT CONVERGED", CaseStatus.ERROR: "ERROR"}[c.status]
         click.echo(f"\ncase '{c.case}': {mark}")
-        if c.status != "solved":
+        if c.status != CaseStatus.SOLVED:
             click.echo(f"  {c.message}")
-            if c.status != "infeasible":
+            if c.status != CaseStatus.INFEASIBLE:
                 continue
         click.echo(f"  steam raised {_fmt(s.get('steam_raised_t_h'))} t/h, fuel "
                    f"{_fmt(s.get('fuel_mw'))} MW, power {_fmt(s.get('power_generated_mw'), 2)}"
@@ -41,7 +42,7 @@ def print_summary(study) -> None:
                 click.echo(f"    {h['header']:<12} {h['p_barg']:7.2f} bar(g) "
                            f"{h['t_degc']:7.1f} degC  superheat {h['superheat_k']:6.1f} K  "
                            f"throughput {h['inflow_t_h']:8.1f} t/h")
-        if c.status == "solved":
+        if c.status == CaseStatus.SOLVED:
             click.echo(f"  balance closes: mass {s['mass_residual_rel']:.1e}, energy "
                        f"{s['energy_residual_rel']:.1e}, water "
                        f"{s['water_residual_rel']:.1e} relative; {c.iterations} iterations")

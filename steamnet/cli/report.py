@@ -5,8 +5,8 @@ from __future__ import annotations
 import click
 
 from ..errors import ModelError
-from ..model.model import load_model
-from ..solve import solve_cases
+from ..model.load import load_model
+from ..sweep import solve_cases
 from . import EXIT_FAIL, EXIT_OK, main
 
 
@@ -41,10 +41,10 @@ def report(ctx, model: str, out: str, csv_folder: str | None, cases: tuple[str, 
     (the workbook is still written and marks it), 2 for bad input, 3 when a file cannot
     be written (the previous file is left as it was).
     """
-    from ..stations.run import run_checks, station_data
+    from ..stations.run import run_checks
     from ..workbook import write_csv_folder, write_workbook
     m = load_model(model)
-    data = station_data(m)
+    data = m.stations
     for name in cases:
         m.case(name)
     study = solve_cases(m, list(cases) if cases else None, station_checks=data)

@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import click
 
-from ..model.model import load_model
-from ..solve import solve_cases
+from ..model.load import load_model
+from ..sweep import solve_cases
 from . import EXIT_FAIL, EXIT_OK, main
 
 
@@ -39,9 +39,9 @@ def stations(ctx, model, cases, json_path, show_all):
     Prints the worst findings first. Exit 0 when no check failed, 1 when any check
     failed or a case did not solve.
     """
-    from ..stations.run import run_checks, station_data
+    from ..stations.run import run_checks
     m = load_model(model)
-    data = station_data(m)
+    data = m.stations
     for name in cases:
         m.case(name)
     study = solve_cases(m, list(cases) if cases else None, station_checks=data)

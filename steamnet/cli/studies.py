@@ -13,12 +13,13 @@ import click
 import pandas as pd
 
 from ..errors import ModelError
-from ..model.model import load_model
+from ..model.load import load_model
 from ..studies import (case_results, header_headroom, marginal_steam_cost,
                        model_case_set, new_consumer_impact, read_case_table,
                        solve_case_set, trip_screening)
 from ..studies.progress import ProgressBar
 from . import EXIT_FAIL, EXIT_OK, main, parallel_options
+from ..status import CaseStatus
 
 _CAUTION = ("Results support studies; they do not replace licensed engineering, the "
             "equipment maker's data or the site's codes.")
@@ -135,12 +136,12 @@ def cases_command(ctx, model, table, base, cases, json_path, quiet, rows, worker
     with ProgressBar("solving cases", quiet=quiet) as bar:
         study = solve_case_set(cs, progress=bar, workers=workers, scheduler=scheduler)
     df = case_results(study)
-    bad = df[df["status"] != "solved"]
+    bad = df[df["status"] != CaseStatus.SOLVED]
     if not quiet:
         _header_line(m, f"case table {table}", len(cs))
         click.echo(f"  {len(df) - len(bad)} solved, {len(bad)} cannot balance or failed")
         if cs.kind == "profile":
-            ok = df[df["status"] == "solved"]
+            ok = df[df["status"] == CaseStatus.SOLVED]
             click.echo(f"  over the {len(ok)} solved hours: steam raised "
                        f"{_fmt(ok['steam_raised_t_h'].sum(), 0)} t, fuel "
                        f"{_fmt(ok['fuel_mw'].sum(), 0)} MWh, power "
@@ -242,18 +243,18 @@ def add_user_command(ctx, model, header, demand, duty, ret, return_temperature, 
                                  condensate_return=ret,
                                  condensate_temperature=return_temperature, name=name,
                                  cases=cs, progress=bar)
-    bad = df[(df["status_with"] != "solved") | (df["status_without"] != "solved")]
+    bad = df[(df["status_with"] != CaseStatus.SOLVED) | (df["status_without"] != CaseStatus.SOLVED)]
     what = f"{demand or duty} on {header}, condensate return {ret}"
     if not quiet:
         _header_line(m, f"new user '{name}': {what}", len(cs))
     for case in df["case"].drop_duplicates():
         d = df[df["case"] == case]
         s0, s1 = d["status_without"].iloc[0], d["status_with"].iloc[0]
-        if s1 != "solved" or s0 != "solved":
+        if s1 != CaseStatus.SOLVED or s0 != CaseStatus.SOLVED:
             click.echo(f"\ncase '{case}': without the user {s0}, with it {s1.upper()}")
         if quiet:
             continue
-        if s1 == "solved" and s0 == "solved":
+        if s1 == CaseStatus.SOLVED and s0 == CaseStatus.SOLVED:
             click.echo(f"\ncase '{case}':")
         d = d.assign(label=d["quantity"] + " [" + d["unit"] + "]")
         cols = {"item": ("item", -1), "label": ("quantity", -1),
@@ -296,7 +297,7 @@ def headroom_command(ctx, model, headers, ret, return_temperature, max_added, ac
         df = header_headroom(m, cs, headers=list(headers) or None, condensate_return=ret,
                              condensate_temperature=return_temperature,
                              max_added=max_added, accuracy=accuracy, progress=bar)
-    bad = df[df["status"] != "solved"]
+    bad = df[df["status"] != CaseStatus.SOLVED]
     if not quiet:
         _header_line(m, f"headroom per header (condensate return {ret}, accuracy "
                      f"{accuracy}, searched up to {max_added})", len(cs))

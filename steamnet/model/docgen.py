@@ -143,7 +143,7 @@ def field_tables() -> str:
 
 def station_limit_table() -> str:
     """Markdown table of the station check limits: name, default, source."""
-    from ..stations.data import StationLimits
+    from .stations import StationLimits
     lim = StationLimits()
     units = {"fraction": ("%", 100.0), "temperature_difference": ("K", 1.0),
              "pressure_difference": ("bar", 1e-5), "velocity": ("m/s", 1.0),

@@ -23,12 +23,33 @@ from ..units import STANDARD_ATMOSPHERE, Kind, parse_quantity
 __all__ = [
     "SI", "Site", "Prices", "Header", "WaterSupply", "Boiler", "SteamTransfer", "Turbine",
     "Extraction", "ExtractionTurbine", "Valve", "Desuperheater", "Letdown", "User", "Vent",
-    "Deaerator", "Case", "EQUIPMENT_TABLES", "NAME_RE",
+    "Deaerator", "Case", "EQUIPMENT_TABLES", "NAME_RE", "ITEM_LABELS", "VENT_RANK",
+    "item_label",
 ]
 
 #: Allowed item names: letters, digits, space and - _ / + ( ) # ; no dots (dots separate
 #: the parts of a case change such as ``user.Tracing.demand``).
 NAME_RE = re.compile(r"^[A-Za-z0-9][A-Za-z0-9 _\-/+()#&]{0,63}$")
+
+
+#: How an item is named in messages: table -> label.
+ITEM_LABELS = {
+    "header": "header", "water_supply": "water supply", "boiler": "boiler",
+    "steam_transfer": "steam transfer", "turbine": "turbine",
+    "extraction_turbine": "extraction turbine", "letdown": "letdown", "user": "user",
+    "vent": "vent", "deaerator": "deaerator", "case": "case", "site": "site",
+    "prices": "prices",
+}
+
+
+#: Added to a vent's priority so that every vent ranks after every swing export (vents
+#: take excess steam only after every export; docs/method.md).
+VENT_RANK = 1000
+
+
+def item_label(table: str, name: Any) -> str:
+    """How one item is named in messages: ``"letdown 'PRV-2'"``."""
+    return f"{ITEM_LABELS.get(table, table)} '{name}'"
 
 
 class FieldError(ValueError):

@@ -11,10 +11,12 @@ from collections import defaultdict
 
 
 from .. import properties as props
+from ..calc.pump import pump_work
+from ..units import T_H
 from ..errors import ModelError, ModelErrors, PropertyRangeError
 from ..graph import steam_reach
-from ..solver.network import VENT_RANK
-from .model import ITEM_LABELS, Model
+from .model import Model
+from .schema import ITEM_LABELS, VENT_RANK
 
 __all__ = ["validate_model", "swing_elements"]
 
@@ -52,7 +54,7 @@ def absorbers(model: Model) -> dict[str, list[tuple[str, str, int]]]:
     """Per header, the elements that take excess steam: swing exports, then vents.
 
     Vents always come after every export (the solver ranks them so, see
-    ``network.VENT_RANK``); priorities order exports among exports and vents among vents.
+    ``schema.VENT_RANK``); priorities order exports among exports and vents among vents.
     """
     out: dict[str, list] = defaultdict(list)
     for n, t in model.table("steam_transfer").items():
@@ -124,7 +126,7 @@ def validate_model(model: Model) -> None:
                     "deaerator pressure it is pumped from")
             elif ws.pump_efficiency is not None and props.P_MIN < da.pressure < props.P_CRIT:
                 sat = props.saturation(da.pressure)   # pump work v dP / eta heats it
-                h = sat.hf + sat.vf * (ws.pressure - da.pressure) / ws.pump_efficiency
+                h = sat.hf + pump_work(sat.vf, ws.pressure - da.pressure, ws.pump_efficiency)
                 try:
                     if props.state_ph(ws.pressure, h).phase != "liquid":
                         err("water_supply", n, "pump_efficiency", "the pump work "
@@ -394,8 +396,8 @@ def _check_share_limits(model: Model, errs: list, item: str, prio: int, group) -
     if lo_g > hi_g * (1 + 1e-9):
         errs.append(ModelError(
             f"the shares at priority {prio} cannot be met within the limits: "
-            f"{ITEM_LABELS[t_lo]} '{n_lo}' at its minimum {v_lo * 3.6:.4g} t/h would need "
-            f"{ITEM_LABELS[t_hi]} '{n_hi}' above its maximum {v_hi * 3.6:.4g} t/h; lower "
+            f"{ITEM_LABELS[t_lo]} '{n_lo}' at its minimum {v_lo * T_H:.4g} t/h would need "
+            f"{ITEM_LABELS[t_hi]} '{n_hi}' above its maximum {v_hi * T_H:.4g} t/h; lower "
             "a minimum, raise a maximum or change the shares", file=model.source,
             item=item, field="share"))
 

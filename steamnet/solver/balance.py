@@ -34,6 +34,7 @@ from .assembly import Plan, da_entries, header_entries
 from .network import (INF, Coeffs, ItemPropertyError, Net, build,
                       coefficients)
 from .network import group_bounds as _group_bounds
+from ..status import CaseStatus
 
 __all__ = ["solve_net", "Solution", "build"]
 
@@ -612,7 +613,7 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
             rescued = _rescue_modes(net, co, h, modes, eff, solve_system)
             if rescued is None:
                 trip, _ = assemble(co, h, modes, eff)
-                return Solution(net, np.full(n, np.nan), h, co, modes, it, "error",
+                return Solution(net, np.full(n, np.nan), h, co, modes, it, CaseStatus.ERROR,
                                 [], _singular_message(net, trip), time.perf_counter() - t0)
             modes, x_new = rescued
         # the flows as Python floats for the per-item loops below: the same values and
@@ -670,18 +671,18 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
                 net, [e for e in exhausted if (e[0], e[1]) in keep], modes,
                 _extraction_bounds(net, co, x))
         if found:
-            return Solution(net, x, h, co, modes, it, "infeasible", found,
+            return Solution(net, x, h, co, modes, it, CaseStatus.INFEASIBLE, found,
                             "; ".join(f["message"] for f in found) + f" ({msg}; the "
                             "amounts are those of the last iteration)",
                             time.perf_counter() - t0)
-        return Solution(net, x, h, co, modes, it, "not_converged", [], msg,
+        return Solution(net, x, h, co, modes, it, CaseStatus.NOT_CONVERGED, [], msg,
                         time.perf_counter() - t0)
     x = np.where(np.abs(x) < 1e-12, 0.0, x)     # no -0.0 or 1e-16 flows in reports
     eff = _extraction_bounds(net, co, x)
     findings = _exhausted_findings(net, exhausted, modes, eff)
     findings += _derived_findings(net, co, x, tol_mode)
     findings += _cold_findings(net, co, x, cold)
-    status = "infeasible" if findings else "solved"
+    status = CaseStatus.INFEASIBLE if findings else CaseStatus.SOLVED
     msg = "; ".join(f["message"] for f in findings) if findings else "solved"
     return Solution(net, x, h, co, modes, it, status, findings, msg,
                     time.perf_counter() - t0)

@@ -15,11 +15,12 @@ import math
 from dataclasses import dataclass, field, replace
 
 from .. import properties as props
+from ..calc.desuperheater import spray_ratio
+from ..calc.pump import pump_work
 from ..errors import PropertyRangeError
+from ..model.schema import VENT_RANK
 
 INF = math.inf
-#: Added to a vent's priority so that every vent ranks after every swing export.
-VENT_RANK = 1000
 #: Least enthalpy above saturated liquid a duty-based user is computed with, as a
 #: fraction of the header's latent heat [-]
 USER_DH_FLOOR = 0.01
@@ -156,7 +157,7 @@ def build(model, like: Net | None = None) -> Net:
             h0 = da["sat"].hf
             pump_w = 0.0
             if ws.pump_efficiency is not None:
-                pump_w = da["sat"].vf * (ws.pressure - da["p"]) / ws.pump_efficiency
+                pump_w = pump_work(da["sat"].vf, ws.pressure - da["p"], ws.pump_efficiency)
             st = _prop(f"water supply '{n}'", props.state_ph, ws.pressure, h0 + pump_w)
             supplies[n] = {"name": n, "h": st.h, "t": st.t, "p": ws.pressure,
                            "from_da": True, "pump_work": pump_w}
@@ -459,7 +460,7 @@ def coefficients(net: Net, h: list[float], x: list[float] | None) -> Coeffs:
             continue
         h_set, h_w = ds["h_set"], ds["supply"]["h"]
         if h_in > h_set:
-            r = (h_in - h_set) / (h_set - h_w)      # engineering.md section 5
+            r = spray_ratio(h_in, h_set, h_w)
             ld.append({"r": r, "h_out": h_set, "reachable": True, "h_w": h_w})
         else:
             ld.append({"r": 0.0, "h_out": h_in, "reachable": h_in >= h_set - 1e-6,

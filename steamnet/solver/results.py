@@ -13,12 +13,21 @@ import numpy as np
 import pandas as pd
 
 from .. import properties as props
+from ..calc.boiler import BoilerBalance, boiler_balance
+from ..calc.turbine import internal_power, section_flows
+from ..model.stations import StationPoint
+from ..status import CaseStatus
+from ..units import C0, KJ, T_H as TH
 from .balance import IDLE_FLOW, Solution, header_inflows
 from .network import coefficients
 
-TH = 3.6          # kg/s -> t/h
-KJ = 1e-3         # J/kg -> kJ/kg
-C0 = 273.15
+__all__ = ["residuals", "water_balance", "header_table", "equipment_table",
+           "equipment_rows", "stream_table", "totals", "case_cost", "letdown_points"]
+
+
+def _boiler(b: dict, m: float) -> BoilerBalance:
+    """The balance of boiler ``b`` (a Net entry) raising ``m`` [kg/s]."""
+    return boiler_balance(m, b["bd"], b["h"], b["h_bd"], b["supply"]["h"], b["eff"])
 
 
 def _h_out_flows(sol: Solution):
@@ -223,10 +232,7 @@ def equipment_rows(sol: Solution, case: str) -> list[dict]:
     for b in net.boilers:
         it = b["item"]
         m = x[b["var"]]
-        fw = m / (1 - b["bd"])
-        bd = fw - m
-        duty = m * (b["h"] - b["supply"]["h"]) + bd * (b["h_bd"] - b["supply"]["h"])
-        fuel = duty / b["eff"] if b["eff"] else 0.0
+        fw, bd, duty, fuel = _boiler(b, m)
         rows.append(_row(case, b["name"], "boiler", b["supply"]["name"], H[b["header"]],
                          it.mode, m, t_out_degc=b["t"] - C0, h_out_kj_kg=b["h"] * KJ,
                          feedwater_t_h=fw * TH, blowdown_t_h=bd * TH,
@@ -265,10 +271,8 @@ def equipment_rows(sol: Solution, case: str) -> list[dict]:
     for t, c in zip(net.xturbines, co.xturb):
         it = t["item"]
         s = x[t["in_var"]]
-        flows = [s]
-        for e in t["exts"]:
-            flows.append(flows[-1] - x[e["var"]])
-        shaft = sum(f * d for f, d in zip(flows, c["dh"]))
+        flows = section_flows(s, [x[e["var"]] for e in t["exts"]])
+        shaft = internal_power(flows, c["dh"])
         p_ex = t["pressures"][-1]
         st_ex = props.state_ph(p_ex, c["h"][-1])
         q = st_ex.x if st_ex.is_wet else np.nan
@@ -361,3 +365,84 @@ def stream_table(sol: Solution, case: str) -> pd.DataFrame:
         add(f"{s['name']} outlet", s["name"], H[s["outlet"]], "steam",
             x[s["var"]] * (1 + c["r"]), net.p[s["outlet"]], c["h_out"])
     return pd.DataFrame(rows)
+
+
+# ------------------------------------------------------------- totals and cost
+def totals(sol: Solution) -> dict:
+    """Plant totals straight from the solution [SI]: steam raised, fuel, power by drive,
+    imports and exports (the same numbers the tables sum up)."""
+    net, x, co = sol.net, sol.x, sol.co
+    fuel = sum(_boiler(b, x[b["var"]]).fuel for b in net.boilers)
+    gen = mech = 0.0
+    for t, c in zip(net.turbines, co.turb):
+        p = x[t["var"]] * c["dh"] * t["eta_mg"]
+        if t["item"].drive == "generator":
+            gen += p
+        else:
+            mech += p
+    for t, c in zip(net.xturbines, co.xturb):
+        shaft = internal_power(section_flows(x[t["in_var"]], [x[e["var"]] for e in t["exts"]]),
+                               c["dh"])
+        if t["item"].drive == "generator":
+            gen += shaft * t["eta_mg"]
+        else:
+            mech += shaft * t["eta_mg"]
+    return {
+        "steam_raised": float(sum(x[b["var"]] for b in net.boilers)),
+        "fuel": fuel, "power_generated": gen, "mechanical_power": mech,
+        "imports": float(sum(x[t["var"]] for t in net.transfers if t["dir"] == "import")),
+        "exports": float(sum(x[t["var"]] for t in net.transfers if t["dir"] == "export")),
+    }
+
+
+def case_cost(model, water: dict, sol: Solution, tot: dict | None = None) -> dict:
+    """Operating cost per hour and its parts, in the site currency.
+
+    cost = fuel + make-up and external water + imported steam + pump power
+    - exported steam - electric power generated (valued at the electricity price).
+    """
+    pr = model.prices
+    net = sol.net
+    tot = tot or totals(sol)
+    fuel = sum(_boiler(b, sol.x[b["var"]]).fuel * b["fuel_price"] for b in net.boilers)
+    water_cost = (water["makeup_kg_s"] + water["external_water_kg_s"]) * pr.makeup_water
+    imp = sum(sol.x[t["var"]] * t["price"] for t in net.transfers if t["dir"] == "import")
+    exp = sum(sol.x[t["var"]] * t["price"] for t in net.transfers if t["dir"] == "export")
+    gen = tot["power_generated"]
+    pump = sum(ws["pump_work"] * _supply_flow(sol, name)
+               for name, ws in net.supplies.items())
+    per_s = fuel + water_cost + imp - exp - gen * pr.electricity + pump * pr.electricity
+    return {"cost_per_h": per_s * 3600, "fuel_cost_per_h": fuel * 3600,
+            "water_cost_per_h": water_cost * 3600, "power_value_per_h": gen * pr.electricity
+            * 3600, "pump_power_kw": pump / 1e3}
+
+
+def _supply_flow(sol: Solution, name: str) -> float:
+    net, x, co = sol.net, sol.x, sol.co
+    m = sum(x[b["var"]] / (1 - b["bd"]) for b in net.boilers if b["supply"]["name"] == name)
+    m += sum(x[s["var"]] * c["r"] for s, c in zip(net.letdowns, co.ld)
+             if s["ds"] is not None and s["ds"]["supply"]["name"] == name)
+    return m
+
+
+# ------------------------------------------------------------ let-down points
+def letdown_points(case: str, status: str, sol: Solution) -> list[StationPoint]:
+    """The operating point of every running let-down (steam in, spray, outlet state,
+    spray water), what the station checks read; empty unless the case is solved or
+    infeasible."""
+    if sol is None or status not in (CaseStatus.SOLVED, CaseStatus.INFEASIBLE):
+        return []
+    net, x, co = sol.net, sol.x, sol.co
+    pts = []
+    for s, c in zip(net.letdowns, co.ld):
+        ds = s["ds"]
+        m = float(x[s["var"]])
+        pts.append(StationPoint(
+            case=case, station=s["name"], p_in=net.p[s["inlet"]],
+            h_in=sol.h[s["inlet"]], p_out=net.p[s["outlet"]], m_steam=max(m, 0.0),
+            m_spray=max(m * c["r"], 0.0), h_out=c["h_out"],
+            h_water=ds["supply"]["h"] if ds else None,
+            t_water=ds["supply"]["t"] if ds else None,
+            p_water=ds["supply"]["p"] if ds else None,
+            setpoint_reachable=bool(c["reachable"])))
+    return pts

@@ -1,7 +1,7 @@
 """Let-down station data and checks.
 
-:mod:`steamnet.stations.data` holds the station's data and operating points,
-:mod:`steamnet.stations.checks` the checks of the engineering notes, section 8, and
+:mod:`steamnet.model.stations` holds the station's data and operating points,
+:mod:`steamnet.stations.checks` the checks (docs/checks/index.md), and
 :mod:`steamnet.stations.rows` the result rows. Each check id has a page under
 ``docs/checks/``.
 """
@@ -11,8 +11,8 @@ from .checks import (ALL_CASES, POINT_CHECKS, check_across_cases,
                      check_gain_spread, check_letdown_valve, check_point,
                      check_sensor_distance, check_spray_capacity, check_spray_turndown,
                      check_spray_valve, check_spray_water_pressure, check_steam_turndown)
-from .data import (DesuperheaterData, StationData, StationLimits, StationPoint,
-                   ValveData)
+from ..model.stations import (DesuperheaterData, StationData, StationLimits,
+                              StationPoint, ValveData)
 from .rows import CheckRow, Status
 
 __all__ = [

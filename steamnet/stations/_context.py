@@ -11,7 +11,7 @@ import math
 from dataclasses import dataclass
 
 from .. import properties as props
-from .data import StationData, StationLimits, StationPoint
+from ..model.stations import StationData, StationLimits, StationPoint
 from .rows import CheckRow, Status
 
 POINT_DOC = """

@@ -34,7 +34,7 @@ from ..calc.desuperheater import (evaporation_distance, gain_per_ratio, gain_per
                                   spray_water_flow)
 from ..calc.valve import ValveSizing, size_steam_valve, size_water_valve, valve_travel
 from ..errors import ModelError
-from .data import StationData, StationLimits, StationPoint, ValveData
+from ..model.stations import StationData, StationLimits, StationPoint, ValveData
 from ._context import (Ctx, needs_row, outlet, outlet_velocity, point_check, row,
                        water_enthalpy, water_state)
 from .rows import CheckRow, Status, grade_high, grade_low, worst

@@ -1,8 +1,7 @@
 """Run the station checks over solved cases: model data in, tables out.
 
-:func:`station_data` turns each let-down of the model (with its valve, desuperheater,
-spray valve, pipe and limits) into a :class:`StationData`; :func:`station_points` takes
-each station's operating point from a solved case; :func:`run_checks` runs every check of
+The station data come from the model (:attr:`steamnet.model.model.Model.stations`);
+:func:`station_points` takes each station's operating point from a solved case; :func:`run_checks` runs every check of
 :mod:`steamnet.stations.checks` in every case and across cases and returns a
 :class:`StationReport` of pandas tables.
 """
@@ -18,13 +17,13 @@ from .. import properties as props
 from .._gc import young_collections_only
 from ..calc.desuperheater import gain_per_ratio, gain_per_spray
 from ..errors import ModelError, ModelErrors
-from ..units import Kind, parse_quantity
 from .checks import check_across_cases, check_point
-from .data import DesuperheaterData, StationData, StationLimits, StationPoint, ValveData
+from ..model.stations import StationData, StationPoint
+from ..solver.results import letdown_points
 from .rows import SEVERITY, CheckRow, Status
+from ..status import CaseStatus
 
-__all__ = ["StationReport", "PointChecks", "station_data", "station_points",
-           "points_from_solution", "point_checks", "run_checks", "parse_limits"]
+__all__ = ["StationReport", "PointChecks", "station_points", "point_checks", "run_checks"]
 
 TH = 3.6
 CHECK_COLUMNS = ["case", "station", "check", "value", "limit", "unit", "status", "basis",
@@ -65,109 +64,13 @@ class StationReport:
                              kind="stable").drop(columns="_sev")
 
 
-def parse_limits(table: dict, *, base: StationLimits | None = None, file=None,
-                 item="station_limits") -> StationLimits:
-    """StationLimits from a table of overrides written with units."""
-    base = base or StationLimits()
-    kinds = StationLimits.LIMIT_KINDS
-    values = {}
-    errors = []
-    for key, raw in (table or {}).items():
-        if key not in kinds:
-            errors.append(ModelError(f"unknown station limit '{key}' (known: "
-                                     f"{', '.join(kinds)})", file=file, item=item,
-                                     field=key))
-            continue
-        try:
-            values[key] = parse_quantity(raw, Kind(kinds[key]))
-        except ModelError as exc:
-            errors.append(exc.with_context(file=file, item=item, field=key))
-    if errors:
-        raise ModelErrors(errors)
-    try:
-        return base.with_overrides(**values)
-    except ModelError as exc:
-        raise ModelErrors([exc.with_context(file=file, item=item)]) from None
-
-
-def _valve(v) -> ValveData | None:
-    if v is None:
-        return None
-    return ValveData(rated_kv=v.rated_coefficient, characteristic=v.characteristic,
-                     rangeability=v.rangeability, fl=v.fl, xt=v.xt, fd=v.fd,
-                     diameter=v.diameter)
-
-
-def station_data(model) -> dict[str, StationData]:
-    """StationData of every let-down of ``model``, limits site-wide then per station.
-
-    Raises
-    ------
-    ModelErrors
-        A limit that is unknown, has a wrong unit or breaks the order of the limits,
-        naming the file and the station.
-    """
-    site = parse_limits(model.station_limits, file=model.source)
-    out = {}
-    errors = []
-    for name, s in model.table("letdown").items():
-        try:
-            limits = parse_limits(s.limits, base=site, file=model.source,
-                                  item=f"letdown '{name}' limits") if s.limits else site
-        except ModelErrors as exc:
-            errors.extend(exc.errors)
-            continue
-        d = s.desuperheater
-        ds = None
-        if d is not None:
-            rated_min = d.rated_min_steam
-            if rated_min is None and d.turndown and d.rated_max_steam:
-                rated_min = d.rated_max_steam / d.turndown
-            ds = DesuperheaterData(atomisation=d.atomisation, rated_min_steam=rated_min,
-                                   rated_max_steam=d.rated_max_steam,
-                                   max_spray=d.max_spray, min_spray=d.min_spray,
-                                   evaporation_time=d.evaporation_time)
-        try:
-            out[name] = StationData(name=name, valve=_valve(s.valve), desuperheater=ds,
-                                    spray_valve=_valve(s.spray_valve),
-                                    outlet_pipe_diameter=s.outlet_pipe_diameter,
-                                    sensor_distance=s.sensor_distance, limits=limits)
-        except ModelError as exc:
-            errors.append(exc.with_context(file=model.source, item=f"letdown '{name}'"))
-    if errors:
-        raise ModelErrors(errors)
-    return out
-
-
 def station_points(case_result) -> list[StationPoint]:
     """The operating point of every running let-down in one solved case (taken from the
     result's ``points`` when the solution itself was not kept, as in parallel sweeps)."""
     pts = getattr(case_result, "points", None)
     if pts:
         return list(pts)
-    return points_from_solution(case_result.case, case_result.status,
-                                case_result.solution)
-
-
-def points_from_solution(case: str, status: str, sol) -> list[StationPoint]:
-    """Station operating points from a raw solution (empty unless solved or
-    infeasible)."""
-    if sol is None or status not in ("solved", "infeasible"):
-        return []
-    net, x, co = sol.net, sol.x, sol.co
-    pts = []
-    for s, c in zip(net.letdowns, co.ld):
-        ds = s["ds"]
-        m = float(x[s["var"]])
-        pts.append(StationPoint(
-            case=case, station=s["name"], p_in=net.p[s["inlet"]],
-            h_in=sol.h[s["inlet"]], p_out=net.p[s["outlet"]], m_steam=max(m, 0.0),
-            m_spray=max(m * c["r"], 0.0), h_out=c["h_out"],
-            h_water=ds["supply"]["h"] if ds else None,
-            t_water=ds["supply"]["t"] if ds else None,
-            p_water=ds["supply"]["p"] if ds else None,
-            setpoint_reachable=bool(c["reachable"])))
-    return pts
+    return letdown_points(case_result.case, case_result.status, case_result.solution)
 
 
 GAIN_COLUMNS = ["case", "station", "steam_t_h", "spray_t_h", "ratio", "gain_k_per_t_h",
@@ -266,7 +169,7 @@ def _precomputed(study, data) -> list[PointChecks] | None:
 
 def _run_checks(study, data) -> StationReport:
     model = study.model
-    data = data if data is not None else station_data(model)
+    data = data if data is not None else model.stations
     blocks = _precomputed(study, data) or [point_checks(data, study.cases)]
     columns = [list(chain.from_iterable(b.columns[k] for b in blocks))
                for k in range(len(CHECK_COLUMNS))]

@@ -13,7 +13,8 @@ Results support engineering studies; they do not replace design by a licensed
 engineer, the equipment maker's data, or the codes in force at the site.
 """
 
-from .casetable import BASE, CaseSet, CaseSpec, model_case_set, read_case_table
+from ..io.casetable import read_case_table
+from ..model.cases import BASE, CaseSet, CaseSpec, model_case_set
 from .consumer import new_consumer_impact
 from .headroom import header_headroom
 from .marginal import marginal_steam_cost

@@ -10,7 +10,8 @@ from ..model.model import Model
 from ..model.schema import EQUIPMENT_TABLES, NAME_RE, SI
 from ..solve import CaseResult, solve_case
 from ..units import Kind, parse_quantity
-from .casetable import CaseSet, model_case_set
+from ..model.cases import CaseSet, model_case_set
+from ..status import CaseStatus
 
 __all__ = ["Progress", "resolve_cases", "quantity", "condensate", "header_list",
            "with_user", "solve", "warm", "solved_cases", "free_name", "tick"]
@@ -114,7 +115,7 @@ def solve(model: Model, start: dict | None = None) -> CaseResult:
 def warm(result: CaseResult) -> dict | None:
     """Warm start (header enthalpies and operating modes) from a solved case."""
     sol = result.solution
-    if sol is None or result.status not in ("solved", "infeasible"):
+    if sol is None or result.status not in (CaseStatus.SOLVED, CaseStatus.INFEASIBLE):
         return None
     return {"h": list(sol.h), "modes": list(sol.modes)}
 

@@ -17,7 +17,7 @@ import pandas as pd
 from ..errors import ModelError
 from ..model.model import Model
 from ..units import Kind
-from .casetable import CaseSet
+from ..model.cases import CaseSet
 from .common import (Progress, condensate, free_name, quantity, resolve_cases, solve,
                      solved_cases, tick, warm, with_user)
 

@@ -51,10 +51,11 @@ import pandas as pd
 from ..errors import ModelError
 from ..model.model import Model
 from ..units import Kind
-from .casetable import CaseSet
+from ..model.cases import CaseSet
 from .common import (Progress, condensate, free_name, header_list, quantity, resolve_cases,
                      solve, solved_cases, tick, warm, with_user)
 from .limits import TH, Check, limit_checks, newly_binding
+from ..status import CaseStatus
 
 __all__ = ["header_headroom", "HEADROOM_COLUMNS", "DEFAULT_MAX_ADDED", "DEFAULT_ACCURACY"]
 
@@ -82,9 +83,9 @@ class _Point:
         self.d, self.result = d, result
         self.checks = {c.key: c for c in limit_checks(result)}
         self.binding: list[Check] = []
-        if result.status in ("solved", "infeasible"):
+        if result.status in (CaseStatus.SOLVED, CaseStatus.INFEASIBLE):
             self.binding = newly_binding(base, list(self.checks.values()))
-        self.ok = result.status == "solved" and not self.binding
+        self.ok = result.status == CaseStatus.SOLVED and not self.binding
 
 
 def _crossing(a: _Point, b: _Point, keys=None) -> tuple[float, Check | None]:
@@ -169,11 +170,11 @@ def _limit_of(lo: _Point, hi: _Point) -> tuple[str, str, str, float, str]:
         _, first = _crossing(lo, hi, keys)
         c = first or hi.binding[0]
         msg = c.describe()
-        if hi.result.status == "infeasible":
+        if hi.result.status == CaseStatus.INFEASIBLE:
             msg += f"; beyond it: {hi.result.message}"
         return c.table, c.item, c.kind, c.limit_t_h, msg
     r = hi.result
-    if r.status == "infeasible":
+    if r.status == CaseStatus.INFEASIBLE:
         f = r.findings[0] if r.findings else {}
         return ("header", f.get("header", ""), "infeasible", math.nan, r.message)
     return ("", "", r.status, math.nan, r.message)
@@ -189,7 +190,7 @@ def _balance_limit(evaluate, lo: float, hi, cap: float, acc: float):
     b = None
     top = evaluate(cap)
     n += 1
-    if top.result.status == "solved":
+    if top.result.status == CaseStatus.SOLVED:
         return cap, f"balances up to the cap {cap * TH:.1f} t/h", n
     b, b_msg = cap, top.result.message
     while b - a > acc:
@@ -200,7 +201,7 @@ def _balance_limit(evaluate, lo: float, hi, cap: float, acc: float):
             break
         p = evaluate(mid)
         n += 1
-        if p.result.status == "solved":
+        if p.result.status == CaseStatus.SOLVED:
             a = mid
         else:
             b, b_msg = mid, p.result.message

@@ -17,7 +17,7 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
-from ..model.model import ITEM_LABELS
+from ..model.schema import ITEM_LABELS
 
 __all__ = ["Check", "limit_checks", "newly_binding", "station_loads", "TH"]
 

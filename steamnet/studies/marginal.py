@@ -35,9 +35,9 @@ import pandas as pd
 
 from ..errors import ModelError
 from ..model.model import Model
-from ..solve import case_cost
+from ..solver.results import case_cost
 from ..units import Kind
-from .casetable import CaseSet
+from ..model.cases import CaseSet
 from .common import (Progress, free_name, header_list, quantity, resolve_cases, solve,
                      solved_cases, tick, warm, with_user)
 from .limits import TH, limit_checks, newly_binding

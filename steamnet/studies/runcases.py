@@ -13,12 +13,13 @@ from dataclasses import dataclass, field, replace
 
 import pandas as pd
 
-from ..solve import CaseResult, StudyResult, _empty
+from ..model.cases import BASE, CaseSet, sweep_specs
+from ..solve import CaseResult, StudyResult
 from ..errors import ModelError
-from .casetable import BASE, CaseSet
 from .common import Progress
+from ..status import CaseStatus
 
-__all__ = ["CaseSetResult", "solve_case_set", "sweep_specs", "case_results",
+__all__ = ["CaseSetResult", "solve_case_set", "case_results",
            "SUMMARY_COLUMNS", "LEAN_ABOVE"]
 
 #: Totals copied from each case's summary, in this order.
@@ -128,8 +129,8 @@ def solve_case_set(cs: CaseSet, *, progress: Progress | None = None,
     flows = [f for chunk in per_chunk for f in chunk]
     for i, (r, f) in enumerate(zip(out, flows)):
         if isinstance(f, str):              # its equipment rows left IAPWS-IF97
-            out[i], flows[i] = _empty(r.case, "error", f), {}
-        elif r.status == "error" and r.input_errors:
+            out[i], flows[i] = CaseResult.failed(r.case, CaseStatus.ERROR, f), {}
+        elif r.status == CaseStatus.ERROR and r.input_errors:
             out[i] = replace(r, message=_row_message(cs, r))
     if not keep:
         out = [_lean(r) for r in out]
@@ -147,36 +148,6 @@ def _row_message(cs: CaseSet, r: CaseResult) -> str:
     return r.message
 
 
-def sweep_specs(cs: CaseSet) -> list:
-    """The cases of ``cs`` in order as sweep specs: a model-file case by its name, a
-    table row as ``(name, changes, based_on)`` with the changes of the rows it is based
-    on first and its own last, on the model-file case at the root (None: the model
-    itself)."""
-    has_base_case = any(c.name == BASE for c in cs.model.cases)
-    out = []
-    for name in cs:
-        spec = cs.specs.get(name)
-        if spec is None or spec.row is None:
-            out.append(name if name != BASE or has_base_case else (BASE, {}, None))
-            continue
-        changes = dict(spec.changes)
-        parent = spec.based_on or cs.base
-        seen = {name}
-        while parent in cs.specs and cs.specs[parent].row is not None:
-            if parent in seen:
-                raise ModelError("cases are based on each other in a loop",
-                                 file=cs.source, item=f"row {spec.row}",
-                                 field="based_on")
-            seen.add(parent)
-            up = cs.specs[parent]
-            changes = {**up.changes, **changes}
-            parent = up.based_on or cs.base
-        if parent == BASE and not has_base_case:
-            parent = None
-        out.append((name, changes, parent))
-    return out
-
-
 def _chunk_flows(results: list[CaseResult]) -> list:
     """The equipment flow columns of each case of a solved chunk, read from its raw
     solution (so also for cases solved without tables); for a case whose equipment
@@ -188,8 +159,8 @@ def _chunk_flows(results: list[CaseResult]) -> list:
     out = []
     for r in results:
         sol = r.solution
-        if r.status == "error" or sol is None or sol.status not in ("solved",
-                                                                    "infeasible"):
+        if r.status == CaseStatus.ERROR or sol is None or sol.status not in (CaseStatus.SOLVED,
+                                                                    CaseStatus.INFEASIBLE):
             out.append({})
             continue
         try:
@@ -219,6 +190,6 @@ def case_results(study: StudyResult) -> pd.DataFrame:
         rows.append(row)
     df = pd.DataFrame(rows)
     if len(df):
-        order = (df["status"] == "solved").astype(int)
+        order = (df["status"] == CaseStatus.SOLVED).astype(int)
         df = df.iloc[order.argsort(kind="stable")].reset_index(drop=True)
     return df

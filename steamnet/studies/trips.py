@@ -28,9 +28,10 @@ import numpy as np
 import pandas as pd
 
 from ..model.model import Model
-from .casetable import CaseSet
+from ..model.cases import CaseSet
 from .common import Progress, resolve_cases
 from .limits import TH, station_loads
+from ..status import CaseStatus
 
 __all__ = ["trip_screening", "TRIP_COLUMNS"]
 
@@ -120,7 +121,7 @@ def _th(v):
 def _finding_rows(case, trip, ttype, tflow, result) -> list[dict]:
     base = {"case": case, "trip": trip, "trip_type": ttype, "trip_flow_t_h": tflow * TH,
             "status": result.status, "row": "finding", "verdict": "cannot balance"}
-    if result.status == "infeasible" and result.findings:
+    if result.status == CaseStatus.INFEASIBLE and result.findings:
         return [{**base, "header": f.get("header"), "side": f.get("side"),
                  "amount_t_h": f.get("amount_kg_s", math.nan) * TH,
                  "message": f.get("message", result.message)} for f in result.findings]
@@ -165,7 +166,7 @@ def trip_screening(model: Model, cases: CaseSet | list[str] | str | None = None,
     before (the hour before, in a profile).
     """
     from ..sweep import run_sweep
-    from .runcases import sweep_specs
+    from ..model.cases import sweep_specs
     cs = resolve_cases(model, cases)
     model = cs.model                    # a case set is solved on its own model
     specs = sweep_specs(cs)
@@ -201,10 +202,10 @@ def trip_screening(model: Model, cases: CaseSet | list[str] | str | None = None,
         before, units = info[i]
         for table, unit, flow in units:
             r, loads = after[i, unit]
-            if r.status == "error" and r.input_errors:
+            if r.status == CaseStatus.ERROR and r.input_errors:
                 rows.append(_invalid_trip(name, table, unit, flow, r.input_errors))
                 continue
-            if r.status != "solved":
+            if r.status != CaseStatus.SOLVED:
                 rows.extend(_finding_rows(name, unit, table, flow, r))
             if loads is not None:
                 rows.extend(_station_rows(name, unit, table, flow, r.status, before,
@@ -212,7 +213,7 @@ def trip_screening(model: Model, cases: CaseSet | list[str] | str | None = None,
     df = pd.DataFrame(rows, columns=TRIP_COLUMNS)
     if not len(df):
         return df
-    rank = np.where(df["row"] == "finding", 0, np.where(df["status"] != "solved", 1, 2))
+    rank = np.where(df["row"] == "finding", 0, np.where(df["status"] != CaseStatus.SOLVED, 1, 2))
     worst = df["worst_use_percent"].fillna(-1.0).to_numpy(float)
     order = np.lexsort((-worst, rank))
     return df.iloc[order].reset_index(drop=True)
@@ -229,7 +230,7 @@ def _tripped(results) -> list:
     """Per trip of a solved chunk: the station loads after it (None when the balance
     gave no flows to read)."""
     return [station_loads(r.solution) if r.solution is not None and r.status in
-            ("solved", "infeasible") else None for r in results]
+            (CaseStatus.SOLVED, CaseStatus.INFEASIBLE) else None for r in results]
 
 
 def _trip_spec(spec, table: str, unit: str):

@@ -5,10 +5,12 @@ it, and a check that needs a missing field reports ``not_assessed`` instead of
 passing. :class:`StationLimits` holds the default limits of the station checks with
 the label of where each comes from.
 
-References
-----------
-.. [1] steamnet engineering notes, section 8 (let-down station checks and default
-   limits).
+:func:`station_data` makes the StationData of every let-down of a model (site-wide
+limits from ``[station_limits]``, then each station's own); the model keeps it
+(:attr:`steamnet.model.model.Model.stations`), so it is parsed once.
+
+The checks, their default limits and the sources of those limits are described in
+docs/checks/index.md.
 """
 
 from __future__ import annotations
@@ -20,10 +22,12 @@ from types import MappingProxyType
 from typing import ClassVar, Mapping
 
 from ..calc.valve import Characteristic
-from ..errors import ModelError
+from ..errors import ModelError, ModelErrors
+from ..units import Kind, parse_quantity
 
 __all__ = ["ValveData", "DesuperheaterData", "StationLimits", "StationData",
-           "StationPoint", "CHARACTERISTICS", "ATOMISATIONS"]
+           "StationPoint", "CHARACTERISTICS", "ATOMISATIONS", "station_data",
+           "parse_limits"]
 
 #: Allowed inherent characteristics: the values of :class:`steamnet.calc.Characteristic`.
 CHARACTERISTICS = tuple(c.value for c in Characteristic)
@@ -349,3 +353,77 @@ class StationPoint:
             if not (math.isfinite(val) and val >= 0):
                 raise ModelError(f"must be zero or positive, got {val!r}", item=item,
                                  field=name)
+
+
+def parse_limits(table: dict, *, base: StationLimits | None = None, file=None,
+                 item="station_limits") -> StationLimits:
+    """StationLimits from a table of overrides written with units."""
+    base = base or StationLimits()
+    kinds = StationLimits.LIMIT_KINDS
+    values = {}
+    errors = []
+    for key, raw in (table or {}).items():
+        if key not in kinds:
+            errors.append(ModelError(f"unknown station limit '{key}' (known: "
+                                     f"{', '.join(kinds)})", file=file, item=item,
+                                     field=key))
+            continue
+        try:
+            values[key] = parse_quantity(raw, Kind(kinds[key]))
+        except ModelError as exc:
+            errors.append(exc.with_context(file=file, item=item, field=key))
+    if errors:
+        raise ModelErrors(errors)
+    try:
+        return base.with_overrides(**values)
+    except ModelError as exc:
+        raise ModelErrors([exc.with_context(file=file, item=item)]) from None
+
+
+def _valve(v) -> ValveData | None:
+    if v is None:
+        return None
+    return ValveData(rated_kv=v.rated_coefficient, characteristic=v.characteristic,
+                     rangeability=v.rangeability, fl=v.fl, xt=v.xt, fd=v.fd,
+                     diameter=v.diameter)
+
+
+def station_data(model) -> dict[str, StationData]:
+    """StationData of every let-down of ``model``, limits site-wide then per station.
+
+    Raises
+    ------
+    ModelErrors
+        A limit that is unknown, has a wrong unit or breaks the order of the limits,
+        naming the file and the station.
+    """
+    site = parse_limits(model.station_limits, file=model.source)
+    out = {}
+    errors = []
+    for name, s in model.table("letdown").items():
+        try:
+            limits = parse_limits(s.limits, base=site, file=model.source,
+                                  item=f"letdown '{name}' limits") if s.limits else site
+        except ModelErrors as exc:
+            errors.extend(exc.errors)
+            continue
+        d = s.desuperheater
+        ds = None
+        if d is not None:
+            rated_min = d.rated_min_steam
+            if rated_min is None and d.turndown and d.rated_max_steam:
+                rated_min = d.rated_max_steam / d.turndown
+            ds = DesuperheaterData(atomisation=d.atomisation, rated_min_steam=rated_min,
+                                   rated_max_steam=d.rated_max_steam,
+                                   max_spray=d.max_spray, min_spray=d.min_spray,
+                                   evaporation_time=d.evaporation_time)
+        try:
+            out[name] = StationData(name=name, valve=_valve(s.valve), desuperheater=ds,
+                                    spray_valve=_valve(s.spray_valve),
+                                    outlet_pipe_diameter=s.outlet_pipe_diameter,
+                                    sensor_distance=s.sensor_distance, limits=limits)
+        except ModelError as exc:
+            errors.append(exc.with_context(file=model.source, item=f"letdown '{name}'"))
+    if errors:
+        raise ModelErrors(errors)
+    return out

@@ -1,4 +1,4 @@
-"""Case sets beyond the model file: case tables and hourly profiles.
+"""Reading case tables and hourly profiles into a :class:`~steamnet.model.cases.CaseSet`.
 
 A *case table* (CSV or .xlsx, first sheet) has one row per case::
 
@@ -33,370 +33,25 @@ from __future__ import annotations
 
 import math
 import re
-import types
-import typing
-from dataclasses import dataclass, field, replace
 from pathlib import Path
-from typing import Callable, Iterable, Literal, Union
 
 import numpy as np
 import pandas as pd
-from pydantic import BaseModel
 
 from ..errors import ModelError, ModelErrors
-from ..model.model import ITEM_LABELS, Model
-from ..model.schema import EQUIPMENT_TABLES, SI, Prices, Site
-from ..model.validate import validate_model, validate_value_changes
+from ..model.cases import BASE, MAX_ERRORS, CaseSet, CaseSpec
+from ..model.chain import CaseLoop, case_chain
+from ..model.fields import FieldKind, name_list, resolve_key
+from ..model.model import Model
+from ..model.schema import SI
 from ..units import Kind, parse_quantity, unit_factor
 
-__all__ = ["CaseSpec", "CaseSet", "read_case_table", "model_case_set", "BASE"]
-
-#: Name of the model without case changes.
-BASE = "base"
+__all__ = ["read_case_table"]
 
 _SPECIAL = ("case", "based_on", "description", "timestamp")
 _HEADING_RE = re.compile(r"^\s*(?P<key>[^\[\]]+?)\s*(?:\[(?P<unit>[^\[\]]*)\])?\s*$")
-_MAX_ERRORS = 50
 _TRUE = {"true", "yes", "1", "on"}
 _FALSE = {"false", "no", "0", "off"}
-
-
-# ------------------------------------------------------------------ case specs
-@dataclass(frozen=True)
-class CaseSpec:
-    """One case of a set: where it starts from and what it changes.
-
-    Attributes
-    ----------
-    name : str
-        Case name (a timestamp for an hourly profile).
-    based_on : str or None
-        Case it starts from (a row of the same table or a model-file case); None: the
-        base of the set.
-    description : str
-        Free text.
-    changes : dict
-        ``'table.item.field'`` -> value (quantities as :class:`SI`).
-    row : int or None
-        Row in the table file (heading = row 1); None for a case of the model file.
-    """
-
-    name: str
-    based_on: str | None = None
-    description: str = ""
-    changes: dict = field(default_factory=dict)
-    row: int | None = None
-
-
-class CaseSet:
-    """An ordered set of cases on one model: model-file cases, table rows, or both.
-
-    Use :meth:`build` to get the validated :class:`~steamnet.model.Model` of a case;
-    models that other cases derive from are cached, so an hourly profile costs one
-    ``for_case`` of its base.
-    """
-
-    def __init__(self, model: Model, specs: Iterable[CaseSpec], *, source: str | None = None,
-                 base: str | None = None, headings: dict[str, str] | None = None,
-                 order: Iterable[str] | None = None, kind: str = "model"):
-        self.model = model
-        self.specs: dict[str, CaseSpec] = {s.name: s for s in specs}
-        self.order: list[str] = list(order) if order is not None else list(self.specs)
-        self.source = source
-        self.base = base
-        self.kind = kind                  # "model", "table" or "profile"
-        self._headings = headings or {}   # change key -> column heading
-        self._parents = {s.based_on or base for s in self.specs.values()} - {None}
-        self._cache: dict[str, Model] = {}
-        self._valid: dict[int, tuple[Model, bool]] = {}   # id -> (model, passed)
-
-    # ---------------------------------------------------------------- access
-    @property
-    def names(self) -> list[str]:
-        return list(self.order)
-
-    def __len__(self) -> int:
-        return len(self.order)
-
-    def __iter__(self):
-        return iter(self.order)
-
-    def select(self, names: Iterable[str] | None) -> "CaseSet":
-        """The same set restricted to ``names`` (all when None or empty); derivations
-        from cases left out still work."""
-        names = list(names or [])
-        if not names:
-            return self
-        for n in names:
-            if n not in self.specs:
-                where = self.source or self.model.source
-                raise ModelError(f"no case named '{n}' (cases: "
-                                 f"{_list(self.order)})", file=where, item="option --case")
-        cs = CaseSet(self.model, self.specs.values(), source=self.source, base=self.base,
-                     headings=self._headings, order=names, kind=self.kind)
-        return cs
-
-    def description(self, name: str) -> str:
-        s = self.specs[name]
-        if s.row is None and s.name != BASE:
-            return self.model.case(s.name).description
-        return s.description
-
-    # ---------------------------------------------------------------- building
-    def build(self, name: str) -> Model:
-        """The validated model of case ``name`` (``case_name`` set).
-
-        Raises
-        ------
-        ModelErrors
-            A change is not valid for its field, or the case model fails validation;
-            errors name the table file, the row and the column.
-        """
-        if name in self._cache:
-            return self._cache[name]
-        m = self._build(name, set())
-        if name in self._parents:
-            self._cache[name] = m
-        return m
-
-    def _build(self, name: str, seen: set) -> Model:
-        if name in self._cache:
-            return self._cache[name]
-        spec = self.specs.get(name)
-        if spec is None or spec.row is None:
-            return self._model_case(name)
-        if name in seen:   # guarded at read time; kept for API-built sets
-            raise ModelError("cases are based on each other in a loop", file=self.source,
-                             item=_row_label(spec), field="based_on")
-        parent_name = spec.based_on or self.base
-        if parent_name is None:
-            parent = self.model
-        elif parent_name in self.specs and self.specs[parent_name].row is not None:
-            parent = self._build(parent_name, seen | {name})
-            if parent_name in self._parents:
-                self._cache[parent_name] = parent
-        else:
-            parent = self._model_case(parent_name)
-        try:
-            m = parent.with_values(spec.changes, origin=_row_label(spec))
-        except ModelError as exc:
-            raise self._wrap(spec, exc) from None
-        m = replace(m, case_name=spec.name)
-        try:
-            # a row that changes only values validation never reads (demands, duties,
-            # heat losses, prices), on a valid parent, is checked for what they touch
-            if not (self._passes(parent) and validate_value_changes(m, spec.changes)):
-                validate_model(m)
-        except ModelError as exc:
-            raise self._wrap(spec, exc, validation=True) from None
-        return m
-
-    def _passes(self, m: Model) -> bool:
-        """Whether ``m`` (a parent of rows) passes validation; asked once per model."""
-        got = self._valid.get(id(m))
-        if got is None:
-            try:
-                validate_model(m)
-                ok = True
-            except ModelError:
-                ok = False
-            got = self._valid[id(m)] = (m, ok)     # the model kept: its id stays its own
-        return got[1]
-
-    def _model_case(self, name: str) -> Model:
-        if name in self._cache:
-            return self._cache[name]
-        if name == BASE and not any(c.name == BASE for c in self.model.cases):
-            m = self.model
-        else:
-            m = self.model.for_case(name)
-            validate_model(m)
-            self._valid[id(m)] = (m, True)
-        if name in self._parents:
-            self._cache[name] = m
-        return m
-
-    def check(self, progress: Callable[[int, int, str], None] | None = None) -> None:
-        """Build and validate every case; raise one :class:`ModelErrors` listing the
-        problems of every row (up to 50)."""
-        errors: dict[str, ModelError] = {}   # by text: a bad parent shows once
-        n = len(self.order)
-        for i, name in enumerate(self.order):
-            try:
-                self.build(name)
-            except ModelError as exc:
-                for e in getattr(exc, "errors", [exc]):
-                    errors.setdefault(str(e), e)
-            if len(errors) >= _MAX_ERRORS:
-                break
-            if progress:
-                progress(i + 1, n, name)
-        if errors:
-            raise ModelErrors(list(errors.values()))
-
-    def _wrap(self, spec: CaseSpec, exc: ModelError, validation: bool = False) -> ModelErrors:
-        out = []
-        for e in getattr(exc, "errors", [exc]):
-            heading = self._heading_for(spec, e)
-            what = e.item or ""
-            # drop the origin prefix added by with_changes ("row 3 (case 'x'): ")
-            prefix = _row_label(spec) + ": "
-            what = what[len(prefix):] if what.startswith(prefix) else what
-            if what == _row_label(spec):
-                what = ""
-            case_prefix = f"case '{spec.name}': "
-            what = what[len(case_prefix):] if what.startswith(case_prefix) else what
-            msg = e.message
-            if what and heading is None:
-                msg = f"{what}: {msg}" + (f" (field '{e.field}')" if e.field else "")
-            elif what:
-                msg = f"{what}: {msg}"
-            out.append(ModelError(msg, file=self.source, item=_row_label(spec),
-                                  field=heading))
-        return ModelErrors(out)
-
-    def _heading_for(self, spec: CaseSpec, e: ModelError) -> str | None:
-        """The column a model error comes from: the change key itself, or the column
-        changing the field of the item the error names."""
-        if e.field in self._headings and e.field in spec.changes:
-            return self._headings[e.field]
-        keys = [k for k in spec.changes if k in self._headings]
-        item = e.item or ""
-        cands = []
-        for k in keys:
-            parts = k.split(".")
-            if parts[0] in ("site", "prices"):
-                if e.field and (e.field == k or e.field.startswith(parts[0])):
-                    cands.append(k)
-                continue
-            label = f"{ITEM_LABELS[parts[0]]} '{parts[1]}'"
-            if item.endswith(label):
-                cands.append(k)
-        if not cands:
-            return None
-        exact = [k for k in cands if e.field and _field_of(k) == e.field]
-        pick = exact or cands
-        return ", ".join(self._headings[k] for k in pick)
-
-
-def _field_of(key: str) -> str:
-    parts = key.split(".")
-    return ".".join(parts[1:]) if parts[0] in ("site", "prices") else ".".join(parts[2:])
-
-
-def _row_label(spec: CaseSpec) -> str:
-    return f"row {spec.row} (case '{spec.name}')" if spec.row is not None \
-        else f"case '{spec.name}'"
-
-
-def _list(names: Iterable[str], most: int = 12) -> str:
-    names = list(names)
-    text = ", ".join(names[:most])
-    return text + (f", ... ({len(names)} in all)" if len(names) > most else "") or "none"
-
-
-def model_case_set(model: Model, names: Iterable[str] | None = None) -> CaseSet:
-    """The cases of the model file (all, or ``names``), or the base model alone when
-    the file has no cases."""
-    specs = [CaseSpec(c.name, c.based_on, c.description) for c in model.cases]
-    if not specs:
-        specs = [CaseSpec(BASE, None, "the model without case changes")]
-    cs = CaseSet(model, specs, kind="model")
-    names = list(names or [])
-    if names:
-        for n in names:
-            model.case(n)  # raises naming the known cases
-        cs = cs.select(names)
-    return cs
-
-
-# ------------------------------------------------------------ field resolution
-@dataclass(frozen=True)
-class _Field:
-    kind: Kind | None = None               # quantity measured, or None
-    py: type | None = None                  # bool, int, str for other fields
-    choices: tuple[str, ...] | None = None  # allowed text (modes)
-
-
-def _unwrap(ann):
-    meta = []
-    while True:
-        origin = typing.get_origin(ann)
-        if origin is typing.Annotated:
-            args = typing.get_args(ann)
-            ann, meta = args[0], meta + list(args[1:])
-            continue
-        if origin in (Union, types.UnionType):
-            args = [a for a in typing.get_args(ann) if a is not type(None)]
-            if len(args) == 1:
-                ann = args[0]
-                continue
-        return ann, meta
-
-
-def _quantity_kind(meta) -> Kind | None:
-    for m in meta:
-        k = getattr(getattr(m, "func", None), "kind", None)
-        if k is not None:
-            return k
-    return None
-
-
-def _resolve(cls: type[BaseModel], path: list[str], raw_item: dict | None) -> _Field | str:
-    """The field at ``path`` in ``cls``, or a message saying why it does not exist."""
-    name = path[0]
-    if name not in cls.model_fields:
-        known = ", ".join(f for f in cls.model_fields if f != "name")
-        return f"no field '{name}' (fields: {known})"
-    fi = cls.model_fields[name]
-    ann, meta = _unwrap(fi.annotation)
-    meta = list(fi.metadata) + meta
-    rest = path[1:]
-    if isinstance(ann, type) and issubclass(ann, BaseModel):
-        if not rest:
-            return f"'{name}' is a table; name one of its fields, e.g. '{name}.<field>'"
-        sub = raw_item.get(name) if isinstance(raw_item, dict) else None
-        return _resolve(ann, rest, sub if isinstance(sub, dict) else None)
-    if typing.get_origin(ann) is list:
-        (elem,) = typing.get_args(ann) or (None,)
-        elem, _ = _unwrap(elem)
-        if isinstance(elem, type) and issubclass(elem, BaseModel) and name == "extractions":
-            if len(rest) < 2:
-                return "write 'extractions.<header>.<field>'"
-            exts = (raw_item or {}).get("extractions", [])
-            if not any(isinstance(x, dict) and x.get("header") == rest[0] for x in exts):
-                return f"no extraction to header '{rest[0]}'"
-            return _resolve(elem, rest[1:], None)
-        return f"'{name}' is a list and cannot be changed from a table column"
-    if rest:
-        return f"'{name}' has no parts ('{'.'.join(rest)}')"
-    kind = _quantity_kind(meta)
-    if kind is not None:
-        return _Field(kind=kind)
-    if typing.get_origin(ann) is Literal:
-        return _Field(py=str, choices=tuple(str(a) for a in typing.get_args(ann)))
-    if ann in (bool, int, str, float):
-        return _Field(py=ann)
-    return f"'{name}' cannot be changed from a table column"
-
-
-def _resolve_key(model: Model, key: str) -> _Field | str:
-    parts = key.split(".")
-    if parts[0] in ("site", "prices"):
-        if len(parts) != 2:
-            return f"write '{parts[0]}.<field>'"
-        cls = Site if parts[0] == "site" else Prices
-        return _resolve(cls, parts[1:], None)
-    if parts[0] not in EQUIPMENT_TABLES:
-        return (f"'{parts[0]}' is not a table (tables: {', '.join(EQUIPMENT_TABLES)}, "
-                "site, prices)")
-    if len(parts) < 3:
-        return "a change column is written 'table.item.field [unit]'"
-    table, item = parts[0], parts[1]
-    raw = model.raw.get(table, {})
-    if item not in raw:
-        return f"no {ITEM_LABELS[table]} named '{item}' (known: {_list(raw)})"
-    return _resolve(EQUIPMENT_TABLES[table], parts[2:], raw[item])
 
 
 # ----------------------------------------------------------------- converting
@@ -414,7 +69,7 @@ def _is_empty(v) -> bool:
     return isinstance(v, str) and not v.strip()
 
 
-def _column_converter(model: Model, f: _Field, unit: str | None):
+def _column_converter(model: Model, f: FieldKind, unit: str | None):
     """A function series -> list of values (None where the cell is empty); raises
     ModelError for a unit that does not fit, _CellError for a bad cell."""
     if f.kind is None:
@@ -462,7 +117,7 @@ def _convert_numbers(series: pd.Series, scale: float, offset: float) -> list:
     return [None if e else SI(v) for e, v in zip(empty, si)]
 
 
-def _convert_plain(series: pd.Series, f: _Field) -> list:
+def _convert_plain(series: pd.Series, f: FieldKind) -> list:
     out = []
     for i, v in enumerate(series):
         if _is_empty(v):
@@ -559,7 +214,7 @@ def read_case_table(path: str | Path, model: Model, *, base: str | None = None,
     if base is not None:
         if not any(c.name == base for c in model.cases):
             raise ModelError(f"no case named '{base}' in the model file (cases: "
-                             f"{_list(c.name for c in model.cases)})", file=model.source,
+                             f"{name_list(c.name for c in model.cases)})", file=model.source,
                              item="option --base")
     frame = _read_frame(path)
     if frame.shape[0] < 1:
@@ -610,7 +265,7 @@ def read_case_table(path: str | Path, model: Model, *, base: str | None = None,
                                      "[unit]'", file=src, item="row 1", field=h))
             continue
         key, unit = m.group("key").strip(), m.group("unit")
-        f = _resolve_key(model, key)
+        f = resolve_key(model, key)
         if isinstance(f, str):
             errors.append(ModelError(f, file=src, item="row 1", field=h))
             continue
@@ -646,7 +301,7 @@ def read_case_table(path: str | Path, model: Model, *, base: str | None = None,
     errors.extend(e for _, e in sorted(cell_errors, key=lambda p: p[0]))
     names = _case_names(rows, cols, rownum, profile, src, errors)
     if errors:
-        raise ModelErrors(errors[:_MAX_ERRORS])
+        raise ModelErrors(errors[:MAX_ERRORS])
     model_cases = {c.name: None for c in model.cases}    # in file order, for messages
     seen: dict[str, int] = {}
     for i, n in enumerate(names):
@@ -668,7 +323,7 @@ def read_case_table(path: str | Path, model: Model, *, base: str | None = None,
             if b not in seen and b not in model_cases:
                 errors.append(ModelError(
                     f"based_on '{b}': no such case in this table or the model file "
-                    f"(model cases: {_list(model_cases)})", file=src,
+                    f"(model cases: {name_list(model_cases)})", file=src,
                     item=f"row {rownum[i]} (case '{names[i]}')", field="based_on"))
             based[i] = b
     desc = [""] * len(names)
@@ -677,7 +332,7 @@ def read_case_table(path: str | Path, model: Model, *, base: str | None = None,
                 for v in rows.iloc[:, cols["description"]]]
     errors.extend(_loops(names, based, rownum, src))
     if errors:
-        raise ModelErrors(errors[:_MAX_ERRORS])
+        raise ModelErrors(errors[:MAX_ERRORS])
     specs = []
     for i, n in enumerate(names):
         changes = {key: values[h][i] for h, (key, _) in converters.items()
@@ -719,15 +374,10 @@ def _loops(names, based, rownum, src) -> list[ModelError]:
     row = dict(zip(names, rownum))
     out = []
     for n in names:
-        seen = [n]
-        b = parent.get(n)
-        while b is not None and b in parent:
-            if b in seen:
-                chain = " -> ".join(seen + [b])
-                out.append(ModelError(f"cases are based on each other in a loop "
-                                      f"({chain})", file=src,
-                                      item=f"row {row[n]} (case '{n}')", field="based_on"))
-                break
-            seen.append(b)
-            b = parent[b]
+        try:
+            case_chain(n, lambda x: parent[x] if parent.get(x) in parent else None)
+        except CaseLoop as loop:
+            out.append(ModelError(f"cases are based on each other in a loop "
+                                  f"({' -> '.join(loop.chain)})", file=src,
+                                  item=f"row {row[n]} (case '{n}')", field="based_on"))
     return out
