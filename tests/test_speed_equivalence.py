@@ -3,7 +3,7 @@
 Two live code paths are compared, never stored numbers: ``reference=True`` makes every
 case model from scratch (``Model.with_changes``), builds its Net from scratch and
 assembles each iteration's linear system with the original list-based code
-(``balance._assemble``); the default path shares the network graph of cases that
+(``reference.assemble``); the default path shares the network graph of cases that
 change only values (``Model.with_values``), rebuilds the Net from the previous case's
 (``network.rebuild``) and fills a compiled :class:`~steamnet.solver.assembly.Plan`
 (dense matrix template or triplets). Every summary value, header enthalpy, flow and
@@ -25,6 +25,7 @@ from steamnet.graph import GRAPH_FREE_FIELDS, build_graph
 from steamnet.model.schema import SI
 from steamnet.model.validate import validate_model
 from steamnet.solver import balance
+from steamnet.solver import reference as ref_module
 from steamnet.solver.assembly import Plan
 from steamnet.solver.network import build
 from steamnet.synth import random_model_text
@@ -145,7 +146,7 @@ def compared(monkeypatch):
     """Run the reference solver while checking, at every assembly, that the plan gives
     the same triplets, right-hand side and dense matrix (to the sign of zeros)."""
     counts = {"assemblies": 0, "dense": 0}
-    reference = balance._assemble
+    reference = ref_module.assemble
 
     def checked(net, co, h, modes, eff):
         trip, b = reference(net, co, h, modes, eff)
@@ -166,7 +167,7 @@ def compared(monkeypatch):
         counts["assemblies"] += 1
         return trip, b
 
-    monkeypatch.setattr(balance, "_assemble", checked)
+    monkeypatch.setattr(ref_module, "assemble", checked)
     return counts
 
 

@@ -11,6 +11,7 @@ import numpy as np
 import pandas as pd
 
 from .._version import FORMAT_VERSION, __version__
+from ..units import T_H
 from .atomic import write_atomic
 
 __all__ = ["study_to_dict", "write_json", "JSON_LAYOUT_VERSION"]
@@ -52,7 +53,7 @@ def study_to_dict(study, extra: dict | None = None) -> dict:
             "case": c.case, "status": c.status, "message": c.message,
             "findings": c.findings, "summary": c.summary,
             "headers": c.headers, "equipment": c.equipment, "streams": c.streams,
-            "water_t_h": {k.replace("_kg_s", "_t_h"): v * 3.6 for k, v in c.water.items()
+            "water_t_h": {k.replace("_kg_s", "_t_h"): v * T_H for k, v in c.water.items()
                           if k.endswith("_kg_s")},
         })
     if extra:

@@ -1,4 +1,4 @@
-"""Compiled assembly of the balance system: the fast path of ``balance._assemble``.
+"""Compiled assembly of the balance system: the fast path of ``reference.assemble``.
 
 Which flow appears in which equation of the square system of one iteration (see
 :mod:`steamnet.solver.balance`) does not change from one iteration to the next, and in
@@ -155,7 +155,7 @@ class Plan:
 
     # ------------------------------------------------------- header and deaerator rows
     def _static(self, net) -> None:
-        """Header mass balances and deaerator rows (balance._header_terms, _da_rows)."""
+        """Header mass balances and deaerator rows (reference._header_terms, _da_rows)."""
         rows: list[list] = [[] for _ in range(self.nh)]
         for hi, vi, coef in header_entries(net):
             rows[hi].append((vi, coef))
@@ -188,7 +188,7 @@ class Plan:
     # ------------------------------------------------------------ rows of every mode
     def _tail(self, net) -> None:
         """Defining equations that do not depend on the modes (the end of
-        balance._status_rows): turbines, extraction turbines, other fixed flows."""
+        reference._status_rows): turbines, extraction turbines, other fixed flows."""
         rows, rhs = [], []
         self.t_flow = []               # (row, turbine index): rhs is its fixed-power flow
         for k, t in enumerate(net.turbines):
@@ -236,7 +236,7 @@ class Plan:
 
     def _mode_rows(self, net, modes):
         """Rows of the swing groups and absorbers for ``modes`` (the start of
-        balance._status_rows): constant triplets, and right-hand sides that are either
+        reference._status_rows): constant triplets, and right-hand sides that are either
         constant or a group's level (its minimum or maximum, times the share)."""
         key = tuple(modes)
         got = self.modes.get(key)
@@ -327,7 +327,7 @@ class Plan:
 
     def assemble(self, net, co, h, modes, eff):
         """Triplets (rows, cols, values) and right-hand side of one iteration: the
-        same arrays as ``balance._assemble(net, co, h, modes, eff)``."""
+        same arrays as ``reference.assemble(net, co, h, modes, eff)``."""
         mode = self._mode(net, modes)
         vals, spray = self._moving(net, co, h)
         s_v, t_v = self.s_v.copy(), self.t_v.copy()

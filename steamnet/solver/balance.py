@@ -1,4 +1,4 @@
-"""The steam and water balance of one case (engineering.md sections 5 and 6).
+"""The steam and water balance of one case: the iteration (docs/method.md).
 
 Method
 ------
@@ -19,7 +19,10 @@ group). The solver alternates
 
 until the modes no longer change and the enthalpies and flows stop moving. The answer is
 unique because the sequence and the shares decide every split; a header whose sequence is
-exhausted is reported short (or long) by the amount left over, with the limits that bind.
+exhausted is reported short (or long) by the amount left over, with the limits that bind
+(:mod:`steamnet.solver.findings`). The linear system of an iteration is compiled by
+:mod:`steamnet.solver.assembly`; :mod:`steamnet.solver.reference` builds the same system
+term by term.
 """
 
 from __future__ import annotations
@@ -30,11 +33,13 @@ import time
 import numpy as np
 from scipy.linalg.lapack import dgesv as _dgesv
 
-from .assembly import Plan, da_entries, header_entries
-from .network import (INF, Coeffs, ItemPropertyError, Net, build,
-                      coefficients)
-from .network import group_bounds as _group_bounds
 from ..status import CaseStatus
+from . import reference as _reference
+from .assembly import Plan
+from .findings import cold_findings, derived_findings, exhausted_findings
+from .network import (INF, Coeffs, ItemPropertyError, Net, build, coefficients,
+                      header_inflows)
+from .network import group_bounds as _group_bounds
 
 __all__ = ["solve_net", "Solution", "build"]
 
@@ -64,130 +69,6 @@ def _initial_modes(net: Net) -> list[tuple[str, int]]:
     for hs in net.swing:
         modes.append(("supply", 0) if hs.groups else ("absorb", 0))
     return modes
-
-
-# ------------------------------------------------------------------------ assembly
-def _header_terms(net: Net, co: Coeffs):
-    """Mass-balance terms: rows[h] = list of (var, coefficient); const[h] = fixed net
-    outflow (users)."""
-    nh = len(net.headers)
-    rows: list[list[tuple[int, float]]] = [[] for _ in range(nh)]
-    const = [0.0] * nh
-    for hi, vi, coef in header_entries(net):
-        if isinstance(coef, tuple):              # ("out", j): let-down outlet, 1 + r
-            coef = 1.0 + co.ld[coef[1]]["r"]
-        rows[hi].append((vi, coef))
-    for u, m in zip(net.users, co.user_flow):
-        const[u["header"]] += m
-    return rows, const
-
-
-def _da_rows(net: Net, co: Coeffs, h: list[float]):
-    """Deaerator mass and energy rows: (terms, rhs) twice."""
-    da = net.deaerator
-    vf = da["vent_fraction"]
-    h_fw, h_vent = da["sat"].hf, da["sat"].hg
-    mass: list[tuple[int, float]] = []
-    energy: list[tuple[int, float]] = []
-    for row, vi, coef in da_entries(net):
-        if isinstance(coef, tuple):
-            key = coef[0]
-            if key == "h_da":
-                coef = h[da["header"]]
-            elif key == "h_mk":
-                coef = net.makeup_h
-            else:                                   # spray drawn from the deaerator
-                r = co.ld[coef[1]]["r"]
-                if not r > 0:
-                    continue
-                coef = (-(1.0 + vf) if key == "fw_mass" else -(h_fw + vf * h_vent)) * r
-        (mass if row == 0 else energy).append((vi, coef))
-    r_mass = r_energy = 0.0
-    for u, m in zip(net.users, co.user_flow):
-        if u["ret"] > 0:
-            r_mass -= u["ret"] * m
-            r_energy -= u["ret"] * m * u["h_ret"]
-    return (mass, r_mass), (energy, r_energy)
-
-
-def _status_rows(net: Net, co: Coeffs, modes, eff):
-    """Defining equation of every flow that is not the moving one of its header."""
-    rows: list[tuple[list[tuple[int, float]], float]] = []
-    free: set[int] = set()
-    if net.deaerator is not None:
-        free |= {net.deaerator["steam_var"], net.deaerator["makeup_var"]}
-    grouped: set[int] = set()
-    for hs, mode in zip(net.swing, modes):
-        kind, k = mode
-        for gi, g in enumerate(hs.groups):
-            grouped.update(g.members)
-            glo, ghi = _group_bounds(net, g, eff)
-            if kind == "supply" and gi == k:
-                first = g.members[0]
-                free.add(first)
-                for vi, w in zip(g.members[1:], g.weights[1:]):
-                    rows.append(([(vi, 1.0), (first, -w / g.weights[0])], 0.0))
-                continue
-            level = ghi if (kind == "supply" and gi < k) else glo
-            for vi, w in zip(g.members, g.weights):
-                rows.append(([(vi, 1.0)], w * level))
-        for ai, vi in enumerate(hs.absorbers):
-            grouped.add(vi)
-            if kind == "absorb" and ai == k:
-                free.add(vi)
-            elif kind == "absorb" and ai < k:
-                rows.append(([(vi, 1.0)], net.vars[vi].hi))
-            else:
-                rows.append(([(vi, 1.0)], 0.0))
-    for t, c in zip(net.turbines, co.turb):
-        if t["var"] in grouped:
-            continue
-        if t["mode"] == "fixed_power":
-            rows.append(([(t["var"], 1.0)], c["flow"]))
-        else:
-            rows.append(([(t["var"], 1.0)], net.vars[t["var"]].fixed))
-    for t, c in zip(net.xturbines, co.xturb):
-        it = t["item"]
-        if t["mode"] == "fixed_flow":
-            rows.append(([(t["in_var"], 1.0)], it.flow))
-        else:  # fixed power: sum_k sigma_k dh_k = shaft power
-            dh = c["dh"]
-            terms = [(t["in_var"], sum(dh))]
-            for i, e in enumerate(t["exts"]):
-                terms.append((e["var"], -sum(dh[i + 1:])))
-            rows.append((terms, it.power / t["eta_mg"]))
-        for e in t["exts"]:
-            if e["mode"] == "fixed":
-                rows.append(([(e["var"], 1.0)], net.vars[e["var"]].fixed))
-    for v in net.vars:
-        if v.index in free or v.index in grouped:
-            continue
-        if v.kind in ("boiler", "transfer", "letdown"):
-            rows.append(([(v.index, 1.0)], v.fixed if v.fixed is not None else 0.0))
-    return rows
-
-
-def _assemble(net: Net, co: Coeffs, h, modes, eff):
-    n = len(net.vars)
-    hrows, hconst = _header_terms(net, co)
-    eqs: list[tuple[list[tuple[int, float]], float]] = []
-    for terms, c in zip(hrows, hconst):
-        eqs.append((terms, c))
-    if net.deaerator is not None:
-        eqs.extend(_da_rows(net, co, h))
-    eqs.extend(_status_rows(net, co, modes, eff))
-    if len(eqs) != n:
-        raise RuntimeError(f"balance system is not square: {len(eqs)} equations for "
-                           f"{n} flows (model validation should have caught this)")
-    r, c, v = [], [], []
-    b = np.empty(n)
-    for i, (terms, rhs) in enumerate(eqs):
-        for vi, coef in terms:
-            r.append(i)
-            c.append(vi)
-            v.append(coef)
-        b[i] = rhs
-    return (np.array(r, dtype=int), np.array(c, dtype=int), np.array(v)), b
 
 
 def _linear_solve(n: int, triplets, b: np.ndarray) -> np.ndarray | None:
@@ -220,41 +101,6 @@ def _dense_solve(a: np.ndarray, b: np.ndarray) -> np.ndarray | None:
     return x
 
 
-# -------------------------------------------------------------------- enthalpy mix
-def header_inflows(net: Net, co: Coeffs, x: "np.ndarray | list[float]", labels: bool = True):
-    """Per header: list of (source label, flow, enthalpy) entering it (labels None when
-    not asked for, as in the iterations)."""
-    ins: list[list[tuple[str | None, float, float]]] = [[] for _ in net.headers]
-    for b in net.boilers:
-        name = b["name"]
-        ins[b["header"]].append((f"boiler '{name}'" if labels else None, x[b["var"]],
-                                 b["h"]))
-        if b["flash"] is not None:
-            fh = b["flash"]["header"]
-            m = x[b["var"]] * b["bd"] / (1 - b["bd"]) * b["flash"]["fraction"]
-            ins[fh].append((f"boiler '{name}' blowdown flash" if labels else None, m,
-                            net.sat[fh].hg))
-    for t in net.transfers:
-        if t["dir"] == "import":
-            ins[t["header"]].append((f"import '{t['name']}'" if labels else None,
-                                     x[t["var"]], t["h"]))
-    for t, c in zip(net.turbines, co.turb):
-        ins[t["outlet"]].append((f"turbine '{t['name']}'" if labels else None,
-                                 x[t["var"]], c["h_out"]))
-    for t, c in zip(net.xturbines, co.xturb):
-        rest = x[t["in_var"]]
-        label = f"extraction turbine '{t['name']}'" if labels else None
-        for j, e in enumerate(t["exts"]):
-            ins[e["header"]].append((label, x[e["var"]], c["h"][j + 1]))
-            rest -= x[e["var"]]
-        if t["exhaust"] is not None:
-            ins[t["exhaust"]].append((label and label + " exhaust", rest, c["h"][-1]))
-    for s, c in zip(net.letdowns, co.ld):
-        ins[s["outlet"]].append((f"letdown '{s['name']}'" if labels else None,
-                                 x[s["var"]] * (1 + c["r"]), c["h_out"]))
-    return ins
-
-
 #: A header whose steam inflow is at most this is idle: no steam, so no heat loss to make
 #: up, and its enthalpy stays as it was [kg/s].
 IDLE_FLOW = 1e-9
@@ -281,21 +127,6 @@ def _mix(net: Net, co: Coeffs, x: "np.ndarray | list[float]",
         else:
             out.append(h_old[i])
     return out, cold
-
-
-def _cold_findings(net: Net, co: Coeffs, x: np.ndarray, cold: list[int]) -> list[dict]:
-    out = []
-    ins = header_inflows(net, co, x, labels=False)
-    for i in cold:
-        name = net.headers[i]
-        m = sum(max(f, 0.0) for _, f, _ in ins[i])
-        lim = f"heat loss {net.q_loss[i] / 1e3:.4g} kW"
-        out.append({"kind": "infeasible", "header": name, "side": "heat_loss",
-                    "amount_kg_s": 0.0, "limits": [lim],
-                    "message": f"header '{name}': its {lim} is more than its steam "
-                    f"inflow of {_fmt_th(m)} brings above saturated liquid; the steam "
-                    "would condense in the header"})
-    return out
 
 
 def _initial_h(net: Net) -> list[float]:
@@ -378,25 +209,6 @@ def _extraction_bounds(net: Net, co: Coeffs, x: "np.ndarray | list[float] | None
 
 
 # ---------------------------------------------------------------------------- main
-def _item_label(net: Net, vi: int) -> str:
-    v = net.vars[vi]
-    labels = {"boiler": "boiler", "transfer": "steam transfer", "turbine": "turbine",
-              "xt_in": "extraction turbine", "xt_ext": "extraction",
-              "letdown": "letdown", "vent": "vent", "da_steam": "deaerator",
-              "da_makeup": "deaerator"}
-    return f"{labels[v.kind]} '{v.item}'"
-
-
-def _fmt_th(kg_s: float) -> str:
-    return f"{kg_s * 3.6:.2f} t/h"
-
-
-def _limit_text(net: Net, vi: int, which: str, eff) -> str:
-    lo, hi = eff.get(vi, (net.vars[vi].lo, net.vars[vi].hi))
-    val = hi if which == "max" else lo
-    return f"{_item_label(net, vi)} at its {which}imum {_fmt_th(val)}"
-
-
 def _update_modes(net: Net, x: "np.ndarray | list[float]", modes, eff, tol: float):
     """Move each header whose moving element left its range; return the new modes and
     the list of headers whose sequence is exhausted (short or long)."""
@@ -438,107 +250,6 @@ def _update_modes(net: Net, x: "np.ndarray | list[float]", modes, eff, tol: floa
     return new, exhausted
 
 
-def _group_limit_texts(net: Net, g, which: str, eff) -> list[str]:
-    """The limit of each member of a swing group. A member sharing load with others is
-    held by the group's limit, which is its own only for the member that binds; the
-    others are named at their share (not at a maximum of their own, maybe infinite)."""
-    if len(g.members) == 1:
-        return [_limit_text(net, g.members[0], which, eff)]
-    glo, ghi = _group_bounds(net, g, eff)
-    level = ghi if which == "max" else glo
-    out = []
-    for vi, w in zip(g.members, g.weights):
-        lo, hi = eff.get(vi, (net.vars[vi].lo, net.vars[vi].hi))
-        own = (hi if which == "max" else lo) / w
-        if abs(own - level) <= 1e-9 * max(1.0, abs(level)):
-            out.append(_limit_text(net, vi, which, eff))
-        else:
-            out.append(f"{_item_label(net, vi)} at its share {100 * w:.3g} % of the "
-                       f"group, {_fmt_th(level * w)}")
-    return out
-
-
-def _exhausted_findings(net: Net, exhausted, modes, eff) -> list[dict]:
-    out = []
-    for hi, side, amount in exhausted:
-        hs = net.swing[hi]
-        name = net.headers[hi]
-        if side == "short":
-            limits = [t for g in hs.groups for t in _group_limit_texts(net, g, "max", eff)]
-            msg = (f"header '{name}' is short of steam by {_fmt_th(amount)}: every "
-                   "element that can supply it is at its limit")
-        else:
-            limits = [t for g in hs.groups for t in _group_limit_texts(net, g, "min", eff)]
-            limits += [f"{_item_label(net, vi)} at its capacity "
-                       f"{_fmt_th(net.vars[vi].hi)}" for vi in hs.absorbers]
-            if not hs.absorbers:
-                limits.append("no vent or swing export on this header")
-            msg = (f"header '{name}' has {_fmt_th(amount)} of steam in excess: its "
-                   "suppliers are at their minimum and nothing more can take it")
-        out.append({"kind": "infeasible", "header": name, "side": side,
-                    "amount_kg_s": amount, "limits": limits,
-                    "message": msg + (" (" + "; ".join(limits) + ")" if limits else "")})
-    return out
-
-
-def _derived_findings(net: Net, co: Coeffs, x: np.ndarray, tol: float) -> list[dict]:
-    """Flows that are not swing variables but must still be physical."""
-    out = []
-    da = net.deaerator
-    if da is not None:
-        d, mu = x[da["steam_var"]], x[da["makeup_var"]]
-        if d < -tol:
-            out.append({"kind": "infeasible", "header": net.headers[da["header"]],
-                        "side": "deaerator", "amount_kg_s": -d, "limits": [],
-                        "message": f"deaerator '{da['name']}' would need negative heating "
-                        f"steam ({_fmt_th(d)}): returns and make-up bring more heat than "
-                        "the feedwater takes"})
-        if mu < -tol:
-            out.append({"kind": "infeasible", "header": net.headers[da["header"]],
-                        "side": "deaerator", "amount_kg_s": -mu, "limits": [],
-                        "message": f"deaerator '{da['name']}' would need negative make-up "
-                        f"({_fmt_th(mu)}): more water returns than the plant uses"})
-    for t, c in zip(net.turbines, co.turb):
-        it = t["item"]
-        m = x[t["var"]]
-        if t["mode"] == "fixed_power":
-            hi = INF if it.max_flow is None else it.max_flow
-            if m > hi + tol or m < it.min_flow - tol:
-                out.append({"kind": "infeasible", "header": net.headers[t["inlet"]],
-                            "side": "turbine", "amount_kg_s": m, "limits": [],
-                            "message": f"turbine '{t['name']}' needs {_fmt_th(m)} for its "
-                            f"fixed power, outside its range {_fmt_th(it.min_flow)} to "
-                            f"{_fmt_th(hi)}"})
-    for t, c in zip(net.xturbines, co.xturb):
-        it = t["item"]
-        s1 = x[t["in_var"]]
-        ex = s1 - sum(x[e["var"]] for e in t["exts"])
-        hi = INF if it.max_flow is None else it.max_flow
-        hx = INF if it.max_exhaust_flow is None else it.max_exhaust_flow
-        bad = []
-        if s1 > hi + tol or s1 < it.min_flow - tol:
-            bad.append(f"throttle flow {_fmt_th(s1)} outside {_fmt_th(it.min_flow)} to "
-                       f"{_fmt_th(hi)}")
-        if ex > hx + tol or ex < it.min_exhaust_flow - tol:
-            bad.append(f"exhaust flow {_fmt_th(ex)} outside "
-                       f"{_fmt_th(it.min_exhaust_flow)} to {_fmt_th(hx)}")
-        for e in t["exts"]:
-            if x[e["var"]] < -tol:
-                bad.append(f"extraction to '{net.headers[e['header']]}' negative")
-        if bad:
-            out.append({"kind": "infeasible", "header": net.headers[t["inlet"]],
-                        "side": "turbine", "amount_kg_s": 0.0, "limits": bad,
-                        "message": f"extraction turbine '{t['name']}': " + "; ".join(bad)})
-    for u, starved in zip(net.users, co.user_starved):
-        if starved:
-            out.append({"kind": "infeasible", "header": net.headers[u["header"]],
-                        "side": "user", "amount_kg_s": 0.0, "limits": [],
-                        "message": f"user '{u['name']}': header steam carries (almost) "
-                        "no heat above saturated liquid (under 1 % of the latent heat), so "
-                        "its duty cannot be met"})
-    return out
-
-
 def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
               tol_x: float = 1e-9, start: dict | None = None,
               reference: bool = False) -> Solution:
@@ -558,7 +269,7 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
     start : dict, optional
         ``{"h": [...], "modes": [...]}`` from a previous, similar case (warm start).
     reference : bool
-        Assemble the linear system with the reference code (:func:`_assemble`) instead
+        Assemble the linear system with the reference code (:func:`steamnet.solver.reference.assemble`) instead
         of the compiled :class:`~steamnet.solver.assembly.Plan`; the systems, and so
         the answers, are the same [-]
     """
@@ -566,10 +277,10 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
     n = len(net.vars)
     if reference:
         def assemble(co, h, modes, eff):
-            return _assemble(net, co, h, modes, eff)
+            return _reference.assemble(net, co, h, modes, eff)
 
         def solve_system(co, h, modes, eff):
-            trip, b = _assemble(net, co, h, modes, eff)
+            trip, b = _reference.assemble(net, co, h, modes, eff)
             return _linear_solve(n, trip, b)
     else:
         if net.plan is None:
@@ -663,11 +374,11 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
         # that would need negative steam or make-up, or headers whose sequence stays
         # exhausted (their negative flows starve the headers around them). That, not
         # the iteration, is what the user must hear about.
-        found = [f for f in _derived_findings(net, co, x, tol_mode)
+        found = [f for f in derived_findings(net, co, x, tol_mode)
                  if f["side"] == "deaerator"]
         if len(recent) == _PERSIST:
             keep = set.intersection(*recent)
-            found += _exhausted_findings(
+            found += exhausted_findings(
                 net, [e for e in exhausted if (e[0], e[1]) in keep], modes,
                 _extraction_bounds(net, co, x))
         if found:
@@ -679,9 +390,9 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
                         time.perf_counter() - t0)
     x = np.where(np.abs(x) < 1e-12, 0.0, x)     # no -0.0 or 1e-16 flows in reports
     eff = _extraction_bounds(net, co, x)
-    findings = _exhausted_findings(net, exhausted, modes, eff)
-    findings += _derived_findings(net, co, x, tol_mode)
-    findings += _cold_findings(net, co, x, cold)
+    findings = exhausted_findings(net, exhausted, modes, eff)
+    findings += derived_findings(net, co, x, tol_mode)
+    findings += cold_findings(net, co, x, cold)
     status = CaseStatus.INFEASIBLE if findings else CaseStatus.SOLVED
     msg = "; ".join(f["message"] for f in findings) if findings else "solved"
     return Solution(net, x, h, co, modes, it, status, findings, msg,
@@ -765,4 +476,4 @@ def _modes_valid(net: Net, modes) -> bool:
     return True
 
 
-__all__ += ["ItemPropertyError", "header_inflows", "IDLE_FLOW"]
+__all__ += ["ItemPropertyError", "IDLE_FLOW"]

@@ -479,3 +479,38 @@ def coefficients(net: Net, h: list[float], x: list[float] | None) -> Coeffs:
             uf.append(u["duty"] / max(dh, floor))
             starved.append(dh <= floor)
     return Coeffs(turb=turb, xturb=xturb, ld=ld, user_flow=uf, user_starved=starved)
+
+
+# ------------------------------------------------------------------ header inflows
+def header_inflows(net: Net, co: Coeffs, x: "np.ndarray | list[float]", labels: bool = True):
+    """Per header: list of (source label, flow, enthalpy) entering it (labels None when
+    not asked for, as in the iterations)."""
+    ins: list[list[tuple[str | None, float, float]]] = [[] for _ in net.headers]
+    for b in net.boilers:
+        name = b["name"]
+        ins[b["header"]].append((f"boiler '{name}'" if labels else None, x[b["var"]],
+                                 b["h"]))
+        if b["flash"] is not None:
+            fh = b["flash"]["header"]
+            m = x[b["var"]] * b["bd"] / (1 - b["bd"]) * b["flash"]["fraction"]
+            ins[fh].append((f"boiler '{name}' blowdown flash" if labels else None, m,
+                            net.sat[fh].hg))
+    for t in net.transfers:
+        if t["dir"] == "import":
+            ins[t["header"]].append((f"import '{t['name']}'" if labels else None,
+                                     x[t["var"]], t["h"]))
+    for t, c in zip(net.turbines, co.turb):
+        ins[t["outlet"]].append((f"turbine '{t['name']}'" if labels else None,
+                                 x[t["var"]], c["h_out"]))
+    for t, c in zip(net.xturbines, co.xturb):
+        rest = x[t["in_var"]]
+        label = f"extraction turbine '{t['name']}'" if labels else None
+        for j, e in enumerate(t["exts"]):
+            ins[e["header"]].append((label, x[e["var"]], c["h"][j + 1]))
+            rest -= x[e["var"]]
+        if t["exhaust"] is not None:
+            ins[t["exhaust"]].append((label and label + " exhaust", rest, c["h"][-1]))
+    for s, c in zip(net.letdowns, co.ld):
+        ins[s["outlet"]].append((f"letdown '{s['name']}'" if labels else None,
+                                 x[s["var"]] * (1 + c["r"]), c["h_out"]))
+    return ins

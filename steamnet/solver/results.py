@@ -18,8 +18,8 @@ from ..calc.turbine import internal_power, section_flows
 from ..model.stations import StationPoint
 from ..status import CaseStatus
 from ..units import C0, KJ, T_H as TH
-from .balance import IDLE_FLOW, Solution, header_inflows
-from .network import coefficients
+from .balance import IDLE_FLOW, Solution
+from .network import coefficients, header_inflows
 
 __all__ = ["residuals", "water_balance", "header_table", "equipment_table",
            "equipment_rows", "stream_table", "totals", "case_cost", "letdown_points"]

@@ -11,6 +11,7 @@ import math
 from dataclasses import dataclass
 
 from .. import properties as props
+from ..calc.desuperheater import gain_per_ratio, gain_per_spray
 from ..model.stations import StationData, StationLimits, StationPoint
 from .rows import CheckRow, Status
 
@@ -139,3 +140,28 @@ def water_enthalpy(point: StationPoint) -> float | None:
     if point.t_water is not None:
         return props.state_pt(point.p_water or point.p_out, point.t_water).h
     return None
+
+
+def gain_inputs(point: StationPoint) -> tuple[float, float] | None:
+    """(spray water enthalpy [J/kg], outlet cp [J/(kg K)]) of a point whose control
+    gains are defined: steam passes, the spray water is known and the outlet is dry;
+    None otherwise."""
+    if point.m_steam <= 0:
+        return None
+    h_w = water_enthalpy(point)
+    if h_w is None:
+        return None
+    st = outlet(point)
+    if st.is_wet:
+        return None
+    return h_w, st.cp
+
+
+def control_gains(h_water: float, h_in: float, h_out: float, cp_out: float,
+                  m_steam: float, m_spray: float) -> tuple[float, float]:
+    """The two control gains of one operating point, the one place both the gain table
+    and the gain-spread checks take them from: outlet temperature per unit spray flow
+    [K s/kg] and per unit spray-to-steam ratio [K] (signed; see
+    :mod:`steamnet.calc.desuperheater`)."""
+    return (gain_per_spray(h_water, h_out, cp_out, m_steam, m_spray),
+            gain_per_ratio(h_water, h_in, cp_out, m_spray / m_steam))

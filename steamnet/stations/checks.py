@@ -30,13 +30,13 @@ from __future__ import annotations
 from typing import Iterable
 
 from .. import properties as props
-from ..calc.desuperheater import (evaporation_distance, gain_per_ratio, gain_per_spray,
-                                  spray_water_flow)
+from ..calc.desuperheater import evaporation_distance, spray_water_flow
 from ..calc.valve import ValveSizing, size_steam_valve, size_water_valve, valve_travel
 from ..errors import ModelError
+from ..units import T_H
 from ..model.stations import StationData, StationLimits, StationPoint, ValveData
-from ._context import (Ctx, needs_row, outlet, outlet_velocity, point_check, row,
-                       water_enthalpy, water_state)
+from ._context import (Ctx, control_gains, gain_inputs, needs_row, outlet,
+                       outlet_velocity, point_check, row, water_enthalpy, water_state)
 from .rows import CheckRow, Status, grade_high, grade_low, worst
 
 __all__ = [
@@ -50,7 +50,6 @@ __all__ = [
 #: Case name of the rows that compare a station's points across cases.
 ALL_CASES = "all cases"
 MAKERS_DATA = "maker's data"
-_T_H = 3.6          # kg/s to t/h
 _SRC = StationLimits.LIMIT_SOURCES
 
 
@@ -73,8 +72,8 @@ def check_spray_capacity(c: Ctx) -> CheckRow:
         Status.OK: "spray within the desuperheater's capacity",
     }[status]
     return c.row(status, value=100 * share, limit=100 * limit, source=source,
-                 advice=advice, basis=f"spray {c.point.m_spray * _T_H:.3g} t/h of "
-                                      f"maximum {c.ds.max_spray * _T_H:.3g} t/h")
+                 advice=advice, basis=f"spray {c.point.m_spray * T_H:.3g} t/h of "
+                                      f"maximum {c.ds.max_spray * T_H:.3g} t/h")
 
 
 @point_check("approach_to_saturation", "K")
@@ -115,16 +114,16 @@ def check_steam_turndown(c: Ctx) -> CheckRow:
     """
     lo, hi = c.ds.rated_min_steam, c.ds.rated_max_steam
     m = c.point.m_steam
-    value = m * _T_H
+    value = m * T_H
     basis = f"steam {value:.3g} t/h"
     if lo is not None and m < lo:
-        return c.row(Status.FAIL, value=value, limit=lo * _T_H, basis=basis,
+        return c.row(Status.FAIL, value=value, limit=lo * T_H, basis=basis,
                      source=MAKERS_DATA,
                      advice="steam flow below the desuperheater's rated minimum: poor "
                             "atomisation and mixing; consider a smaller parallel "
                             "station")
     if hi is not None and m > hi:
-        return c.row(Status.FAIL, value=value, limit=hi * _T_H, basis=basis,
+        return c.row(Status.FAIL, value=value, limit=hi * T_H, basis=basis,
                      source=MAKERS_DATA,
                      advice="steam flow above the desuperheater's rated maximum; "
                             "confirm the rating with the maker")
@@ -133,8 +132,8 @@ def check_steam_turndown(c: Ctx) -> CheckRow:
     if needs:
         return c.needs(needs, source=MAKERS_DATA, value=value, basis=basis)
     nearer = lo if m / lo < hi / m else hi
-    return c.row(Status.OK, value=value, limit=nearer * _T_H, source=MAKERS_DATA,
-                 basis=basis + f" within rated {lo * _T_H:.3g} to {hi * _T_H:.3g} t/h",
+    return c.row(Status.OK, value=value, limit=nearer * T_H, source=MAKERS_DATA,
+                 basis=basis + f" within rated {lo * T_H:.3g} to {hi * T_H:.3g} t/h",
                  advice="steam flow within the rated range")
 
 
@@ -142,17 +141,17 @@ def check_steam_turndown(c: Ctx) -> CheckRow:
 def check_spray_turndown(c: Ctx) -> CheckRow:
     """Spray flow against the nozzle's minimum controllable spray."""
     lo = c.ds.min_spray
-    value = c.point.m_spray * _T_H
+    value = c.point.m_spray * T_H
     if lo is None:
         return c.needs(["the nozzle's minimum controllable spray flow"],
                        source=MAKERS_DATA, value=value)
     if c.point.m_spray < lo:
-        return c.row(Status.FAIL, value=value, limit=lo * _T_H, source=MAKERS_DATA,
+        return c.row(Status.FAIL, value=value, limit=lo * T_H, source=MAKERS_DATA,
                      basis="spray flow",
                      advice="spray below the nozzle's minimum controllable flow: poor "
                             "atomisation and unsteady control; consider a smaller or "
                             "a variable-area nozzle")
-    return c.row(Status.OK, value=value, limit=lo * _T_H, source=MAKERS_DATA,
+    return c.row(Status.OK, value=value, limit=lo * T_H, source=MAKERS_DATA,
                  basis="spray flow",
                  advice="spray above the nozzle's minimum controllable flow")
 
@@ -379,11 +378,9 @@ def _gains(data: StationData, points: list[StationPoint]):
     out = []
     usable = []
     for p in points:
-        h_w = water_enthalpy(p)
-        if p.m_steam > 0 and h_w is not None:
-            st = outlet(p)
-            if not st.is_wet:
-                usable.append((p, h_w, st.cp))
+        got = gain_inputs(p)
+        if got is not None:
+            usable.append((p, *got))
     for p, h_w, cp in usable:
         out.append((p.case, p.m_steam, p.m_spray, p.h_in, p.h_out, h_w, cp))
     m_min = data.desuperheater.rated_min_steam
@@ -391,8 +388,7 @@ def _gains(data: StationData, points: list[StationPoint]):
         p, h_w, cp = min(usable, key=lambda u: u[0].m_steam)
         m_w = spray_water_flow(m_min, p.h_in, p.h_out, h_w)
         out.append((_RATED_MIN, m_min, m_w, p.h_in, p.h_out, h_w, cp))
-    return [(label, abs(gain_per_spray(h_w, h_out, cp, m_s, m_w)),
-             abs(gain_per_ratio(h_w, h_in, cp, m_w / m_s)))
+    return [(label, *map(abs, control_gains(h_w, h_in, h_out, cp, m_s, m_w)))
             for label, m_s, m_w, h_in, h_out, h_w, cp in out]
 
 

@@ -11,7 +11,8 @@ import operator
 from enum import Enum
 from typing import NamedTuple
 
-__all__ = ["Status", "CheckRow", "SEVERITY", "worst", "grade_high", "grade_low"]
+__all__ = ["Status", "CheckRow", "CHECK_COLUMNS", "SEVERITY", "worst", "grade_high",
+           "grade_low"]
 
 
 class Status(str, Enum):
@@ -43,6 +44,11 @@ def worst(statuses) -> Status:
         Most severe verdict by :data:`SEVERITY` [-]
     """
     return max(statuses, key=SEVERITY.__getitem__, default=Status.NOT_APPLICABLE)
+
+
+#: Columns of the checks table, in the order of :class:`CheckRow`'s fields.
+CHECK_COLUMNS = ("case", "station", "check", "value", "limit", "unit", "status", "basis",
+                 "source", "advice")
 
 
 class CheckRow(NamedTuple):

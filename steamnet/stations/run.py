@@ -13,21 +13,17 @@ from itertools import chain
 
 import pandas as pd
 
-from .. import properties as props
 from .._gc import young_collections_only
-from ..calc.desuperheater import gain_per_ratio, gain_per_spray
-from ..errors import ModelError, ModelErrors
-from .checks import check_across_cases, check_point
 from ..model.stations import StationData, StationPoint
 from ..solver.results import letdown_points
-from .rows import SEVERITY, CheckRow, Status
 from ..status import CaseStatus
+from ..units import T_H as TH
+from ._context import control_gains, gain_inputs
+from .checks import check_across_cases, check_point
+from .rows import CHECK_COLUMNS, SEVERITY, CheckRow, Status
 
 __all__ = ["StationReport", "PointChecks", "station_points", "point_checks", "run_checks"]
 
-TH = 3.6
-CHECK_COLUMNS = ["case", "station", "check", "value", "limit", "unit", "status", "basis",
-                 "source", "advice"]
 
 
 @dataclass(frozen=True)
@@ -79,16 +75,13 @@ GAIN_COLUMNS = ["case", "station", "steam_t_h", "spray_t_h", "ratio", "gain_k_pe
 
 def _gain_row(point: StationPoint) -> tuple | None:
     """The point's control gains in GAIN_COLUMNS order (None when not defined)."""
-    if point.h_water is None or point.m_steam <= 0:
+    got = gain_inputs(point)
+    if got is None:
         return None
-    st = props.state_ph(point.p_out, point.h_out)
-    if st.is_wet:
-        return None
-    g = gain_per_spray(point.h_water, point.h_out, st.cp, point.m_steam, point.m_spray)
-    r = point.m_spray / point.m_steam
-    gr = gain_per_ratio(point.h_water, point.h_in, st.cp, r)
-    return (point.case, point.station, point.m_steam * TH, point.m_spray * TH, r, g / TH,
-            gr)
+    g, gr = control_gains(got[0], point.h_in, point.h_out, got[1], point.m_steam,
+                          point.m_spray)
+    return (point.case, point.station, point.m_steam * TH, point.m_spray * TH,
+            point.m_spray / point.m_steam, g / TH, gr)
 
 
 @dataclass(frozen=True)

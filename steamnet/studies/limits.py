@@ -18,10 +18,10 @@ import math
 from dataclasses import dataclass
 
 from ..model.schema import ITEM_LABELS
+from ..units import T_H as TH
 
 __all__ = ["Check", "limit_checks", "newly_binding", "station_loads", "TH"]
 
-TH = 3.6                       # kg/s -> t/h
 _TOL = {"kg/s": 1e-6, "J/kg": 1e-3}
 
 

@@ -13,6 +13,7 @@ from __future__ import annotations
 
 import math
 
+from ..units import T_H as _TH
 from . import style
 from .columns import Column, col
 from .sheet import Table
@@ -22,7 +23,6 @@ __all__ = ["build_findings", "findings_table", "FINDING_KEYS"]
 FINDING_KEYS = ("severity", "case", "case_status", "item", "check", "value", "limit",
                 "unit", "advice", "basis")
 
-_TH = 3.6   # kg/s -> t/h
 
 
 def _f(severity, case, status, item, check, value=None, limit=None, unit="", advice="",

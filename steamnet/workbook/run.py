@@ -8,6 +8,7 @@ from functools import cached_property
 
 import pandas as pd
 
+from ..stations.rows import CHECK_COLUMNS
 from . import style
 
 __all__ = ["Run", "LARGE_RUN", "CHECK_COLUMNS", "POINT_KEYS"]
@@ -16,9 +17,6 @@ __all__ = ["Run", "LARGE_RUN", "CHECK_COLUMNS", "POINT_KEYS"]
 #: one row per case instead of one column, and per-case bar charts are left out.
 LARGE_RUN = 60
 
-#: Columns a table of station checks has (the station checks' long table).
-CHECK_COLUMNS = ("case", "station", "check", "value", "limit", "unit", "status", "basis",
-                 "source", "advice")
 
 
 #: The columns of a let-down station's row of the equipment table kept per case.

@@ -4,6 +4,7 @@ station across all cases (operating range, limits, cases in each verdict, worst 
 
 from __future__ import annotations
 
+from ..units import T_H as _TH
 from . import style
 from .columns import Column, clean_number, col, format_for_unit, label_of
 from .run import POINT_KEYS, Run
@@ -12,7 +13,6 @@ from .sheet import Table
 __all__ = ["stations_table", "checks_table", "station_summary_table", "station_limits",
            "STATION_KEYS"]
 
-_TH = 3.6
 
 #: Balance columns of the stations sheet (from the equipment table's let-down rows).
 STATION_KEYS = POINT_KEYS[1:]

@@ -1,0 +1,151 @@
+"""Why a case does not balance, in words: the findings of an infeasible case.
+
+Each finding is a dict with the header concerned, the side (``short``, ``long``,
+``deaerator``, ``turbine``, ``user``, ``heat_loss``), the amount [kg/s], the limits that
+bind (as text) and a one-line message.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from ..units import T_H
+from .network import INF, Coeffs, Net, group_bounds as _group_bounds, header_inflows
+
+__all__ = ["exhausted_findings", "derived_findings", "cold_findings", "fmt_th"]
+
+
+def _item_label(net: Net, vi: int) -> str:
+    v = net.vars[vi]
+    labels = {"boiler": "boiler", "transfer": "steam transfer", "turbine": "turbine",
+              "xt_in": "extraction turbine", "xt_ext": "extraction",
+              "letdown": "letdown", "vent": "vent", "da_steam": "deaerator",
+              "da_makeup": "deaerator"}
+    return f"{labels[v.kind]} '{v.item}'"
+
+
+def fmt_th(kg_s: float) -> str:
+    """A flow [kg/s] as text in t/h."""
+    return f"{kg_s * T_H:.2f} t/h"
+
+
+def _limit_text(net: Net, vi: int, which: str, eff) -> str:
+    lo, hi = eff.get(vi, (net.vars[vi].lo, net.vars[vi].hi))
+    val = hi if which == "max" else lo
+    return f"{_item_label(net, vi)} at its {which}imum {fmt_th(val)}"
+
+
+def _group_limit_texts(net: Net, g, which: str, eff) -> list[str]:
+    """The limit of each member of a swing group. A member sharing load with others is
+    held by the group's limit, which is its own only for the member that binds; the
+    others are named at their share (not at a maximum of their own, maybe infinite)."""
+    if len(g.members) == 1:
+        return [_limit_text(net, g.members[0], which, eff)]
+    glo, ghi = _group_bounds(net, g, eff)
+    level = ghi if which == "max" else glo
+    out = []
+    for vi, w in zip(g.members, g.weights):
+        lo, hi = eff.get(vi, (net.vars[vi].lo, net.vars[vi].hi))
+        own = (hi if which == "max" else lo) / w
+        if abs(own - level) <= 1e-9 * max(1.0, abs(level)):
+            out.append(_limit_text(net, vi, which, eff))
+        else:
+            out.append(f"{_item_label(net, vi)} at its share {100 * w:.3g} % of the "
+                       f"group, {fmt_th(level * w)}")
+    return out
+
+
+def exhausted_findings(net: Net, exhausted, modes, eff) -> list[dict]:
+    out = []
+    for hi, side, amount in exhausted:
+        hs = net.swing[hi]
+        name = net.headers[hi]
+        if side == "short":
+            limits = [t for g in hs.groups for t in _group_limit_texts(net, g, "max", eff)]
+            msg = (f"header '{name}' is short of steam by {fmt_th(amount)}: every "
+                   "element that can supply it is at its limit")
+        else:
+            limits = [t for g in hs.groups for t in _group_limit_texts(net, g, "min", eff)]
+            limits += [f"{_item_label(net, vi)} at its capacity "
+                       f"{fmt_th(net.vars[vi].hi)}" for vi in hs.absorbers]
+            if not hs.absorbers:
+                limits.append("no vent or swing export on this header")
+            msg = (f"header '{name}' has {fmt_th(amount)} of steam in excess: its "
+                   "suppliers are at their minimum and nothing more can take it")
+        out.append({"kind": "infeasible", "header": name, "side": side,
+                    "amount_kg_s": amount, "limits": limits,
+                    "message": msg + (" (" + "; ".join(limits) + ")" if limits else "")})
+    return out
+
+
+def derived_findings(net: Net, co: Coeffs, x: np.ndarray, tol: float) -> list[dict]:
+    """Flows that are not swing variables but must still be physical."""
+    out = []
+    da = net.deaerator
+    if da is not None:
+        d, mu = x[da["steam_var"]], x[da["makeup_var"]]
+        if d < -tol:
+            out.append({"kind": "infeasible", "header": net.headers[da["header"]],
+                        "side": "deaerator", "amount_kg_s": -d, "limits": [],
+                        "message": f"deaerator '{da['name']}' would need negative heating "
+                        f"steam ({fmt_th(d)}): returns and make-up bring more heat than "
+                        "the feedwater takes"})
+        if mu < -tol:
+            out.append({"kind": "infeasible", "header": net.headers[da["header"]],
+                        "side": "deaerator", "amount_kg_s": -mu, "limits": [],
+                        "message": f"deaerator '{da['name']}' would need negative make-up "
+                        f"({fmt_th(mu)}): more water returns than the plant uses"})
+    for t, c in zip(net.turbines, co.turb):
+        it = t["item"]
+        m = x[t["var"]]
+        if t["mode"] == "fixed_power":
+            hi = INF if it.max_flow is None else it.max_flow
+            if m > hi + tol or m < it.min_flow - tol:
+                out.append({"kind": "infeasible", "header": net.headers[t["inlet"]],
+                            "side": "turbine", "amount_kg_s": m, "limits": [],
+                            "message": f"turbine '{t['name']}' needs {fmt_th(m)} for its "
+                            f"fixed power, outside its range {fmt_th(it.min_flow)} to "
+                            f"{fmt_th(hi)}"})
+    for t, c in zip(net.xturbines, co.xturb):
+        it = t["item"]
+        s1 = x[t["in_var"]]
+        ex = s1 - sum(x[e["var"]] for e in t["exts"])
+        hi = INF if it.max_flow is None else it.max_flow
+        hx = INF if it.max_exhaust_flow is None else it.max_exhaust_flow
+        bad = []
+        if s1 > hi + tol or s1 < it.min_flow - tol:
+            bad.append(f"throttle flow {fmt_th(s1)} outside {fmt_th(it.min_flow)} to "
+                       f"{fmt_th(hi)}")
+        if ex > hx + tol or ex < it.min_exhaust_flow - tol:
+            bad.append(f"exhaust flow {fmt_th(ex)} outside "
+                       f"{fmt_th(it.min_exhaust_flow)} to {fmt_th(hx)}")
+        for e in t["exts"]:
+            if x[e["var"]] < -tol:
+                bad.append(f"extraction to '{net.headers[e['header']]}' negative")
+        if bad:
+            out.append({"kind": "infeasible", "header": net.headers[t["inlet"]],
+                        "side": "turbine", "amount_kg_s": 0.0, "limits": bad,
+                        "message": f"extraction turbine '{t['name']}': " + "; ".join(bad)})
+    for u, starved in zip(net.users, co.user_starved):
+        if starved:
+            out.append({"kind": "infeasible", "header": net.headers[u["header"]],
+                        "side": "user", "amount_kg_s": 0.0, "limits": [],
+                        "message": f"user '{u['name']}': header steam carries (almost) "
+                        "no heat above saturated liquid (under 1 % of the latent heat), so "
+                        "its duty cannot be met"})
+    return out
+
+
+def cold_findings(net: Net, co: Coeffs, x: np.ndarray, cold: list[int]) -> list[dict]:
+    out = []
+    ins = header_inflows(net, co, x, labels=False)
+    for i in cold:
+        name = net.headers[i]
+        m = sum(max(f, 0.0) for _, f, _ in ins[i])
+        lim = f"heat loss {net.q_loss[i] / 1e3:.4g} kW"
+        out.append({"kind": "infeasible", "header": name, "side": "heat_loss",
+                    "amount_kg_s": 0.0, "limits": [lim],
+                    "message": f"header '{name}': its {lim} is more than its steam "
+                    f"inflow of {fmt_th(m)} brings above saturated liquid; the steam "
+                    "would condense in the header"})
+    return out
