@@ -106,6 +106,9 @@ class StudyResult:
     #: single-point station checks made while solving (``station_checks=``), one
     #: :class:`~steamnet.stations.run.PointChecks` per chunk; :func:`run_checks` uses them
     point_checks: list | None = None
+    #: the same chunks' :class:`~steamnet.evaluate.ChunkFindings` (station rows and
+    #: balance rows), which :func:`steamnet.evaluate.evaluate` uses
+    findings_blocks: list | None = None
 
     def _cat(self, attr: str) -> pd.DataFrame:
         frames = [getattr(c, attr) for c in self.cases if len(getattr(c, attr))]

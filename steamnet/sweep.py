@@ -238,13 +238,16 @@ def solve_cases(model: Model, cases: Iterable | None = None, *,
     extra = None
     if station_checks is not False and station_checks is not None:
         from functools import partial
-        from .stations.run import point_checks
-        extra = partial(point_checks, model.stations if station_checks is True
+        from .evaluate import chunk_findings
+        extra = partial(chunk_findings, model.stations if station_checks is True
                         else station_checks)
     if not specs:
-        one = [solve_case(model, reference=reference)]
-        return StudyResult(model, one, None if extra is None else [extra(one)])
-    out, blocks = run_sweep(model, specs, workers=workers, scheduler=scheduler,
-                            tables=tables, progress=progress, warm_start=warm_start,
-                            reference=reference, extra=extra)
-    return StudyResult(model, out, blocks)
+        out = [solve_case(model, reference=reference)]
+        blocks = None if extra is None else [extra(out)]
+    else:
+        out, blocks = run_sweep(model, specs, workers=workers, scheduler=scheduler,
+                                tables=tables, progress=progress, warm_start=warm_start,
+                                reference=reference, extra=extra)
+    if blocks is None:
+        return StudyResult(model, out)
+    return StudyResult(model, out, [b.points for b in blocks], findings_blocks=blocks)

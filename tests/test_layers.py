@@ -19,6 +19,7 @@ LAYERS = [
     {"steamnet.model"},
     {"steamnet.solver"},
     {"steamnet.stations"},
+    {"steamnet.evaluate"},
     {"steamnet.solve"},
     {"steamnet.sweep"},
     {"steamnet.io", "steamnet.testing"},

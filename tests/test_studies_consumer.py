@@ -78,7 +78,8 @@ condensate_temperature = "90 degC"
                                                             rel=1e-9, abs=1e-9)
     # per case, totals first, then headers, then equipment
     sections = list(df[df["case"] == "winter"]["section"])
-    assert sections == sorted(sections, key=["total", "header", "equipment"].index)
+    assert sections == sorted(sections, key=["total", "header", "equipment",
+                                             "finding"].index)
 
 
 def test_bad_consumer_input_names_the_option():

@@ -145,8 +145,9 @@ def gain_per_spray(h_water: float, h_out: float, cp_out: float, m_steam: float,
 
     Notes
     -----
-    The gain falls as 1 / (steam + spray flow): a loop tuned at full flow is
-    sluggish there and too lively at minimum flow (common practice, no source).
+    The gain falls as 1 / (steam + spray flow): the gain at low flow is many times the
+    gain at full flow, so a loop tuned at full flow becomes aggressive at minimum flow
+    (common practice, no source).
     """
     _finite(h_water=h_water, h_out=h_out, cp_out=cp_out, m_steam=m_steam,
             m_spray=m_spray)

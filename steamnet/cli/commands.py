@@ -68,24 +68,34 @@ def check(model: str) -> None:
 @click.pass_context
 def solve(ctx, model: str, cases: tuple[str, ...], json_path: str | None,
           quiet: bool, workers: int, scheduler: str | None) -> None:
-    """Solve every case of MODEL and print a summary per case.
+    """Solve every case of MODEL and print a summary per case, then the findings of
+    every balance (the same evaluation as ``steamnet stations``).
 
-    Exit 0 when every case solved, 1 when any case is infeasible or did not converge.
+    \b
+    Exit codes: 0 when every case balances and no check fails; 1 when a case is
+    infeasible, did not converge or could not be computed, or a check fails; 2 for bad
+    input; 3 when the JSON file could not be written.
     """
+    from ..evaluate import evaluate
+    from .verdict import finish_evaluation, print_findings
     m = load_model(model)
     for name in cases:
         m.case(name)
     study = solve_cases(m, list(cases) if cases else None, workers=workers,
-                        scheduler=scheduler)
+                        scheduler=scheduler, station_checks=True)
+    ev = evaluate(study)
     if not quiet:
         print_summary(study)
     else:
         for c in study.cases:
             if not c.ok:
                 click.echo(f"case '{c.case}': {c.status}: {c.message}")
+    if not quiet:
+        click.echo("")
+        print_findings(ev.findings, limit=10)
     if json_path:
         from ..io.jsonout import write_json
-        write_json(study, json_path)
+        write_json(study, json_path, extra={"findings": ev.findings})
         if not quiet:
             click.echo(f"\nwrote {json_path}")
-    ctx.exit(EXIT_OK if study.all_solved else EXIT_FAIL)
+    finish_evaluation(ctx, study, ev)

@@ -7,7 +7,7 @@ import click
 from ..errors import ModelError
 from ..model.load import load_model
 from ..sweep import solve_cases
-from . import EXIT_FAIL, EXIT_OK, main
+from . import main
 
 
 @main.command()
@@ -37,11 +37,17 @@ def report(ctx, model: str, out: str, csv_folder: str | None, cases: tuple[str, 
            quiet: bool) -> None:
     """Solve every case of MODEL and write the results workbook to OUT.
 
-    Exit 0 when every case balanced, 1 when a case is infeasible or did not converge
-    (the workbook is still written and marks it), 2 for bad input, 3 when a file cannot
-    be written (the previous file is left as it was).
+    The studies start from the balances of the cases already solved; every balance goes
+    through the same evaluation as ``steamnet stations``.
+
+    \b
+    Exit codes: 0 when every case balances and no check fails; 1 when a case is
+    infeasible, did not converge or could not be computed, or a check fails (the
+    workbook is still written and shows it); 2 for bad input; 3 when a file cannot be
+    written (the previous file is left as it was).
     """
-    from ..stations.run import run_checks
+    from ..evaluate import evaluate
+    from .verdict import finish_evaluation
     from ..workbook import write_csv_folder, write_workbook
     m = load_model(model)
     data = m.stations
@@ -52,10 +58,12 @@ def report(ctx, model: str, out: str, csv_folder: str | None, cases: tuple[str, 
     if network_case is not None and network_case not in names:
         raise ModelError(f"no case '{network_case}' in this run (cases: "
                          f"{', '.join(names)})", item="option --network-case")
-    checks = run_checks(study, data=data)
+    ev = evaluate(study, data=data)
+    checks = ev.stations
     studies = _run_studies(m, list(cases) if cases else None, len(study.cases),
                            studies_mode, new_user, new_user_return,
-                           new_user_return_temperature, quiet)
+                           new_user_return_temperature, quiet,
+                           solved={c.case: c for c in study.cases})
     write_workbook(out, study, checks=checks.checks, envelopes=checks.envelopes,
                    gains=checks.gains, studies=studies, network_case=network_case)
     if csv_folder:
@@ -66,14 +74,14 @@ def report(ctx, model: str, out: str, csv_folder: str | None, cases: tuple[str, 
             click.echo(f"case '{c.case}': {c.status}: {c.message}")
     if not quiet:
         solved = sum(c.ok for c in study.cases)
-        counts = checks.checks["status"].value_counts().to_dict()
-        click.echo("station checks: " + ", ".join(
+        counts = ev.findings["status"].value_counts().to_dict()
+        click.echo("findings: " + ", ".join(
             f"{counts.get(k, 0)} {k.replace('_', ' ')}"
             for k in ("fail", "warn", "not_assessed", "ok")) + " (see the Findings sheet)")
         click.echo(f"wrote {out} ({len(study.cases)} cases, {solved} balanced)")
         if csv_folder:
             click.echo(f"wrote the tables as CSV files into {csv_folder}")
-    ctx.exit(EXIT_OK if study.all_solved else EXIT_FAIL)
+    finish_evaluation(ctx, study, ev)
 
 
 #: Above this many cases, --studies auto skips the studies (each needs several balances
@@ -81,23 +89,27 @@ def report(ctx, model: str, out: str, csv_folder: str | None, cases: tuple[str, 
 STUDY_CASES_AUTO = 60
 
 
-def _run_studies(m, cases, n_cases, mode, new_user, ret, ret_t, quiet) -> dict:
+def _run_studies(m, cases, n_cases, mode, new_user, ret, ret_t, quiet,
+                 solved: dict | None = None) -> dict:
     """The study tables for the workbook: name -> DataFrame."""
     from ..studies.headroom import header_headroom
     from ..studies.marginal import marginal_steam_cost
     from ..studies.progress import ProgressBar
-    from ..studies.trips import trip_screening
+    from ..studies.trips import screen_trips
     out = {}
     run_std = mode == "all" or (mode == "auto" and n_cases <= STUDY_CASES_AUTO)
     if mode == "auto" and not run_std and not quiet:
         click.echo(f"{n_cases} cases: studies skipped (use --studies all to run them)")
     if run_std:
         with ProgressBar("trip screening", quiet=quiet) as bar:
-            out["Trip screening"] = trip_screening(m, cases, progress=bar)
+            trips = screen_trips(m, cases, progress=bar)
+        out["Trip screening"] = trips.table
+        out["Trip findings"] = trips.findings
         with ProgressBar("headroom", quiet=quiet) as bar:
-            out["Headroom"] = header_headroom(m, cases, progress=bar)
+            out["Headroom"] = header_headroom(m, cases, progress=bar, solved=solved)
         with ProgressBar("marginal steam cost", quiet=quiet) as bar:
-            out["Marginal steam cost"] = marginal_steam_cost(m, cases, progress=bar)
+            out["Marginal steam cost"] = marginal_steam_cost(m, cases, progress=bar,
+                                                             solved=solved)
     if new_user:
         from ..studies.consumer import new_consumer_impact
         if "=" not in new_user:
@@ -113,6 +125,6 @@ def _run_studies(m, cases, n_cases, mode, new_user, ret, ret_t, quiet) -> dict:
         with ProgressBar("new consumer", quiet=quiet) as bar:
             out["New consumer"] = new_consumer_impact(
                 m, header, **{kind: amount}, condensate_return=ret,
-                condensate_temperature=ret_t, cases=cases, progress=bar)
+                condensate_temperature=ret_t, cases=cases, progress=bar, solved=solved)
     return out
 

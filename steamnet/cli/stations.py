@@ -6,23 +6,8 @@ import click
 
 from ..model.load import load_model
 from ..sweep import solve_cases
-from . import EXIT_FAIL, EXIT_OK, main
-
-
-def print_findings(report, limit: int = 25) -> None:
-    """Worst findings first: fail, warn, not assessed; then a count per verdict."""
-    worst = report.worst_first()
-    bad = worst[worst["status"].isin(["fail", "warn", "not_assessed"])]
-    counts = report.checks["status"].value_counts().to_dict()
-    click.echo("station checks: " + ", ".join(f"{counts.get(k, 0)} {k}"
-                                              for k in ("fail", "warn", "not_assessed", "ok")))
-    for _, r in bad.head(limit).iterrows():
-        val = "-" if r["value"] is None or r["value"] != r["value"] else f"{r['value']:.3g}"
-        lim = "-" if r["limit"] is None or r["limit"] != r["limit"] else f"{r['limit']:.3g}"
-        click.echo(f"  {r['status'].upper():<12} {r['station']:<10} {r['case']:<18} "
-                   f"{r['check']:<24} {val:>8} {r['unit']:<4} (limit {lim}): {r['advice']}")
-    if len(bad) > limit:
-        click.echo(f"  ... {len(bad) - limit} more (see the JSON export or the workbook)")
+from . import main
+from .verdict import EXIT_CODES_HELP, finish_evaluation, print_findings
 
 
 @main.command()
@@ -34,12 +19,18 @@ def print_findings(report, limit: int = 25) -> None:
               "worst.")
 @click.pass_context
 def stations(ctx, model, cases, json_path, show_all):
-    """Check every let-down station of MODEL in every case (engineering.md section 8).
+    """Check every let-down station of MODEL in every case (docs/checks/index.md).
 
-    Prints the worst findings first. Exit 0 when no check failed, 1 when any check
-    failed or a case did not solve.
+    Prints the spray of each station per case, then the findings of every balance worst
+    first: the balance itself, what it flags, and every station check (the same
+    evaluation every command uses).
+
+    \b
+    Exit codes: 0 when every case balances and no check fails; 1 when a case does not
+    balance or a check fails; 2 for bad input; 3 when the JSON file could not be
+    written.
     """
-    from ..stations.run import run_checks
+    from ..evaluate import evaluate
     m = load_model(model)
     data = m.stations
     for name in cases:
@@ -48,12 +39,30 @@ def stations(ctx, model, cases, json_path, show_all):
     for c in study.cases:
         if not c.ok:
             click.echo(f"case '{c.case}': {c.status}: {c.message}")
-    report = run_checks(study, data=data)
-    print_findings(report, limit=10**9 if show_all else 25)
+    ev = evaluate(study, data=data)
+    report = ev.stations
+    print_spray(study)
+    print_findings(ev.findings, limit=10**9 if show_all else 25)
     if json_path:
         from ..io.jsonout import write_json
-        write_json(study, json_path, extra={"stations": {
+        write_json(study, json_path, extra={"findings": ev.findings, "stations": {
             "checks": report.checks, "envelopes": report.envelopes,
             "gains": report.gains}})
         click.echo(f"wrote {json_path}")
-    ctx.exit(EXIT_FAIL if (report.failed or not study.all_solved) else EXIT_OK)
+    finish_evaluation(ctx, study, ev)
+
+
+def print_spray(study) -> None:
+    """Steam and spray of every let-down station per case, compact."""
+    rows = []
+    for c in study.cases:
+        eq = c.equipment
+        if not len(eq):
+            continue
+        for r in eq[eq["type"] == "letdown"].itertuples(index=False):
+            rows.append((r.item, c.case, r.flow_t_h, getattr(r, "spray_t_h", 0.0)))
+    if not rows:
+        return
+    click.echo("let-down stations, steam and spray [t/h]:")
+    for item, case, flow, spray in rows:
+        click.echo(f"  {item:<12} {case:<18} steam {flow:8.2f}  spray {spray:7.2f}")

@@ -16,9 +16,12 @@ from ..errors import ModelError
 from ..model.load import load_model
 from ..studies import (case_results, header_headroom, marginal_steam_cost,
                        model_case_set, new_consumer_impact, read_case_table,
-                       solve_case_set, trip_screening)
+                       solve_case_set)
+from ..studies.trips import screen_trips
 from ..studies.progress import ProgressBar
 from . import EXIT_FAIL, EXIT_OK, main, parallel_options
+from ..evaluate import evaluate
+from .verdict import EXIT_CODES_HELP, finish, finish_evaluation, print_findings
 from ..status import CaseStatus
 
 _CAUTION = ("Results support studies; they do not replace licensed engineering, the "
@@ -108,6 +111,11 @@ def _write_json(study, path, key: str, payload: dict, quiet: bool) -> None:
         click.echo(f"\nwrote {path}")
 
 
+def _solved(study) -> dict:
+    """The balances of a study by case name, for a study to start from."""
+    return {c.case: c for c in study.cases}
+
+
 def _base_study(cs, quiet: bool, workers: int = 1, scheduler: str | None = None):
     """The balances of the cases themselves, for the JSON export."""
     with ProgressBar("balancing the cases", quiet=quiet) as bar:
@@ -127,7 +135,13 @@ def cases_command(ctx, model, table, base, cases, json_path, quiet, rows, worker
 
     TABLE is a .csv or .xlsx file with a 'case' column (or 'timestamp' for an hourly
     profile), optional 'based_on' and 'description', and one column per change such as
-    'user.PM1 dryer section.demand [t/h]' (docs/howto-cases.md).
+    'user.PM1 dryer section.demand [t/h]' (docs/howto-cases.md). Every row's balance
+    goes through the same evaluation as a model case (balance, flags, station checks).
+
+    \b
+    Exit codes: 0 when every case balances and no check fails; 1 when a case does not
+    balance or a check fails; 2 for bad input; 3 when the JSON file could not be
+    written.
     """
     m = load_model(model)
     cs = _case_set(m, table, base, cases, quiet)
@@ -156,12 +170,16 @@ def cases_command(ctx, model, table, base, cases, json_path, quiet, rows, worker
                          "cost_per_h": (f"cost {m.site.currency}/h", 0)}, rows)
     for r in bad.itertuples():
         click.echo(f"case '{r.case}': {r.status}: {r.message}")
+    ev = evaluate(study)
+    if not quiet:
+        click.echo("")
+        print_findings(ev.findings, limit=rows or 10**9)
     _caution(quiet)
     if json_path:
         _write_json(study, json_path, "case_table",
-                    {"source": table, "base": base or "", "kind": cs.kind, "rows": df},
-                    quiet)
-    ctx.exit(EXIT_OK if not len(bad) else EXIT_FAIL)
+                    {"source": table, "base": base or "", "kind": cs.kind, "rows": df,
+                     "findings": ev.findings}, quiet)
+    finish_evaluation(ctx, study, ev)
 
 
 # ------------------------------------------------------------------------ trips
@@ -174,16 +192,21 @@ def cases_command(ctx, model, table, base, cases, json_path, quiet, rows, worker
 def trips_command(ctx, model, cases, table, base, json_path, quiet, rows, boilers,
                   workers, scheduler):
     """Trip each running turbine (and with --boilers each boiler) of each case in turn;
-    the post-trip steam and spray of every let-down station against its limits, worst
-    first (docs/howto-trips.md).
+    the post-trip steam and spray of every let-down station against its limits, and
+    every finding of the tripped balance (the same checks as ``steamnet stations``),
+    worst first (docs/howto-trips.md).
 
-    Exit 1 when a trip leaves the plant unable to balance or a station beyond a limit.
+    \b
+    Exit codes: 0 when every trip balances and no check of a tripped balance fails; 1
+    when a trip leaves the plant unable to balance or a check fails after a trip; 2 for
+    bad input; 3 when the JSON file could not be written.
     """
     m = load_model(model)
     cs = _case_set(m, table, base, cases, quiet)
     with ProgressBar("trip screening", quiet=quiet) as bar:
-        df = trip_screening(m, cs, boilers=boilers, progress=bar, workers=workers,
-                            scheduler=scheduler)
+        screened = screen_trips(m, cs, boilers=boilers, progress=bar, workers=workers,
+                                scheduler=scheduler)
+    df, trip_findings = screened.table, screened.findings
     findings = df[df["row"] == "finding"]
     over = df[(df["row"] == "station") & (df["verdict"] == "over limit")]
     if not quiet:
@@ -210,12 +233,25 @@ def trips_command(ctx, model, cases, table, base, json_path, quiet, rows, boiler
         for r in over.itertuples():
             click.echo(f"  case '{r.case}', trip of {r.trip}: station {r.station} "
                        f"{r.worst_limit} at {r.worst_use_percent:.0f} %")
+    if not quiet:
+        shown = trip_findings.assign(case=trip_findings["case"] + ", trip of " +
+                                     trip_findings["trip"])
+        click.echo("")
+        print_findings(shown, limit=rows or 10**9, title="findings after the trips")
     _caution(quiet)
     if json_path:
         base = _base_study(cs, True, workers, scheduler)
-        _write_json(base, json_path, "trip_screening", {"boilers": boilers, "rows": df},
+        _write_json(base, json_path, "trip_screening", {"boilers": boilers, "rows": df,
+                                                        "findings": trip_findings},
                     quiet)
-    ctx.exit(EXIT_OK if not (len(findings) or len(over)) else EXIT_FAIL)
+    cannot = findings[["case", "trip"]].drop_duplicates()
+    finish(ctx, not_balanced=[f"{c}, trip of {t}" if t else c
+                              for c, t in cannot.itertuples(index=False)],
+           fails=int(((trip_findings["status"] == "fail")
+                      & (trip_findings["check"] != "balance")).sum())
+           if len(trip_findings) else 0,
+           warns=int((trip_findings["status"] == "warn").sum())
+           if len(trip_findings) else 0, what="after the trips")
 
 
 # --------------------------------------------------------------------- add-user
@@ -235,7 +271,15 @@ def trips_command(ctx, model, cases, table, base, json_path, quiet, rows, boiler
 def add_user_command(ctx, model, header, demand, duty, ret, return_temperature, name,
                      cases, table, base, json_path, quiet, rows):
     """Add a steam user to every case (or --case) without editing MODEL, and show what
-    changes: plant totals, headers, equipment flows (docs/howto-new-consumer.md)."""
+    changes: plant totals, headers, equipment flows, and the findings the addition
+    creates, worsens or clears against the same case without it
+    (docs/howto-new-consumer.md).
+
+    \b
+    Exit codes: 0 when the addition makes no case infeasible and no check fail that
+    passed without it; 1 when it does (or a case does not balance even without it); 2
+    for bad input; 3 when the JSON file could not be written.
+    """
     m = load_model(model)
     cs = _case_set(m, table, base, cases, quiet)
     with ProgressBar("new consumer", quiet=quiet) as bar:
@@ -264,6 +308,15 @@ def add_user_command(ctx, model, header, demand, duty, ret, return_temperature, 
                     cols, 0)
         click.echo("  equipment, largest change first:")
         _print_rows(d[d["section"] == "equipment"], cols, rows)
+        fd = d[d["section"] == "finding"]
+        if len(fd):
+            click.echo("  findings the addition changes:")
+            for r in fd.itertuples(index=False):
+                click.echo(f"    {r.effect:<9} {r.item:<12} {r.quantity:<24} "
+                           f"{r.verdict_without} -> {r.verdict_with.upper()}"
+                           f"  ({r.advice})")
+                if r.source:
+                    click.echo(f"              source: {r.source}")
     _caution(quiet)
     if json_path:
         _write_json(_base_study(cs, True), json_path, "new_consumer",
@@ -271,7 +324,16 @@ def add_user_command(ctx, model, header, demand, duty, ret, return_temperature, 
                               "duty": duty, "condensate_return": ret,
                               "condensate_temperature": return_temperature},
                      "rows": df}, quiet)
-    ctx.exit(EXIT_OK if not len(bad) else EXIT_FAIL)
+    fd = df[df["section"] == "finding"]
+    made_fail = fd[(fd["verdict_with"] == "fail") & (fd["verdict_without"] != "fail")
+                   & (fd["quantity"] != "balance")]
+    cases_bad = df.drop_duplicates("case")
+    infeasible = [c for c, s0, s1 in zip(cases_bad["case"], cases_bad["status_without"],
+                                         cases_bad["status_with"])
+                  if s1 != CaseStatus.SOLVED]
+    finish(ctx, not_balanced=infeasible, fails=len(made_fail),
+           warns=int(((fd["verdict_with"] == "warn") & (fd["effect"] == "created")).sum()),
+           what="because of the addition")
 
 
 # --------------------------------------------------------------------- headroom
@@ -289,14 +351,24 @@ def add_user_command(ctx, model, header, demand, duty, ret, return_temperature, 
 @click.pass_context
 def headroom_command(ctx, model, headers, ret, return_temperature, max_added, accuracy,
                      cases, table, base, json_path, quiet, rows):
-    """For every header of every case, the largest added demand before a limit binds,
-    and which limit (docs/howto-headroom.md); smallest headroom first."""
+    """For every header of every case, the largest added demand at which the case still
+    balances and no check fails that passed without it, and what ends it; beside it the
+    balance-only headroom and the first limit met (docs/howto-headroom.md); smallest
+    headroom first.
+
+    \b
+    Exit codes: 0 when every case balances and no check fails (without the addition);
+    1 when a case does not balance or a check fails; 2 for bad input; 3 when the JSON
+    file could not be written.
+    """
     m = load_model(model)
     cs = _case_set(m, table, base, cases, quiet)
+    study = _base_study(cs, True)
     with ProgressBar("headroom", quiet=quiet) as bar:
         df = header_headroom(m, cs, headers=list(headers) or None, condensate_return=ret,
                              condensate_temperature=return_temperature,
-                             max_added=max_added, accuracy=accuracy, progress=bar)
+                             max_added=max_added, accuracy=accuracy, progress=bar,
+                             solved=_solved(study))
     bad = df[df["status"] != CaseStatus.SOLVED]
     if not quiet:
         _header_line(m, f"headroom per header (condensate return {ret}, accuracy "
@@ -304,7 +376,8 @@ def headroom_command(ctx, model, headers, ret, return_temperature, max_added, ac
         click.echo("")
         _print_rows(df, {"case": ("case", -1), "header": ("header", -1),
                          "headroom_t_h": ("headroom t/h", 1),
-                         "binding_message": ("first limit that binds", -1)}, rows)
+                         "balance_headroom_t_h": ("balances to t/h", 1),
+                         "ends_message": ("what ends it", -1)}, rows)
         ex = df[df["exceeded_in_case"].fillna("") != ""][["case", "exceeded_in_case"]]
         for r in ex.drop_duplicates().itertuples():
             click.echo(f"  note: case '{r.case}' is already beyond: {r.exceeded_in_case}")
@@ -312,10 +385,10 @@ def headroom_command(ctx, model, headers, ret, return_temperature, max_added, ac
         click.echo(f"case '{r.case}': {r.status}: {r.binding_message}")
     _caution(quiet)
     if json_path:
-        _write_json(_base_study(cs, True), json_path, "headroom",
+        _write_json(study, json_path, "headroom",
                     {"condensate_return": ret, "max_added": max_added,
                      "accuracy": accuracy, "rows": df}, quiet)
-    ctx.exit(EXIT_OK if not len(bad) else EXIT_FAIL)
+    finish_evaluation(ctx, study, evaluate(study), what="in the cases themselves")
 
 
 # --------------------------------------------------------------------- marginal
@@ -329,12 +402,19 @@ def headroom_command(ctx, model, headers, ret, return_temperature, max_added, ac
 def marginal_command(ctx, model, headers, step, cases, table, base, json_path, quiet,
                      rows):
     """Marginal cost of one more tonne of steam on each header of each case, by
-    perturbation, beside the average cost of steam (docs/howto-marginal-cost.md)."""
+    perturbation, beside the average cost of steam (docs/howto-marginal-cost.md).
+
+    \b
+    Exit codes: 0 when every case balances and no check fails (without the step); 1
+    when a case does not balance or a check fails; 2 for bad input; 3 when the JSON
+    file could not be written.
+    """
     m = load_model(model)
     cs = _case_set(m, table, base, cases, quiet)
+    study = _base_study(cs, True)
     with ProgressBar("marginal cost", quiet=quiet) as bar:
         df = marginal_steam_cost(m, cs, headers=list(headers) or None, step=step,
-                                 progress=bar)
+                                 progress=bar, solved=_solved(study))
     bad = df[df["marginal_cost_per_t"].isna()]
     cur = m.site.currency
     if not quiet:
@@ -350,6 +430,6 @@ def marginal_command(ctx, model, headers, step, cases, table, base, json_path, q
         click.echo(f"case '{r.case}', header {r.header}: {r.message}")
     _caution(quiet)
     if json_path:
-        _write_json(_base_study(cs, True), json_path, "marginal_cost",
+        _write_json(study, json_path, "marginal_cost",
                     {"step": step, "rows": df}, quiet)
-    ctx.exit(EXIT_OK if not len(bad) else EXIT_FAIL)
+    finish_evaluation(ctx, study, evaluate(study), what="in the cases themselves")

@@ -8,6 +8,7 @@ cases concatenate. Column names carry their unit (``flow_t_h``, ``t_degc``, ``p_
 from __future__ import annotations
 
 import math
+from typing import NamedTuple
 
 import numpy as np
 import pandas as pd
@@ -22,7 +23,8 @@ from .balance import IDLE_FLOW, Solution
 from .network import coefficients, header_inflows
 
 __all__ = ["residuals", "water_balance", "header_table", "equipment_table",
-           "equipment_rows", "stream_table", "totals", "case_cost", "letdown_points"]
+           "equipment_rows", "stream_table", "totals", "case_cost", "letdown_points",
+           "operating_flags", "Flag"]
 
 
 def _boiler(b: dict, m: float) -> BoilerBalance:
@@ -446,3 +448,61 @@ def letdown_points(case: str, status: str, sol: Solution) -> list[StationPoint]:
             p_water=ds["supply"]["p"] if ds else None,
             setpoint_reachable=bool(c["reachable"])))
     return pts
+
+
+# ------------------------------------------------------------ operating flags
+class Flag(NamedTuple):
+    """One operating flag of a balance, read from the solution [SI].
+
+    ``kind`` is ``header_wet`` (value: the header's quality [-], limit 1),
+    ``exhaust_quality`` (a wet turbine exhaust: quality [-] against the turbine's
+    ``min_exhaust_quality``), ``outlet_setpoint`` (a desuperheater whose inlet steam is
+    too cold: outlet temperature against its setpoint [K]), ``at_maximum`` or
+    ``at_minimum`` (a flow at its limit [kg/s]).
+    """
+
+    item: str
+    type: str
+    kind: str
+    value: float
+    limit: float
+
+
+def operating_flags(sol: Solution) -> list[Flag]:
+    """Wet headers, wet turbine exhausts, unreachable desuperheater setpoints and
+    elements at a limit, from a solution (the same states and limits the result tables
+    show, without building them)."""
+    net, x, co = sol.net, sol.x, sol.co
+    out: list[Flag] = []
+    for i, name in enumerate(net.headers):
+        if sol.h[i] < net.sat[i].hg:
+            st = props.state_ph(net.p[i], sol.h[i])
+            out.append(Flag(name, "header", "header_wet", st.x if st.is_wet else 0.0, 1.0))
+    for t, c in zip(net.turbines, co.turb):
+        st = props.state_ph(net.p[t["outlet"]], c["h_out"])
+        if st.is_wet and x[t["var"]] > IDLE_FLOW:
+            out.append(Flag(t["name"], "turbine", "exhaust_quality", st.x,
+                            getattr(t["item"], "min_exhaust_quality", 0.0)))
+    for t, c in zip(net.xturbines, co.xturb):
+        st = props.state_ph(t["pressures"][-1], c["h"][-1])
+        if st.is_wet and x[t["in_var"]] > IDLE_FLOW:
+            out.append(Flag(t["name"], "extraction_turbine", "exhaust_quality", st.x,
+                            t["item"].min_exhaust_quality))
+    for s, c in zip(net.letdowns, co.ld):
+        if s["ds"] is not None and not c["reachable"] and x[s["var"]] > IDLE_FLOW:
+            out.append(Flag(s["name"], "letdown", "outlet_setpoint",
+                            props.state_ph(net.p[s["outlet"]], c["h_out"]).t,
+                            s["ds"]["t_set"]))
+    for v in net.vars:
+        if v.kind in ("da_steam", "da_makeup"):
+            continue
+        m = x[v.index]
+        table = {"transfer": "steam_transfer", "xt_in": "extraction_turbine",
+                 "xt_ext": "extraction"}.get(v.kind, v.kind)
+        state = _limit_state(m, v.lo if v.fixed is None else None,
+                             v.hi if v.fixed is None else None)
+        if state == "at maximum":
+            out.append(Flag(v.item, table, "at_maximum", float(m), v.hi))
+        elif state == "at minimum":
+            out.append(Flag(v.item, table, "at_minimum", float(m), v.lo))
+    return out

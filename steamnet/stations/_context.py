@@ -107,6 +107,7 @@ def point_check(check: str, unit: str, *, spray: bool = False,
         run.__doc__ = inspect.cleandoc(body.__doc__) + POINT_DOC.format(
             check=check, unit=unit)
         run.check_id = check
+        run.unit = unit
         return run
     return wrap
 

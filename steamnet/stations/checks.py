@@ -428,6 +428,10 @@ def check_gain_spread(data: StationData, points: list[StationPoint]) -> list[Che
         return [row(data, ALL_CASES, c, "-", Status.NOT_APPLICABLE,
                      advice="the station has no desuperheater") for c in ids]
     gains = _gains(data, points)
+    if not any(p.m_steam > 0 for p in points):
+        return [row(data, ALL_CASES, c, "-", Status.NOT_APPLICABLE, source=source,
+                    advice="the station carries no steam in the studied cases")
+                for c in ids]
     if len(gains) < 2:
         return [needs_row(data, ALL_CASES, c, "-",
                        ["two or more points with steam flow and spray water enthalpy "
@@ -442,9 +446,10 @@ def check_gain_spread(data: StationData, points: list[StationPoint]) -> list[Che
         basis = (f"energy balance over {len(gains)} points; largest at "
                  f"{_label(hi[0])}, smallest at {_label(lo[0])}")
         if check == "gain_spread_spray":
-            advice = (f"gain to spray flow varies {spread:.1f}:1: a loop tuned at full "
-                      "flow is unstable at low flow; spray in ratio to steam flow "
-                      "(steam-flow feedforward) or schedule the controller gain"
+            advice = (f"the loop's gain at low flow is {spread:.1f} times its gain at "
+                      "full flow: a loop tuned at full flow becomes aggressive at low "
+                      "flow; spray in ratio to steam flow (steam-flow feedforward) or "
+                      "schedule the controller gain"
                       if status is Status.WARN else
                       "gain to spray flow varies little across the points")
         else:

@@ -19,10 +19,14 @@ from ..solver.results import letdown_points
 from ..status import CaseStatus
 from ..units import T_H as TH
 from ._context import control_gains, gain_inputs
-from .checks import check_across_cases, check_point
+from .checks import POINT_CHECKS, check_across_cases, check_point
 from .rows import CHECK_COLUMNS, SEVERITY, CheckRow, Status
 
-__all__ = ["StationReport", "PointChecks", "station_points", "point_checks", "run_checks"]
+__all__ = ["StationReport", "PointChecks", "station_points", "point_checks", "run_checks",
+           "not_assessed_rows", "DOES_NOT_BALANCE"]
+
+#: The basis of a station check on a balance that does not close.
+DOES_NOT_BALANCE = "not assessed: the case does not balance"
 
 
 
@@ -111,6 +115,16 @@ class PointChecks:
     gains: tuple
 
 
+def not_assessed_rows(case: str, stations: Iterable[str]) -> list[CheckRow]:
+    """The station check rows of a balance that does not close: every single-point check
+    of every station, not assessed."""
+    return [CheckRow(case, s, chk.check_id, None, None, chk.unit, Status.NOT_ASSESSED,
+                     DOES_NOT_BALANCE, "", "the case must balance before its stations "
+                     "can be judged")
+            for s in stations for chk in POINT_CHECKS]
+
+
+
 def point_checks(data: dict[str, StationData], results) -> PointChecks:
     """Every single-point check of every station in each of ``results`` (CaseResults),
     and the control gains. A station that passes no steam has the same rows in every
@@ -119,6 +133,11 @@ def point_checks(data: dict[str, StationData], results) -> PointChecks:
     gains = []
     idle: dict[str, list] = {}
     for cr in results:
+        if cr.status != CaseStatus.SOLVED:
+            pts = station_points(cr)
+            names = [p.station for p in pts if p.station in data] if pts else list(data)
+            rows.extend(not_assessed_rows(cr.case, names))
+            continue
         for p in station_points(cr):
             if p.station not in data:
                 continue
@@ -169,6 +188,8 @@ def _run_checks(study, data) -> StationReport:
     gains = list(chain.from_iterable(b.gains for b in blocks))
     per_station: dict[str, list] = {}
     for cr in study.cases:
+        if cr.status != CaseStatus.SOLVED:
+            continue
         for p in station_points(cr):
             if p.station in data:
                 per_station.setdefault(p.station, []).append(p)

@@ -120,11 +120,16 @@ def warm(result: CaseResult) -> dict | None:
     return {"h": list(sol.h), "modes": list(sol.modes)}
 
 
-def solved_cases(cs: CaseSet) -> Iterator[tuple[str, Model, CaseResult]]:
-    """(name, validated model, its balance) for every case of the set, in order."""
+def solved_cases(cs: CaseSet, solved: dict | None = None
+                 ) -> Iterator[tuple[str, Model, CaseResult]]:
+    """(name, validated model, its balance) for every case of the set, in order; a case
+    already balanced (``solved``: name -> CaseResult with its solution, as a report
+    has them) is not solved again."""
     for name in cs:
         m = cs.build(name)
-        yield name, m, solve(m)
+        known = (solved or {}).get(name)
+        yield name, m, known if known is not None and known.solution is not None \
+            else solve(m)
 
 
 def tick(progress: Progress | None, done: int, total: int, label: str) -> None:

@@ -15,6 +15,7 @@ import math
 import pandas as pd
 
 from ..errors import ModelError
+from ..evaluate import compare_findings, evaluate_one
 from ..model.model import Model
 from ..units import Kind
 from ..model.cases import CaseSet
@@ -25,7 +26,8 @@ __all__ = ["new_consumer_impact", "CONSUMER_COLUMNS", "TOTALS"]
 
 #: Columns of the new-consumer table, in order (docs/studies.md).
 CONSUMER_COLUMNS = ["case", "status_without", "status_with", "section", "item", "type",
-                    "quantity", "unit", "without", "with", "change"]
+                    "quantity", "unit", "without", "with", "change", "verdict_without",
+                    "verdict_with", "effect", "source", "advice"]
 
 #: Plant totals compared: summary key -> (quantity, unit).
 TOTALS = {
@@ -87,11 +89,32 @@ def _rows(case, r0, r1, user: str, cur: str) -> list[dict]:
     return [r for r in totals + headers if r] + flows + others
 
 
+def _finding_rows(case, r0, r1, data) -> list[dict]:
+    """The findings the addition creates, worsens, improves or clears (the same
+    evaluation as every other balance), worst first."""
+    head = {"case": case, "status_without": r0.status, "status_with": r1.status,
+            "section": "finding"}
+    out = []
+    for f in compare_findings(evaluate_one(r0, data), evaluate_one(r1, data)) \
+            .itertuples(index=False):
+        a, b = f.value_without, f.value_with
+        num = all(isinstance(v, (int, float)) and not isinstance(v, bool)
+                  and v == v for v in (a, b))
+        out.append({**head, "item": f.item, "type": f.type, "quantity": f.check,
+                    "unit": f.unit, "without": a, "with": b,
+                    "change": (b - a) if num else math.nan,
+                    "verdict_without": f.status_without, "verdict_with": f.status_with,
+                    "effect": f.effect, "source": f.source,
+                    "advice": f.basis + (f"; {f.advice}" if f.advice else "")})
+    return out
+
+
 def new_consumer_impact(model: Model, header: str, *, demand=None, duty=None,
                         condensate_return=0.0, condensate_temperature=None,
                         name: str = "new consumer",
                         cases: CaseSet | list[str] | str | None = None,
-                        progress: Progress | None = None) -> pd.DataFrame:
+                        progress: Progress | None = None,
+                        solved: dict | None = None) -> pd.DataFrame:
     """What a new steam user changes in each case.
 
     Parameters
@@ -115,12 +138,16 @@ def new_consumer_impact(model: Model, header: str, *, demand=None, duty=None,
         Cases (None: every case of the model file, or the base model).
     progress : callable, optional
         ``progress(done, total, case)`` after each case.
+    solved : dict, optional
+        Balances of the cases already solved (name -> CaseResult), not solved again.
 
     Returns
     -------
     pandas.DataFrame
         Columns :data:`CONSUMER_COLUMNS` (docs/studies.md): per case, the plant totals,
-        then the headers, then the equipment flows by size of change.
+        then the headers, then the equipment flows by size of change, then the findings
+        that the addition creates, worsens, improves or clears (``section ==
+        'finding'``; ``quantity`` is the check id, ``effect`` what changed).
     """
     if (demand is None) == (duty is None):
         raise ModelError("give exactly one of a demand and a duty", item="option --demand")
@@ -134,10 +161,12 @@ def new_consumer_impact(model: Model, header: str, *, demand=None, duty=None,
                          item="option --name")
     cur = model.site.currency
     rows: list[dict] = []
-    for i, (case, m, r0) in enumerate(solved_cases(cs)):
+    data = model.stations
+    for i, (case, m, r0) in enumerate(solved_cases(cs, solved)):
         mu = with_user(m, header, demand=m_demand, duty=m_duty, condensate_return=ret,
                        condensate_temperature=t_ret, name=uname, origin="new consumer")
         r1 = solve(mu, start=warm(r0))
         rows.extend(_rows(case, r0, r1, uname, cur))
+        rows.extend(_finding_rows(case, r0, r1, data))
         tick(progress, i + 1, len(cs), case)
     return pd.DataFrame(rows, columns=CONSUMER_COLUMNS)

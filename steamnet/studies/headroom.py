@@ -49,6 +49,7 @@ import numpy as np
 import pandas as pd
 
 from ..errors import ModelError
+from ..evaluate import evaluate_one, new_fails
 from ..model.model import Model
 from ..units import Kind
 from ..model.cases import CaseSet
@@ -70,22 +71,40 @@ _MAX_SOLVES = 60
 #: Columns of the headroom table, in order (docs/studies.md).
 HEADROOM_COLUMNS = [
     "case", "header", "p_barg", "status", "condensate_return_percent", "headroom_t_h",
-    "binding_table", "binding_item", "binding_kind", "binding_limit_t_h",
-    "binding_message", "balance_headroom_t_h", "balance_limit_message", "capped",
+    "ends_with", "ends_item", "ends_message", "balance_headroom_t_h",
+    "balance_limit_message", "first_limit_t_h", "binding_table", "binding_item",
+    "binding_kind", "binding_limit_t_h", "binding_message", "capped",
     "exceeded_in_case", "max_added_t_h", "accuracy_t_h", "solves",
 ]
 
 
 class _Point:
-    """One balance of the search: added demand, status, checks, newly binding."""
+    """One balance of the search: added demand, status, checks, newly binding, and
+    (asked for lazily) the checks that fail where they passed at zero addition."""
 
-    def __init__(self, d: float, result, base: dict):
+    def __init__(self, d: float, result, base: dict, data: dict | None = None,
+                 base_findings: pd.DataFrame | None = None):
         self.d, self.result = d, result
         self.checks = {c.key: c for c in limit_checks(result)}
         self.binding: list[Check] = []
         if result.status in (CaseStatus.SOLVED, CaseStatus.INFEASIBLE):
             self.binding = newly_binding(base, list(self.checks.values()))
         self.ok = result.status == CaseStatus.SOLVED and not self.binding
+        self._data, self._base_findings = data, base_findings
+        self._fails: pd.DataFrame | None = None
+
+    @property
+    def new_fails(self) -> pd.DataFrame:
+        """Checks of this balance that fail and did not at zero addition."""
+        if self._fails is None:
+            self._fails = new_fails(self._base_findings,
+                                    evaluate_one(self.result, self._data))
+        return self._fails
+
+    @property
+    def sound(self) -> bool:
+        """The balance closes and no check fails that passed at zero addition."""
+        return self.result.status == CaseStatus.SOLVED and not len(self.new_fails)
 
 
 def _crossing(a: _Point, b: _Point, keys=None) -> tuple[float, Check | None]:
@@ -208,11 +227,47 @@ def _balance_limit(evaluate, lo: float, hi, cap: float, acc: float):
     return a, f"with {b * TH:.1f} t/h added: {b_msg}", n
 
 
+def _sound_limit(point, lo: float, hi: float, acc: float):
+    """Largest added demand on the grid ``k * acc`` between ``lo`` (sound) and ``hi``
+    (not sound) at which the balance closes and no check fails that passed at zero
+    addition, by bisection; returns (sound point, first unsound point, solves)."""
+    a, b = point(lo), point(hi)
+    n = 0
+    while b.d - a.d > acc * (1 + 1e-9):
+        mid = math.floor((a.d + b.d) / 2 / acc + 1e-9) * acc
+        if mid <= a.d + 1e-12:
+            mid = a.d + acc
+        if mid >= b.d - 1e-12:
+            break
+        p = point(mid)
+        n += 1
+        if p.sound:
+            a = p
+        else:
+            b = p
+    return a, b, n
+
+
+def _ends(b) -> tuple[str, str, str]:
+    """(check id, item, message) of what ends the headroom at point ``b``."""
+    r = b.result
+    if r.status != CaseStatus.SOLVED:
+        f = r.findings[0] if r.findings else {}
+        return "balance", f.get("header", ""), f"with {b.d * TH:.1f} t/h added: " \
+            f"{r.message}"
+    f = b.new_fails.iloc[0]
+    more = len(b.new_fails) - 1
+    return (f["check"], f["item"], f"with {b.d * TH:.1f} t/h added: {f['check']} of "
+            f"{f['item']} fails ({f['basis']})" + (f"; {more} more check(s) fail"
+                                                    if more else ""))
+
+
 def header_headroom(model: Model, cases: CaseSet | list[str] | str | None = None, *,
                     headers: list[str] | None = None, condensate_return=0.0,
                     condensate_temperature=None, max_added=DEFAULT_MAX_ADDED,
                     accuracy=DEFAULT_ACCURACY,
-                    progress: Progress | None = None) -> pd.DataFrame:
+                    progress: Progress | None = None,
+                    solved: dict | None = None) -> pd.DataFrame:
     """The largest added demand on each header of each case before a limit binds, and
     which limit it is (method in the module docstring and docs/howto-headroom.md).
 
@@ -236,6 +291,8 @@ def header_headroom(model: Model, cases: CaseSet | list[str] | str | None = None
         Width of the final bracket [kg/s] or text ``"0.1 t/h"``.
     progress : callable, optional
         ``progress(done, total, label)`` after each header.
+    solved : dict, optional
+        Balances of the cases already solved (name -> CaseResult), not solved again.
 
     Returns
     -------
@@ -253,9 +310,11 @@ def header_headroom(model: Model, cases: CaseSet | list[str] | str | None = None
     total = len(cs) * len(hdrs)
     done = 0
     rows = []
-    for name, m, base in solved_cases(cs):
+    data = model.stations
+    for name, m, base in solved_cases(cs, solved):
         start = warm(base)
         base_checks = {c.key: c for c in limit_checks(base)}
+        base_findings = evaluate_one(base, data)
         exceeded = "; ".join(c.describe() for c in base_checks.values()
                              if not c.enforced and c.margin < 0 and c.unit == "kg/s")
         probe = free_name(m, "headroom probe")
@@ -273,27 +332,50 @@ def header_headroom(model: Model, cases: CaseSet | list[str] | str | None = None
                 tick(progress, done, total, f"{name}: {h}")
                 continue
 
+            seen: dict[float, _Point] = {}
+
             def evaluate(d, _h=h, _m=m):
+                key = round(d / acc)
+                if key in seen:
+                    return seen[key]
                 if d <= 0:
-                    return _Point(0.0, base, base_checks)
-                mp = with_user(_m, _h, demand=d, condensate_return=ret,
-                               condensate_temperature=t_ret, name=probe,
-                               origin="added demand")
-                return _Point(d, solve(mp, start=start), base_checks)
+                    p = _Point(0.0, base, base_checks, data, base_findings)
+                else:
+                    mp = with_user(_m, _h, demand=d, condensate_return=ret,
+                                   condensate_temperature=t_ret, name=probe,
+                                   origin="added demand")
+                    p = _Point(d, solve(mp, start=start), base_checks, data,
+                               base_findings)
+                seen[key] = p
+                return p
 
             lo, hi, n = _search(evaluate, cap, acc)
-            row["headroom_t_h"] = round(lo.d * TH, 9)
+            row["first_limit_t_h"] = round(lo.d * TH, 9)
             bal, bal_msg, n2 = _balance_limit(evaluate, lo.d, hi, cap, acc)
             row["balance_headroom_t_h"] = round(bal * TH, 9)
             row["balance_limit_message"] = bal_msg
-            row["solves"] = n + n2
             if hi is None:
-                row.update(capped=True, binding_kind="none below the cap",
+                row.update(binding_kind="none below the cap",
                            binding_message=f"no limit binds up to {cap * TH:.1f} t/h added")
             else:
                 t, i, k, lim, msg = _limit_of(lo, hi)
                 row.update(binding_table=t, binding_item=i, binding_kind=k,
                            binding_limit_t_h=lim, binding_message=msg)
+            # the headline: the case balances and no check fails that passed at zero
+            top = evaluate(bal)
+            if bal >= cap - 1e-12 and top.sound:
+                good, n3 = top, 0
+                row.update(capped=True, ends_with="none below the cap",
+                           ends_message=f"balances with every check as sound up to the "
+                           f"cap {cap * TH:.1f} t/h")
+            else:
+                start_ok = lo if lo.sound else evaluate(0.0)
+                upper = evaluate(bal + acc) if top.sound else top
+                good, bad, n3 = _sound_limit(evaluate, start_ok.d, upper.d, acc)
+                w, item, msg = _ends(bad)
+                row.update(ends_with=w, ends_item=item, ends_message=msg)
+            row["headroom_t_h"] = round(good.d * TH, 9)
+            row["solves"] = len(seen)
             rows.append(row)
             done += 1
             tick(progress, done, total, f"{name}: {h}")

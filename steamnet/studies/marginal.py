@@ -68,7 +68,8 @@ def _parts(model: Model, r) -> dict:
 
 def marginal_steam_cost(model: Model, cases: CaseSet | list[str] | str | None = None, *,
                         headers: list[str] | None = None, step=DEFAULT_STEP,
-                        progress: Progress | None = None) -> pd.DataFrame:
+                        progress: Progress | None = None,
+                        solved: dict | None = None) -> pd.DataFrame:
     """Marginal cost of one more tonne of steam on each header of each case (method in
     the module docstring and docs/howto-marginal-cost.md).
 
@@ -84,6 +85,8 @@ def marginal_steam_cost(model: Model, cases: CaseSet | list[str] | str | None = 
         Added demand [kg/s] or text ``"1 t/h"``.
     progress : callable, optional
         ``progress(done, total, label)`` after each header.
+    solved : dict, optional
+        Balances of the cases already solved (name -> CaseResult), not solved again.
 
     Returns
     -------
@@ -100,7 +103,7 @@ def marginal_steam_cost(model: Model, cases: CaseSet | list[str] | str | None = 
     total = len(cs) * len(hdrs)
     done = 0
     rows = []
-    for name, m, base in solved_cases(cs):
+    for name, m, base in solved_cases(cs, solved):
         start = warm(base)
         probe = free_name(m, "marginal probe")
         p0 = _parts(m, base) if base.solution is not None and len(base.equipment) else None

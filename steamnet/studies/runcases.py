@@ -8,6 +8,8 @@ case and, for each boiler, turbine, let-down station and vent, its flow (columns
 
 from __future__ import annotations
 
+from functools import partial
+
 import functools
 from dataclasses import dataclass, field, replace
 
@@ -16,6 +18,7 @@ import pandas as pd
 from ..model.cases import BASE, CaseSet, sweep_specs
 from ..solve import CaseResult, StudyResult
 from ..errors import ModelError
+from ..evaluate import chunk_findings
 from .common import Progress
 from ..status import CaseStatus
 
@@ -125,8 +128,10 @@ def solve_case_set(cs: CaseSet, *, progress: Progress | None = None,
     out, per_chunk = run_sweep(cs.model, sweep_specs(cs), workers=workers,
                                scheduler=scheduler, tables=keep, streams=False,
                                progress=progress, warm_start=warm_start,
-                               extra=_chunk_flows, keep_solutions=keep)
-    flows = [f for chunk in per_chunk for f in chunk]
+                               extra=partial(_chunk_extra, cs.model.stations),
+                               keep_solutions=keep)
+    flows = [f for chunk, _ in per_chunk for f in chunk]
+    blocks = [b for _, b in per_chunk]
     for i, (r, f) in enumerate(zip(out, flows)):
         if isinstance(f, str):              # its equipment rows left IAPWS-IF97
             out[i], flows[i] = CaseResult.failed(r.case, CaseStatus.ERROR, f), {}
@@ -134,7 +139,14 @@ def solve_case_set(cs: CaseSet, *, progress: Progress | None = None,
             out[i] = replace(r, message=_row_message(cs, r))
     if not keep:
         out = [_lean(r) for r in out]
-    return CaseSetResult(cs.model, out, flows=flows, case_set=cs)
+    return CaseSetResult(cs.model, out, [b.points for b in blocks],
+                         findings_blocks=blocks, flows=flows, case_set=cs)
+
+
+def _chunk_extra(data: dict, results: list[CaseResult]) -> tuple:
+    """Per solved chunk, made where it was solved: the equipment flows of each case and
+    the chunk's findings (:func:`steamnet.evaluate.chunk_findings`)."""
+    return _chunk_flows(results), chunk_findings(data, results)
 
 
 def _row_message(cs: CaseSet, r: CaseResult) -> str:

@@ -23,6 +23,7 @@ from __future__ import annotations
 import math
 import re
 from functools import partial
+from typing import NamedTuple
 
 import numpy as np
 import pandas as pd
@@ -31,9 +32,11 @@ from ..model.model import Model
 from ..model.cases import CaseSet
 from .common import Progress, resolve_cases
 from .limits import TH, station_loads
+from ..evaluate import FINDING_COLUMNS, evaluate_one
 from ..status import CaseStatus
 
-__all__ = ["trip_screening", "TRIP_COLUMNS"]
+__all__ = ["trip_screening", "screen_trips", "TripScreening", "TRIP_COLUMNS",
+           "TRIP_FINDING_COLUMNS"]
 
 #: Columns of the trip screening table, in order (docs/studies.md).
 TRIP_COLUMNS = [
@@ -42,8 +45,21 @@ TRIP_COLUMNS = [
     "steam_use_percent", "spray_before_t_h", "spray_t_h", "spray_change_t_h",
     "max_spray_t_h", "spray_use_percent", "rated_max_steam_t_h",
     "rated_steam_use_percent", "worst_use_percent", "worst_limit", "verdict",
-    "header", "side", "amount_t_h", "message",
+    "header", "side", "amount_t_h", "message", "trip_verdict", "trip_fails",
+    "trip_warnings", "trip_worst_check",
 ]
+
+#: Columns of the trip findings table: the trip, then the findings table's columns.
+TRIP_FINDING_COLUMNS = ["case", "trip", "trip_type", *FINDING_COLUMNS[1:]]
+
+
+class TripScreening(NamedTuple):
+    """The trip screening: the station loads per trip (:data:`TRIP_COLUMNS`) and every
+    finding of every tripped balance (:data:`TRIP_FINDING_COLUMNS`, worst first), the
+    same evaluation ``steamnet stations`` gives on that balance written as a case."""
+
+    table: pd.DataFrame
+    findings: pd.DataFrame
 
 _TRIP = {"turbine": ("turbine", "tripped"),
          "extraction_turbine": ("extraction_turbine", "tripped"),
@@ -131,6 +147,14 @@ def _finding_rows(case, trip, ttype, tflow, result) -> list[dict]:
 def trip_screening(model: Model, cases: CaseSet | list[str] | str | None = None, *,
                    boilers: bool = False, progress: Progress | None = None,
                    workers: int = 1, scheduler: str | None = None) -> pd.DataFrame:
+    """The table of :func:`screen_trips` (its findings left out)."""
+    return screen_trips(model, cases, boilers=boilers, progress=progress,
+                        workers=workers, scheduler=scheduler).table
+
+
+def screen_trips(model: Model, cases: CaseSet | list[str] | str | None = None, *,
+                 boilers: bool = False, progress: Progress | None = None,
+                 workers: int = 1, scheduler: str | None = None) -> TripScreening:
     """Trip each running turbine (and boiler, with ``boilers=True``) of each case in
     turn; the post-trip load of every let-down station.
 
@@ -153,11 +177,13 @@ def trip_screening(model: Model, cases: CaseSet | list[str] | str | None = None,
 
     Returns
     -------
-    pandas.DataFrame
-        Columns :data:`TRIP_COLUMNS` (see docs/studies.md): one ``row == 'station'``
-        row per station per trip, and ``row == 'finding'`` rows for trips after which
-        the plant cannot balance; worst first. A case that does not balance untripped
-        gives one finding row with ``trip == ''``.
+    TripScreening
+        ``table``: columns :data:`TRIP_COLUMNS` (see docs/studies.md): one
+        ``row == 'station'`` row per station per trip, and ``row == 'finding'`` rows for
+        trips after which the plant cannot balance; worst first; ``trip_verdict`` is the
+        worst verdict of every finding of the tripped balance. A case that does not
+        balance untripped gives one finding row with ``trip == ''``. ``findings``: every
+        finding of every tripped balance (:data:`TRIP_FINDING_COLUMNS`).
 
     Notes
     -----
@@ -190,33 +216,64 @@ def trip_screening(model: Model, cases: CaseSet | list[str] | str | None = None,
     trip_specs = [_trip_spec(specs[i], table, unit) for i, table, unit, _ in trips]
     done, per_chunk = run_sweep(model, trip_specs, workers=workers, scheduler=scheduler,
                                 tables=False, progress=stage(n, n + len(trip_specs)),
-                                extra=_tripped, keep_solutions=False) \
+                                extra=partial(_tripped, model.stations),
+                                keep_solutions=False) \
         if trip_specs else ([], [])
-    after = {(i, unit): (r, loads) for (i, _, unit, _), r, loads in zip(
+    after = {(i, unit): (r, *x) for (i, _, unit, _), r, x in zip(
         trips, done, (x for chunk in per_chunk for x in chunk))}
     rows: list[dict] = []
+    found: list[tuple] = []
     for i, (name, r0) in enumerate(zip(cs.names, base)):
         if info[i] is None:
             rows.extend(_finding_rows(name, "", "", 0.0, r0))
             continue
         before, units = info[i]
         for table, unit, flow in units:
-            r, loads = after[i, unit]
+            r, loads, fnd = after[i, unit]
+            verdict = _trip_verdict(fnd)
+            found.extend((name, unit, table, *f[1:]) for f in fnd)
             if r.status == CaseStatus.ERROR and r.input_errors:
-                rows.append(_invalid_trip(name, table, unit, flow, r.input_errors))
+                rows.append({**_invalid_trip(name, table, unit, flow, r.input_errors),
+                             **verdict})
                 continue
             if r.status != CaseStatus.SOLVED:
-                rows.extend(_finding_rows(name, unit, table, flow, r))
+                rows.extend({**x, **verdict}
+                            for x in _finding_rows(name, unit, table, flow, r))
             if loads is not None:
-                rows.extend(_station_rows(name, unit, table, flow, r.status, before,
-                                          loads))
+                rows.extend({**x, **verdict} for x in _station_rows(
+                    name, unit, table, flow, r.status, before, loads))
+    findings = _sorted_findings(pd.DataFrame(found, columns=TRIP_FINDING_COLUMNS))
     df = pd.DataFrame(rows, columns=TRIP_COLUMNS)
     if not len(df):
-        return df
+        return TripScreening(df, findings)
     rank = np.where(df["row"] == "finding", 0, np.where(df["status"] != CaseStatus.SOLVED, 1, 2))
     worst = df["worst_use_percent"].fillna(-1.0).to_numpy(float)
     order = np.lexsort((-worst, rank))
-    return df.iloc[order].reset_index(drop=True)
+    return TripScreening(df.iloc[order].reset_index(drop=True), findings)
+
+
+_SEV = {"fail": 4, "warn": 3, "not_assessed": 2, "ok": 1, "not_applicable": 0}
+
+
+def _trip_verdict(findings: list[tuple]) -> dict:
+    """The worst verdict of a tripped balance's findings, the counts, and the check."""
+    if not findings:
+        return {"trip_verdict": "", "trip_fails": 0, "trip_warnings": 0,
+                "trip_worst_check": ""}
+    worst = max(findings, key=lambda f: _SEV.get(f[7], 0))
+    return {"trip_verdict": worst[7],
+            "trip_fails": sum(f[7] == "fail" for f in findings),
+            "trip_warnings": sum(f[7] == "warn" for f in findings),
+            "trip_worst_check": f"{worst[3]} ({worst[1]})" if worst[7] != "ok" else ""}
+
+
+def _sorted_findings(df: pd.DataFrame) -> pd.DataFrame:
+    if not len(df):
+        return df
+    sev = -df["status"].map(_SEV).fillna(0)
+    return df.assign(_s=sev).sort_values(["_s", "case", "trip", "item", "check"],
+                                         kind="stable").drop(columns="_s") \
+        .reset_index(drop=True)
 
 
 def _untripped(boilers: bool, results) -> list:
@@ -226,11 +283,18 @@ def _untripped(boilers: bool, results) -> list:
             for r in results]
 
 
-def _tripped(results) -> list:
+def _tripped(data: dict, results) -> list:
     """Per trip of a solved chunk: the station loads after it (None when the balance
-    gave no flows to read)."""
-    return [station_loads(r.solution) if r.solution is not None and r.status in
-            (CaseStatus.SOLVED, CaseStatus.INFEASIBLE) else None for r in results]
+    gave no flows to read) and every finding of the tripped balance (tuples in
+    :data:`~steamnet.evaluate.FINDING_COLUMNS` order), made where it was solved."""
+    out = []
+    for r in results:
+        loads = station_loads(r.solution) if r.solution is not None and r.status in \
+            (CaseStatus.SOLVED, CaseStatus.INFEASIBLE) else None
+        f = evaluate_one(r, data)
+        out.append((loads, list(f[f["status"] != "ok"].itertuples(index=False,
+                                                                    name=None))))
+    return out
 
 
 def _trip_spec(spec, table: str, unit: str):
