@@ -29,7 +29,7 @@ from pathlib import Path
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
 from steamnet import loads_model, properties, solve_case  # noqa: E402
-from steamnet.synth import random_model_text  # noqa: E402
+from steamnet.testing.synth import random_model_text  # noqa: E402
 
 
 def run_once(text: str, *, trace: bool = False) -> dict:

@@ -351,7 +351,7 @@ def _long_fuzz_model(seed: int):
     from pathlib import Path
     sys.path.insert(0, str(Path(__file__).resolve().parent))
     from run_long_fuzz import network_sizes
-    from steamnet.synth import random_model_text
+    from steamnet.testing.synth import random_model_text
     nh, ni = network_sizes(seed)
     return loads_model(random_model_text(seed, n_headers=nh, n_items=ni),
                        source=f"seed{seed}.toml")

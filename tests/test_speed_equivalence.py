@@ -27,7 +27,7 @@ from steamnet.model.validate import validate_model
 from steamnet.solver import balance
 from steamnet.solver.assembly import Plan
 from steamnet.solver.network import build
-from steamnet.synth import random_model_text
+from steamnet.testing.synth import random_model_text
 from conftest import DEMO
 
 #: Agreement required between the two paths [-] (issue 7: 1e-9 relative).
