@@ -2,8 +2,8 @@
 
 Not a test (pytest collects test_*.py only). Run:
 
-    .venv/bin/python tests/bench_large.py                  # the fast path
-    .venv/bin/python tests/bench_large.py --reference      # and the reference path
+    .venv/bin/python benchmarks/bench_large.py                  # the fast path
+    .venv/bin/python benchmarks/bench_large.py --reference      # and the reference path
 
 The network is steamnet.testing.synth.random_model(seed, 100, 1000): synthetic test data, not a
 plant (with ``--before``, the earlier package solves the network this checkout

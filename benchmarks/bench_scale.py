@@ -1,9 +1,9 @@
 """Scale benchmark (a script, not a test): a generated network of 100 headers and 1,000
 items is loaded and solved; prints wall times, iterations, unknowns and peak memory.
 
-    python tests/bench_scale.py                    # seeds 1-3, 100 headers, 1000 items
-    python tests/bench_scale.py --seeds 7 --profile
-    python tests/bench_scale.py --headers 50 --items 400 --slack 3
+    python benchmarks/bench_scale.py                    # seeds 1-3, 100 headers, 1000 items
+    python benchmarks/bench_scale.py --seeds 7 --profile
+    python benchmarks/bench_scale.py --headers 50 --items 400 --slack 3
 
 Peak memory is reported two ways: the peak of Python allocations during load and solve
 (tracemalloc, which slows the run, so the times come from a separate run without it),
