@@ -12,7 +12,7 @@ from concurrent.futures import ProcessPoolExecutor
 from typing import Callable, Sequence
 
 from ._gc import young_collections_only
-from .errors import ModelError
+from .errors import MissingDependencyError, ModelError
 
 __all__ = ["run_sweep", "CHUNK"]
 
@@ -221,8 +221,9 @@ def _run_sweep(model, specs: list, *, workers, scheduler, opts, progress, chunk,
         try:
             from distributed import Client
         except ImportError:
-            raise ModelError("a dask scheduler was given but dask.distributed is not "
-                             "installed: pip install 'steamnet[dask]'") from None
+            raise MissingDependencyError("a dask scheduler was given but "
+                                         "dask.distributed is not installed",
+                                         extra="dask") from None
         client = Client(scheduler)
         try:
             m = client.scatter(model, broadcast=True)

@@ -22,7 +22,7 @@ from CoolProp.CoolProp import PropsSI
 
 from steamnet import properties as props
 from steamnet.calc import size_steam_valve, size_water_valve, spray_water_flow
-from steamnet.errors import ModelError
+from steamnet.errors import InternalError, ModelError
 from steamnet.stations import (ALL_CASES, CheckRow, DesuperheaterData, StationData,
                                StationLimits, StationPoint, Status, ValveData,
                                check_across_cases, check_approach_to_saturation,
@@ -394,5 +394,7 @@ def test_rows_are_checkrows_with_docs_pages():
 
 
 def test_wrong_station_rejected():
-    with pytest.raises(ModelError, match="station"):
+    """A point of one station handed to another's checks is a fault of the caller in
+    steamnet, not of the input: an internal error."""
+    with pytest.raises(InternalError, match="station 'another'"):
         check_point(_station(), _point(station="another"))

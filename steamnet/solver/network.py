@@ -15,7 +15,7 @@ import math
 from dataclasses import dataclass, field, replace
 
 from .. import properties as props
-from ..errors import PropertyRangeError
+from ..errors import ItemPropertyError, PropertyRangeError  # noqa: F401 (re-exported)
 
 INF = math.inf
 #: Added to a vent's priority so that every vent ranks after every swing export.
@@ -23,14 +23,6 @@ VENT_RANK = 1000
 #: Least enthalpy above saturated liquid a duty-based user is computed with, as a
 #: fraction of the header's latent heat [-]
 USER_DH_FLOOR = 0.01
-
-
-class ItemPropertyError(Exception):
-    """A property call of one item fell outside IAPWS-IF97."""
-
-    def __init__(self, item: str, exc: PropertyRangeError):
-        super().__init__(f"{item}: {exc}")
-        self.item = item
 
 
 @dataclass

@@ -33,7 +33,7 @@ from .. import properties as props
 from ..calc.desuperheater import (evaporation_distance, gain_per_ratio, gain_per_spray,
                                   spray_water_flow)
 from ..calc.valve import ValveSizing, size_steam_valve, size_water_valve, valve_travel
-from ..errors import ModelError
+from ..errors import InternalError, ModelError
 from .data import StationData, StationLimits, StationPoint, ValveData
 from ._context import (Ctx, needs_row, outlet, outlet_velocity, point_check, row,
                        water_enthalpy, water_state)
@@ -368,8 +368,9 @@ def check_point(data: StationData, point: StationPoint) -> list[CheckRow]:
 
 def _same_station(data: StationData, point: StationPoint) -> None:
     if point.station != data.name:
-        raise ModelError(f"point of station '{point.station}' given to station "
-                         f"'{data.name}'", item=f"case '{point.case}'")
+        raise InternalError(f"case '{point.case}': the point of station "
+                            f"'{point.station}' was given to the checks of station "
+                            f"'{data.name}'")
 
 
 # ----------------------------------------------------------------- across cases
