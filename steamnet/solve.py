@@ -1,9 +1,13 @@
 """Public solve API: one case, or all cases of a model, into result tables.
 
 >>> import steamnet
->>> model = steamnet.load_model("cases/orlewick.toml")          # doctest: +SKIP
->>> study = steamnet.solve_cases(model)                         # doctest: +SKIP
->>> study.summary[["case", "status", "fuel_mw"]]                # doctest: +SKIP
+>>> model = steamnet.load_model("cases/orlewick.toml")
+>>> study = steamnet.solve_cases(model)
+>>> [c.case for c in study.cases], study.all_solved
+(['summer', 'winter', 'winter-TG1-trip'], True)
+>>> table = study.summary[["case", "status", "fuel_mw"]]        # one row per case
+>>> len(table)
+3
 """
 
 from __future__ import annotations
@@ -27,7 +31,7 @@ __all__ = ["CaseResult", "StudyResult", "solve_case", "solve_model", "solve_case
 #: treat result tables as read-only.
 _NO_TABLE = pd.DataFrame()
 
-#: Relative closure every solved case must meet (issue 2: 1e-6 relative).
+#: Relative closure every solved case must meet (docs/method.md, "The balance").
 CLOSURE = 1e-6
 
 
@@ -233,8 +237,8 @@ def solve_case(model: Model, case: str | None = None, *, start: dict | None = No
         Convergence tolerance on header enthalpies [J/kg]; default
         :data:`steamnet.solver.balance.TOL_H_REL` times the enthalpy.
     reference : bool
-        Solve with the reference assembly of the balance system (the code before
-        issue 7), to check that the fast one gives the same answers [-]
+        Solve with the reference assembly of the balance system (the code path before
+        the compiled assembly), to check that the fast one gives the same answers [-]
     """
     name = case or model.case_name or "base"
     m = model.for_case(case) if case is not None else model
@@ -334,7 +338,8 @@ def solve_cases(model: Model, cases: Iterable | None = None, *,
         Build the result tables of each case (off for long sweeps) [-]
     reference : bool
         Make, build and solve every case from scratch with the reference assembly (the
-        code before issue 7), to check that the fast path gives the same answers [-]
+        code path before the speed work), to check that the fast path gives the same
+        answers [-]
     station_checks : bool or dict
         Also run the single-point station checks of every case where it is solved (in
         the workers of a parallel sweep), for :func:`steamnet.stations.run.run_checks`

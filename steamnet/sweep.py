@@ -124,7 +124,7 @@ def solve_chunk(model, specs: Sequence, tables: bool = False, warm_start: bool =
                 keep_solution: bool = True, reference: bool = False,
                 streams: bool = True) -> list:
     """Solve consecutive cases, each warm-started from the one before. ``reference``
-    makes and builds every case from scratch (the code path before issue 7, kept to
+    makes and builds every case from scratch (the code path before the speed work, kept to
     check that the fast one gives the same answers)."""
     out = []
     start = None

@@ -1,4 +1,4 @@
-"""The steam and water balance of one case (engineering.md sections 5 and 6).
+"""The steam and water balance of one case (docs/method.md: its equations and the solve).
 
 Method
 ------

@@ -396,7 +396,7 @@ class Coeffs:
 
 
 def expansion(item: str, p_in: float, h_in: float, p_out: float, eta: float) -> dict:
-    """One turbine section: isentropic-efficiency expansion (engineering.md section 5)."""
+    """One turbine section: isentropic-efficiency expansion (docs/method.md)."""
     st_in = _prop(item, props.state_ph, p_in, h_in)
     st_is = _prop(item, props.state_ps, p_out, st_in.s)
     h_out = h_in - eta * (h_in - st_is.h)
@@ -451,7 +451,7 @@ def coefficients(net: Net, h: list[float], x: list[float] | None) -> Coeffs:
             continue
         h_set, h_w = ds["h_set"], ds["supply"]["h"]
         if h_in > h_set:
-            r = (h_in - h_set) / (h_set - h_w)      # engineering.md section 5
+            r = (h_in - h_set) / (h_set - h_w)      # docs/method.md, desuperheater
             ld.append({"r": r, "h_out": h_set, "reachable": True, "h_w": h_w})
         else:
             ld.append({"r": 0.0, "h_out": h_in, "reachable": h_in >= h_set - 1e-6,
