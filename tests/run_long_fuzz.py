@@ -109,7 +109,7 @@ def run(kind: str, n: int, start: int, workers: int) -> int:
 
 
 def main(argv=None) -> int:
-    ap = argparse.ArgumentParser(description="long fuzz runs of issue 6")
+    ap = argparse.ArgumentParser(description="long runs of the random-network fuzz")
     ap.add_argument("kind", choices=["networks", "loader", "both"])
     ap.add_argument("--examples", type=int, default=10000)
     ap.add_argument("--start", type=int, default=0)

@@ -1,4 +1,4 @@
-"""Regressions for the core faults the random-network fuzz found (issue 6).
+"""Regressions for the core faults the random-network fuzz found (tests/run_long_fuzz.py).
 
 Each test is a small hand-written model that showed one fault before its fix; the
 comment says what went wrong. The balances are checked with the project's own residuals

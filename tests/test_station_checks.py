@@ -3,7 +3,7 @@
 Station data are invented for the demo plant "Orlewick Board Mill"; they only place the
 operating point on one side or the other of each limit. The references are:
 
-* default limits and their source labels: steamnet engineering notes, section 8;
+* default limits and their source labels: docs/checks/index.md;
 * saturation temperatures: IAPWS R7-97(2012), Table 35;
 * velocities and spray flows recomputed from CoolProp's IF97 backend;
 * Kv by IEC 60534-2-1 through steamnet.calc.valve (itself checked against the
@@ -69,7 +69,7 @@ def _ds(**changes) -> DesuperheaterData:
 
 
 # ------------------------------------------------------------------------- limits
-def test_default_limits_as_in_engineering_notes_section_8():
+def test_default_limits_as_in_docs_checks_index():
     lim = StationLimits()
     assert (lim.spray_capacity_warn, lim.spray_capacity_fail) == (0.85, 1.00)
     assert (lim.approach_fail, lim.approach_warn) == (8.0, 10.0)

@@ -34,7 +34,7 @@ def print_findings(report, limit: int = 25) -> None:
               "worst.")
 @click.pass_context
 def stations(ctx, model, cases, json_path, show_all):
-    """Check every let-down station of MODEL in every case (engineering.md section 8).
+    """Check every let-down station of MODEL in every case (docs/checks/index.md).
 
     Prints the worst findings first. Exit 0 when no check failed, 1 when any check
     failed or a case did not solve.

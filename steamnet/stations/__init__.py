@@ -1,7 +1,7 @@
 """Let-down station data and checks.
 
 :mod:`steamnet.stations.data` holds the station's data and operating points,
-:mod:`steamnet.stations.checks` the checks of the engineering notes, section 8, and
+:mod:`steamnet.stations.checks` the checks of docs/checks/index.md, and
 :mod:`steamnet.stations.rows` the result rows. Each check id has a page under
 ``docs/checks/``.
 """

@@ -20,7 +20,7 @@ engineering practice govern.
 
 References
 ----------
-.. [1] steamnet engineering notes, section 8 (checks, default limits, their sources).
+.. [1] docs/checks/index.md (checks, default limits, their sources).
 .. [2] IEC 60534-2-1:2011, sizing equations for fluid flow under installed conditions.
 .. [3] IAPWS R7-97(2012), Revised Release on IF97 (all steam and water states).
 """
