@@ -1,9 +1,13 @@
 """Solve one case of one model into a :class:`CaseResult` (many cases: :mod:`steamnet.sweep`).
 
 >>> import steamnet
->>> model = steamnet.load_model("cases/orlewick.toml")          # doctest: +SKIP
->>> study = steamnet.solve_cases(model)                         # doctest: +SKIP
->>> study.summary[["case", "status", "fuel_mw"]]                # doctest: +SKIP
+>>> model = steamnet.load_model("cases/orlewick.toml")
+>>> study = steamnet.solve_cases(model)
+>>> [c.case for c in study.cases], study.all_solved
+(['summer', 'winter', 'winter-TG1-trip'], True)
+>>> table = study.summary[["case", "status", "fuel_mw"]]        # one row per case
+>>> len(table)
+3
 """
 
 from __future__ import annotations
@@ -23,7 +27,7 @@ from .status import CaseStatus
 
 __all__ = ["CaseResult", "StudyResult", "solve_case", "solve_model"]
 
-#: Relative closure every solved case must meet (issue 2: 1e-6 relative).
+#: Relative closure every solved case must meet (docs/method.md, "The balance").
 CLOSURE = 1e-6
 
 
@@ -168,8 +172,8 @@ def solve_case(model: Model, case: str | None = None, *, start: dict | None = No
         Convergence tolerance on header enthalpies [J/kg]; default
         :data:`steamnet.solver.balance.TOL_H_REL` times the enthalpy.
     reference : bool
-        Solve with the reference assembly of the balance system (the code before
-        issue 7), to check that the fast one gives the same answers [-]
+        Solve with the reference assembly of the balance system (the code path before
+        the compiled assembly), to check that the fast one gives the same answers [-]
     """
     name = case or model.case_name or "base"
     m = model.for_case(case) if case is not None else model

@@ -13,7 +13,7 @@ from concurrent.futures import ProcessPoolExecutor
 from typing import Callable, Iterable, Sequence
 
 from ._gc import young_collections_only
-from .errors import ModelError
+from .errors import MissingDependencyError, ModelError
 from .model.cases import CaseModels
 from .model.model import Model
 from .model.validate import validate_model
@@ -69,7 +69,7 @@ def solve_chunk(model, specs: Sequence, tables: bool = False, warm_start: bool =
                 keep_solution: bool = True, reference: bool = False,
                 streams: bool = True) -> list:
     """Solve consecutive cases, each warm-started from the one before. ``reference``
-    makes and builds every case from scratch (the code path before issue 7, kept to
+    makes and builds every case from scratch (the code path before the speed work, kept to
     check that the fast one gives the same answers)."""
     out = []
     start = None
@@ -166,8 +166,9 @@ def _run_sweep(model, specs: list, *, workers, scheduler, opts, progress, chunk,
         try:
             from distributed import Client
         except ImportError:
-            raise ModelError("a dask scheduler was given but dask.distributed is not "
-                             "installed: pip install 'steamnet[dask]'") from None
+            raise MissingDependencyError("a dask scheduler was given but "
+                                         "dask.distributed is not installed",
+                                         extra="dask") from None
         client = Client(scheduler)
         try:
             m = client.scatter(model, broadcast=True)
@@ -227,7 +228,8 @@ def solve_cases(model: Model, cases: Iterable | None = None, *,
         Build the result tables of each case (off for long sweeps) [-]
     reference : bool
         Make, build and solve every case from scratch with the reference assembly (the
-        code before issue 7), to check that the fast path gives the same answers [-]
+        code path before the speed work), to check that the fast path gives the same
+        answers [-]
     station_checks : bool or dict
         Also run the single-point station checks of every case where it is solved (in
         the workers of a parallel sweep), for :func:`steamnet.stations.run.run_checks`

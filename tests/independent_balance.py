@@ -6,7 +6,7 @@ equations only: CoolProp's (P, h) and (P, s) inputs go through the IF97 backward
 equations, accurate to about 10 mK (about 1e-3 of an isentropic drop), so the
 temperature they give is refined here by Newton steps on the forward h(P, T) or s(P, T)
 until it matches to about 1e-12. The equipment equations are those of
-docs/engineering notes section 5 (throttling, spray desuperheater, isentropic
+docs/method.md, "Equipment equations" (throttling, spray desuperheater, isentropic
 expansion, Willans line, boiler blowdown and flash, deaerator), written out again here.
 
 What is checked, for one case:

@@ -6,7 +6,7 @@ test_property_networks.py and test_fuzz_loader.py on many more inputs, in parall
     python tests/run_long_fuzz.py both --examples 10000 --workers 2 --start 0
 
 Inputs are numbered; input i of a run uses seed ``start + i`` (networks: sizes drawn
-from the seed, then ``steamnet.synth.random_model_text(seed, ...)``; loader: the
+from the seed, then ``steamnet.testing.synth.random_model_text(seed, ...)``; loader: the
 mutations of tests/toml_mutations.py on one of the base files, valid mutants are
 solved too). A failure prints its seed, so ``--start SEED --examples 1`` repeats it.
 Prints the number of inputs, the outcomes and every failure; exit code 1 if any input
@@ -31,7 +31,7 @@ sys.path.insert(0, str(HERE.parent))
 
 
 def network_sizes(seed: int) -> tuple[int, int]:
-    from steamnet.synth import min_items
+    from steamnet.testing.synth import min_items
     rng = random.Random(seed ^ 0x5EED)
     n_headers = rng.randint(1, 10)
     return n_headers, rng.randint(min_items(n_headers), 60)
@@ -109,7 +109,7 @@ def run(kind: str, n: int, start: int, workers: int) -> int:
 
 
 def main(argv=None) -> int:
-    ap = argparse.ArgumentParser(description="long fuzz runs of issue 6")
+    ap = argparse.ArgumentParser(description="long runs of the random-network fuzz")
     ap.add_argument("kind", choices=["networks", "loader", "both"])
     ap.add_argument("--examples", type=int, default=10000)
     ap.add_argument("--start", type=int, default=0)

@@ -1,6 +1,6 @@
-"""Bad input (issue 2, point 3): every class gives one clear message naming the file, the
+"""Bad input: every class gives one clear message naming the file, the
 item and the field, and ``steamnet check FILE`` exits 2 with no traceback. Infeasible
-cases (point 6) are reported with the header, the amount and the binding limits while
+cases are reported with the header, the amount and the binding limits while
 the other cases still solve, and ``steamnet solve`` exits 1.
 
 Each bad model is a valid base model with one change, so the message can only come from

@@ -1,7 +1,7 @@
 """Tests of steamnet.calc.desuperheater.
 
 Independent references: the mass and energy balance of a spray attemperator
-(engineering notes, section 5) recomputed here from CoolProp's IF97 backend, and the
+(docs/method.md, "Equipment equations") recomputed here from CoolProp's IF97 backend, and the
 outlet temperature recomputed by CoolProp for finite-difference gains. The 1/(steam +
 spray) dependence of the gain is common practice, no source.
 """

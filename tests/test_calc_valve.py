@@ -4,7 +4,7 @@ References used here:
 
 * IEC 60534-2-1:2011 (ISA-75.01.01-2007) worked examples; the inputs as the
   documentation of ``fluids.control_valve.size_control_valve_l`` / ``_g`` states them,
-  the published results as steamnet's engineering notes, section 10, quote them
+  the published results of those examples, as docs/validation.md quotes them
   (liquid example 1: Kv about 165 m3/h; compressible example 3 with fittings: about
   72.6 m3/h).
 * The mass-flow and liquid sizing equations of IEC 60534-2-1 recomputed here from

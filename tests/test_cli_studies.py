@@ -1,5 +1,5 @@
 """The study commands through the command line: exit codes, messages, JSON export,
-and that nothing the user had is lost on bad input or Ctrl-C (issue 3, points 6-7)."""
+and that nothing the user had is lost on bad input or Ctrl-C."""
 
 from __future__ import annotations
 

@@ -1,11 +1,11 @@
-"""Conservation, limits, determinism and the uniqueness of the split (issue 2, "Tests";
-engineering.md section 6).
+"""Conservation, limits, determinism and the uniqueness of the split
+(docs/method.md, "The balance").
 
 The balances are recomputed here from the published result tables (flows in t/h,
 enthalpies in kJ/kg) and from the model as written, with the enthalpies the tables do
 not carry (flash steam, make-up, condensate returns, deaerator outlet and vent) taken
 from CoolProp's IF97 backend (``if97_ref``). The closure required is 1e-6 relative
-(issue 2, point 6), against the throughput of each balance.
+(docs/method.md, "The balance"), against the throughput of each balance.
 """
 
 from __future__ import annotations
@@ -26,7 +26,7 @@ from steamnet.solve import solve_case
 from steamnet.sweep import solve_cases
 from table_balances import deaerator_balance, header_balances, plant_water
 
-CLOSE = 1e-6          # issue 2, point 6
+CLOSE = 1e-6          # docs/method.md, "The balance"
 
 NETWORKS = [(DEMO, ["summer", "winter", "winter-TG1-trip"]),
             (DATA / "two_header.toml", ["winter", "summer"]),
@@ -138,7 +138,7 @@ def test_every_limit_respected(solved, path, case):
 @pytest.mark.parametrize("path,case", CASES, ids=IDS)
 def test_vent_only_for_excess(solved, path, case):
     """Steam is vented only when every supplier that the header's controller moves is
-    at its minimum (engineering.md section 6)."""
+    at its minimum (docs/model-file.md, "How the balance closes")."""
     m, r = solved[(path, case)]
     eq = r.equipment.set_index("item")
     for n, v in m.table("vent").items():

@@ -44,3 +44,69 @@ def test_readme_quick_start_has_exactly_two_commands():
     assert len(cmds) == 2 and all(len(c.strip().splitlines()) == 1 for c in cmds)
     ci = (ROOT / ".ci" / "run").read_text()
     assert cmds[1].strip() in ci
+
+
+#: What no file of the project may cite: design notes outside the repository and issue
+#: numbers (the rule belongs on the project's own docs page: docs/method.md,
+#: docs/checks/...). Written as patterns so that this file does not cite them itself.
+FORBIDDEN = re.compile(r"\.\./shared|engineering\.md|style\.md|engineering[\s_]+notes"
+                       r"|\bissues?\s*#|\bissues?\s+\d", flags=re.I)
+
+
+def _tracked_text_files():
+    r = subprocess.run(["git", "ls-files", "-z"], cwd=ROOT, capture_output=True)
+    if r.returncode == 0:
+        names = [n for n in r.stdout.decode().split("\0") if n]
+    else:                                    # not a git checkout: every file but builds
+        skip = {".git", ".venv", "build", "dist", "__pycache__"}
+        names = [str(p.relative_to(ROOT)) for p in ROOT.rglob("*") if p.is_file()
+                 and not skip & set(p.relative_to(ROOT).parts)
+                 and not p.parent.name.endswith(".egg-info")]
+    for name in names:
+        data = (ROOT / name).read_bytes() if (ROOT / name).is_file() else b""
+        if b"\0" in data:
+            continue
+        try:
+            yield name, data.decode("utf-8")
+        except UnicodeDecodeError:
+            continue
+
+
+def _help_texts():
+    from click.testing import CliRunner
+
+    from steamnet.cli import main
+    yield "steamnet --help", CliRunner().invoke(main, ["--help"]).output
+    for name in sorted(main.commands):
+        yield f"steamnet {name} --help", CliRunner().invoke(main, [name, "--help"]).output
+
+
+def _hits(where, text):
+    return [f"{where}:{n}: {line.strip()}" for n, line in enumerate(text.splitlines(), 1)
+            if FORBIDDEN.search(line)]
+
+
+def test_the_pattern_catches_what_it_must():
+    # each example in two pieces, so that this file does not hold what it forbids
+    for a, b in [("see ../", "shared/notes"), ("Engineering", ".md section 5"),
+                 ("STYLE", ".md"), ("the engineering", " notes, section 8"),
+                 ("issue", " 7"), ("Issue", " #12"), ("(issue", " 2: 1e-6 relative)"),
+                 ("issues", " 3 and 4")]:
+        text = a + b
+        assert FORBIDDEN.search(text), text
+    for text in ["no issue with that", "an issue: the flow", "docs/method.md"]:
+        assert not FORBIDDEN.search(text), text
+
+
+def test_no_file_cites_notes_outside_the_repository_or_issue_numbers():
+    files = list(_tracked_text_files())
+    assert any(name == "README.md" for name, _ in files)
+    hits = [h for name, text in files for h in _hits(name, text)]
+    assert not hits, "point to docs/method.md or docs/checks/ instead:\n" + "\n".join(hits)
+
+
+def test_no_help_text_cites_notes_outside_the_repository_or_issue_numbers():
+    texts = list(_help_texts())
+    assert len(texts) > 5 and all("Usage:" in t for _, t in texts)
+    hits = [h for where, text in texts for h in _hits(where, text)]
+    assert not hits, "\n".join(hits)

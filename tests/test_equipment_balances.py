@@ -2,7 +2,7 @@
 properties of an independent IF97 implementation (CoolProp's IF97 backend, see
 ``if97_ref``), never from steamnet's property layer.
 
-Equations: engineering.md section 5 (boiler, turbines, let-down and desuperheater,
+Equations: docs/method.md, "Equipment equations" (boiler, turbines, let-down and desuperheater,
 deaerator, user, header). The networks are tiny and built so that every flow follows in
 closed form (or from a 3 x 3 linear system solved here).
 
@@ -145,7 +145,7 @@ flow = "15 t/h"
 
 def test_backpressure_turbine_wet_exhaust_flags_the_header():
     """Steam with little superheat expanded to a low header arrives wet: the exhaust
-    quality and the header's wetness are reported (engineering.md section 5)."""
+    quality and the header's wetness are reported (docs/method.md, "Equipment equations")."""
     text = (headers(hp="10 bar(g)", lp="0.5 bar(g)") + external_water(p="15 bar(g)")
             + boiler(t="200 degC")
             + turbine('mode = "swing"\nmechanical_efficiency = "98 %"', eta="70 %")

@@ -1,5 +1,5 @@
 """Failure paths: what the user sees when a case cannot be solved, and that nothing the
-user had is lost when a run fails or is interrupted (issue 6, point 4)."""
+user had is lost when a run fails or is interrupted."""
 
 from __future__ import annotations
 

@@ -27,7 +27,7 @@ from hypothesis import strategies as st
 from conftest import DATA, DEMO
 from steamnet import Model, loads_model
 from steamnet.errors import ModelError
-from steamnet.synth import random_model_text
+from steamnet.testing.synth import random_model_text
 from toml_mutations import mutate
 
 SOURCE = "fuzzed.toml"

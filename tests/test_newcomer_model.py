@@ -1,4 +1,4 @@
-"""A newcomer's first model (issue 2, "Done when"): three headers written as the model
+"""A newcomer's first model: three headers written as the model
 file reference describes them, checked with ``steamnet check``, solved with
 ``steamnet solve``, and its balances recomputed from the result tables."""
 

@@ -1,7 +1,7 @@
 """Property test: random valid networks either balance, checked independently, or are
 reported infeasible with the header (and the limits) that fail.
 
-Networks come from :mod:`steamnet.synth` (seed and sizes drawn by hypothesis, up to 10
+Networks come from :mod:`steamnet.testing.synth` (seed and sizes drawn by hypothesis, up to 10
 headers and 60 items of every equipment type). For the base model and every case:
 
 * status 'solved': every header's mass and energy balance, the deaerator's and the
@@ -27,7 +27,7 @@ from hypothesis import strategies as st
 
 from independent_balance import check_case, check_solved
 from steamnet import loads_model, solve_case, solve_cases
-from steamnet.synth import min_items, random_model, random_model_text, to_toml
+from steamnet.testing.synth import min_items, random_model, random_model_text, to_toml
 
 SETTINGS = dict(deadline=None, derandomize=True, database=None,
                 suppress_health_check=[HealthCheck.too_slow])

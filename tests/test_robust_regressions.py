@@ -1,4 +1,4 @@
-"""Regressions for the core faults the random-network fuzz found (issue 6).
+"""Regressions for the core faults the random-network fuzz found (tests/run_long_fuzz.py).
 
 Each test is a small hand-written model that showed one fault before its fix; the
 comment says what went wrong. The balances are checked with the project's own residuals
@@ -351,7 +351,7 @@ def _long_fuzz_model(seed: int):
     from pathlib import Path
     sys.path.insert(0, str(Path(__file__).resolve().parent))
     from run_long_fuzz import network_sizes
-    from steamnet.synth import random_model_text
+    from steamnet.testing.synth import random_model_text
     nh, ni = network_sizes(seed)
     return loads_model(random_model_text(seed, n_headers=nh, n_items=ni),
                        source=f"seed{seed}.toml")

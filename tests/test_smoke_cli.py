@@ -1,4 +1,4 @@
-"""The command line on the demo plant: exit codes of engineering.md / issue 2 point 8."""
+"""The command line on the demo plant: exit codes of steamnet/cli/__init__.py."""
 
 from __future__ import annotations
 

@@ -1,4 +1,4 @@
-"""The fast sweep path gives the answers of the reference path (issue 7, point 2).
+"""The fast sweep path gives the answers of the reference path (docs/performance.md).
 
 Two live code paths are compared, never stored numbers: ``reference=True`` makes every
 case model from scratch (``Model.with_changes``), builds its Net from scratch and
@@ -28,10 +28,10 @@ from steamnet.solver import balance
 from steamnet.solver import reference as ref_module
 from steamnet.solver.assembly import Plan
 from steamnet.solver.network import build
-from steamnet.synth import random_model_text
+from steamnet.testing.synth import random_model_text
 from conftest import DEMO
 
-#: Agreement required between the two paths [-] (issue 7: 1e-9 relative).
+#: Agreement required between the two paths [-] (1e-9 relative, docs/performance.md).
 RTOL = 1e-9
 
 

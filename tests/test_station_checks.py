@@ -3,7 +3,7 @@
 Station data are invented for the demo plant "Orlewick Board Mill"; they only place the
 operating point on one side or the other of each limit. The references are:
 
-* default limits and their source labels: steamnet engineering notes, section 8;
+* default limits and their source labels: docs/checks/index.md;
 * saturation temperatures: IAPWS R7-97(2012), Table 35;
 * velocities and spray flows recomputed from CoolProp's IF97 backend;
 * Kv by IEC 60534-2-1 through steamnet.calc.valve (itself checked against the
@@ -22,7 +22,7 @@ from CoolProp.CoolProp import PropsSI
 
 from steamnet import properties as props
 from steamnet.calc import size_steam_valve, size_water_valve, spray_water_flow
-from steamnet.errors import ModelError
+from steamnet.errors import InternalError, ModelError
 from steamnet.stations import (ALL_CASES, CheckRow, DesuperheaterData, StationData,
                                StationLimits, StationPoint, Status, ValveData,
                                check_across_cases, check_approach_to_saturation,
@@ -69,7 +69,7 @@ def _ds(**changes) -> DesuperheaterData:
 
 
 # ------------------------------------------------------------------------- limits
-def test_default_limits_as_in_engineering_notes_section_8():
+def test_default_limits_as_in_docs_checks_index():
     lim = StationLimits()
     assert (lim.spray_capacity_warn, lim.spray_capacity_fail) == (0.85, 1.00)
     assert (lim.approach_fail, lim.approach_warn) == (8.0, 10.0)
@@ -394,5 +394,7 @@ def test_rows_are_checkrows_with_docs_pages():
 
 
 def test_wrong_station_rejected():
-    with pytest.raises(ModelError, match="station"):
+    """A point of one station handed to another's checks is a fault of the caller in
+    steamnet, not of the input: an internal error."""
+    with pytest.raises(InternalError, match="station 'another'"):
         check_point(_station(), _point(station="another"))

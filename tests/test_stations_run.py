@@ -1,4 +1,4 @@
-"""Station checks wired to the balance: the demo plant (issue 4, "Done when")."""
+"""Station checks wired to the balance: the demo plant."""
 
 from __future__ import annotations
 
@@ -20,7 +20,7 @@ def demo_report():
     return study, run_checks(study)
 
 
-#: The single-point checks of engineering.md section 8.
+#: The single-point checks of docs/checks/index.md.
 POINT_IDS = {"approach_to_saturation", "steam_turndown", "spray_capacity", "spray_turndown",
              "letdown_valve_travel", "spray_valve_travel", "spray_water_pressure",
              "downstream_velocity", "sensor_distance"}

@@ -1,4 +1,4 @@
-"""Case tables and hourly profiles (issue 3, point 1).
+"""Case tables and hourly profiles (docs/howto-cases.md).
 
 The independent reference for a table case is the same change written as a
 ``[[case]]`` of a model file and solved by the core: the two paths must give the same

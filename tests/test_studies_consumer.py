@@ -1,7 +1,7 @@
-"""A new consumer (issue 3, point 3).
+"""A new consumer (docs/howto-new-consumer.md).
 
 (1) One header, one swing boiler on external feedwater: the added steam, fuel and water
-follow from the boiler balance of engineering.md section 5 with enthalpies from
+follow from the boiler balance of docs/method.md, "Equipment equations", with enthalpies from
 CoolProp's IF97 backend. (2) On the demo plant the 'with' values equal a model file
 that has the user written into it, solved by the core, and the model file itself is not
 changed.

@@ -1,4 +1,4 @@
-"""Headroom per header (issue 3, point 4).
+"""Headroom per header (docs/howto-headroom.md).
 
 Checks: (1) networks whose headroom follows from a header mass balance in closed form;
 (2) on the demo plant, for every header of every case, the reported headroom added as a

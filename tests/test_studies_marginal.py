@@ -1,9 +1,9 @@
-"""Marginal cost of steam (issue 3, point 5).
+"""Marginal cost of steam (docs/howto-marginal-cost.md).
 
 (1) One header, a swing boiler fed from an external feedwater supply: the marginal cost
 of a tonne of steam is recomputed by hand from CoolProp's IF97 backend with the boiler
-balance of engineering.md section 5 (feedwater = steam / (1 - blowdown); fuel = (m_s
-(h_s - h_fw) + m_bd (h_bd - h_fw)) / efficiency; blowdown leaves as saturated liquid at
+balance of docs/method.md, "Equipment equations" (feedwater = steam / (1 - blowdown);
+fuel = (m_s (h_s - h_fw) + m_bd (h_bd - h_fw)) / efficiency; blowdown leaves as saturated liquid at
 drum pressure) and the water bought per tonne of steam. (2) On the demo plant, a finite
 difference with another step (+2 t/h, solved here through the core) matches the
 reported marginal cost within 2 %.

@@ -1,5 +1,5 @@
 """The progress bar of long studies: drawn on a terminal only, never for a handful of
-steps, never with --quiet, and its line removed when closed (issue 3, point 6)."""
+steps, never with --quiet, and its line removed when closed."""
 
 from __future__ import annotations
 

@@ -1,8 +1,8 @@
-"""Trip screening (issue 3, point 2).
+"""Trip screening (docs/howto-trips.md).
 
 The trip of a backpressure turbine is checked against a hand balance of the tripped
 plant recomputed here from raw properties of CoolProp's IF97 backend (IAPWS-IF97), with
-the closed-form equipment balances of engineering.md section 5: desuperheater spray
+the closed-form equipment balances of docs/method.md, "Equipment equations": desuperheater spray
 ratio, boiler feedwater = steam / (1 - blowdown), deaerator mass and energy balances.
 """
 

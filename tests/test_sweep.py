@@ -1,4 +1,5 @@
-"""Parallel sweeps give the same answers as serial ones (issue 7, point 3)."""
+"""Parallel sweeps give the same answers as serial ones (docs/performance.md,
+"Parallel sweeps")."""
 
 from __future__ import annotations
 

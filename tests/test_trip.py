@@ -1,6 +1,6 @@
 """The turbine trip: the tripped turbine's steam reaches the lower header through the
-let-down stations, and the spray water rises accordingly (issue 2, "Tests";
-engineering.md sections 1 and 5).
+let-down stations, and the spray water rises accordingly
+(docs/method.md, "Equipment equations").
 
 Two checks:
 
@@ -26,7 +26,7 @@ from helpers import (DA_WATER, boiler, deaerator, equip, header, headers, j_kg, 
 from steamnet.model.load import load_model
 from steamnet.sweep import solve_cases
 
-CLOSE = 1e-6          # the closure the balance promises (issue 2, point 6)
+CLOSE = 1e-6          # the closure the balance promises (docs/method.md)
 
 
 def _ratio(h_in, h_set, h_w):

@@ -1,4 +1,4 @@
-"""The workbook's numbers against the solver's result tables (issue 5, tests).
+"""The workbook's numbers against the solver's result tables (docs/workbook.md).
 
 Each workbook is read twice, independently: by pandas with the calamine engine (a Rust
 reader, no openpyxl) and by openpyxl. Every numeric cell of the headers, equipment and
@@ -20,7 +20,7 @@ from wb_helpers import close, sheet_frame, stand_in_checks
 from wb_helpers import study, book  # noqa: F401 (fixtures)
 
 # The headings of the headers sheet, written out here as the specification: every
-# numeric column carries its unit (engineering.md section 3).
+# numeric column carries its unit (docs/results.md).
 HEADER_HEADINGS = {
     "Pressure [bar(g)]": "p_barg", "Pressure [bar(a)]": "p_bara",
     "Temperature [°C]": "t_degc", "Saturation temperature [°C]": "t_sat_degc",

@@ -1,5 +1,5 @@
-"""The CSV export: the same tables as the workbook, numbers at full precision (issue 5,
-point 6). Read back with pandas' CSV reader and compared with the solver's tables."""
+"""The CSV export: the same tables as the workbook, numbers at full precision
+(docs/workbook.md). Read back with pandas' CSV reader and compared with the solver's tables."""
 
 from __future__ import annotations
 

@@ -1,6 +1,6 @@
 """A long run (more cases than LARGE_RUN): the overview turns to one row per case, the
 per-case bar chart is left out, the station summary counts cases (hours) per verdict.
-Speed and memory of 8,760 cases are measured by tests/bench_workbook.py, not here."""
+Speed and memory of 8,760 cases are measured by benchmarks/bench_workbook.py, not here."""
 
 from __future__ import annotations
 

@@ -1,4 +1,4 @@
-"""Writing the workbook safely, reproducibly, and from the command line (issue 5).
+"""Writing the workbook safely, reproducibly, and from the command line (docs/workbook.md).
 
 A failed write never leaves a half-written file nor destroys the previous one; the same
 inputs give the same cells (apart from the run's time on the cover); the ``report``

@@ -1,6 +1,6 @@
-"""The workbook's sheets, layout, charts, drawing and markings (issue 5, tests).
+"""The workbook's sheets, layout, charts, drawing and markings (docs/workbook.md).
 
-Sources: the sheet list and layout rules of issue 5; the model file itself (parsed here
+Sources: the sheet list and layout rules of docs/workbook.md; the model file itself (parsed here
 with tomllib) for the inputs sheet; the OOXML package (read as a zip) for formulas.
 """
 

@@ -17,7 +17,7 @@ import pytest
 import steamnet
 from conftest import DATA, DEMO
 
-#: Limits used by the stand-in checks: engineering.md section 8 (spray capacity warn
+#: Limits used by the stand-in checks: docs/checks/index.md (spray capacity warn
 #: above 85 %, fail above 100 %; approach fail below 8 K, warn below 10 K; common
 #: practice, no source).
 SPRAY_WARN, SPRAY_FAIL, APPROACH_FAIL, APPROACH_WARN = 85.0, 100.0, 8.0, 10.0
@@ -52,7 +52,7 @@ def stand_in_checks(study, *, advice: str = "") -> pd.DataFrame:
 
     spray_capacity = 100 * spray / maximum spray of the model file [%];
     approach = outlet temperature - saturation temperature of the outlet header [K];
-    control_gain ~ 1 / (steam + spray), engineering.md section 8 (the gain of outlet
+    control_gain ~ 1 / (steam + spray), docs/checks/gain_spread_spray.md (the gain of outlet
     temperature to spray flow falls inversely with total flow), scaled to 40 K/(t/h)
     at 1 t/h: a stand-in of the right shape, not a computed gain.
     """

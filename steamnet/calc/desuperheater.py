@@ -15,9 +15,9 @@ References
 ----------
 .. [1] IAPWS R7-97(2012), Revised Release on the IAPWS Industrial Formulation 1997 for
    the Thermodynamic Properties of Water and Steam (the enthalpies).
-.. [2] steamnet engineering notes, section 5 (desuperheater balance) and section 8
-   (control gain); the 1/(steam + spray) dependence of the gain follows from the
-   energy balance and is common practice, no source.
+.. [2] docs/method.md, "Equipment equations" (desuperheater balance), and
+   docs/checks/gain_spread_spray.md (control gain); the 1/(steam + spray) dependence of
+   the gain follows from the energy balance and is common practice, no source.
 """
 
 from __future__ import annotations

@@ -2,8 +2,10 @@
 
 Exit codes: 0 all cases solved (and, for station checks, nothing failed); 1 a case is
 infeasible or did not converge, or a check failed; 2 bad input (the message names the
-file, the item and the field); 3 an output file could not be written; 4 an internal
-error (please report it; ``--debug`` shows the traceback); 130 interrupted.
+file, the item and the field) or an optional package missing for what was asked (the
+message gives the pip command that installs it); 3 an output file could not be written;
+4 an internal error (please report it; ``--debug`` shows the traceback); 130
+interrupted.
 """
 
 from __future__ import annotations
@@ -14,7 +16,8 @@ import traceback
 import click
 
 from .._version import __version__
-from ..errors import ModelError, SteamnetError
+from ..errors import (InternalError, MissingDependencyError, ModelError,
+                      SteamnetError)
 
 EXIT_OK, EXIT_FAIL, EXIT_INPUT, EXIT_OUTPUT, EXIT_INTERNAL, EXIT_INTERRUPT = 0, 1, 2, 3, 4, 130
 
@@ -29,6 +32,12 @@ class _Group(click.Group):
         except ModelError as exc:
             click.echo(_error_text(exc), err=True)
             ctx.exit(EXIT_INPUT)
+        except MissingDependencyError as exc:      # the message says what to install
+            click.echo(f"error: {exc}", err=True)
+            ctx.exit(EXIT_INPUT)
+        except InternalError as exc:
+            _internal(exc, debug)
+            ctx.exit(EXIT_INTERNAL)
         except BrokenPipeError:          # output piped into `head` and closed
             sys.stderr.close()
             ctx.exit(EXIT_OK)
@@ -42,11 +51,16 @@ class _Group(click.Group):
         except (click.exceptions.Exit, click.exceptions.Abort, click.ClickException):
             raise
         except Exception as exc:  # pragma: no cover - defensive
-            if debug:
-                traceback.print_exc()
-            click.echo(f"internal error: {type(exc).__name__}: {exc} (please report "
-                       "this; run with --debug for details)", err=True)
+            _internal(exc, debug)
             ctx.exit(EXIT_INTERNAL)
+
+
+def _internal(exc: Exception, debug: bool) -> None:
+    """The one-line report of a fault of steamnet (with the traceback under --debug)."""
+    if debug:
+        traceback.print_exc()
+    click.echo(f"internal error: {type(exc).__name__}: {exc} (please report this; run "
+               "with --debug for details)", err=True)
 
 
 def _error_text(exc: ModelError) -> str:

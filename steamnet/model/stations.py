@@ -166,7 +166,7 @@ _KINDS = {
 class StationLimits:
     """Limits of the let-down station checks, SI units (fractions as 0..1).
 
-    Defaults from the engineering notes, section 8; :attr:`LIMIT_SOURCES` gives the
+    Defaults from docs/checks/index.md; :attr:`LIMIT_SOURCES` gives the
     source label of each and :attr:`LIMIT_KINDS` the kind of quantity, so that a
     model loader can parse a table of overrides with units generically.
 

@@ -17,21 +17,13 @@ from dataclasses import dataclass, field, replace
 from .. import properties as props
 from ..calc.desuperheater import spray_ratio
 from ..calc.pump import pump_work
-from ..errors import PropertyRangeError
+from ..errors import ItemPropertyError, PropertyRangeError  # noqa: F401 (re-exported)
 from ..model.schema import VENT_RANK
 
 INF = math.inf
 #: Least enthalpy above saturated liquid a duty-based user is computed with, as a
 #: fraction of the header's latent heat [-]
 USER_DH_FLOOR = 0.01
-
-
-class ItemPropertyError(Exception):
-    """A property call of one item fell outside IAPWS-IF97."""
-
-    def __init__(self, item: str, exc: PropertyRangeError):
-        super().__init__(f"{item}: {exc}")
-        self.item = item
 
 
 @dataclass
@@ -405,7 +397,7 @@ class Coeffs:
 
 
 def expansion(item: str, p_in: float, h_in: float, p_out: float, eta: float) -> dict:
-    """One turbine section: isentropic-efficiency expansion (engineering.md section 5)."""
+    """One turbine section: isentropic-efficiency expansion (docs/method.md)."""
     st_in = _prop(item, props.state_ph, p_in, h_in)
     st_is = _prop(item, props.state_ps, p_out, st_in.s)
     h_out = h_in - eta * (h_in - st_is.h)

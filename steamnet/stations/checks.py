@@ -20,7 +20,7 @@ engineering practice govern.
 
 References
 ----------
-.. [1] steamnet engineering notes, section 8 (checks, default limits, their sources).
+.. [1] docs/checks/index.md (checks, default limits, their sources).
 .. [2] IEC 60534-2-1:2011, sizing equations for fluid flow under installed conditions.
 .. [3] IAPWS R7-97(2012), Revised Release on IF97 (all steam and water states).
 """
@@ -32,7 +32,7 @@ from typing import Iterable
 from .. import properties as props
 from ..calc.desuperheater import evaporation_distance, spray_water_flow
 from ..calc.valve import ValveSizing, size_steam_valve, size_water_valve, valve_travel
-from ..errors import ModelError
+from ..errors import InternalError, ModelError
 from ..units import T_H
 from ..model.stations import StationData, StationLimits, StationPoint, ValveData
 from ._context import (Ctx, control_gains, gain_inputs, needs_row, outlet,
@@ -367,8 +367,9 @@ def check_point(data: StationData, point: StationPoint) -> list[CheckRow]:
 
 def _same_station(data: StationData, point: StationPoint) -> None:
     if point.station != data.name:
-        raise ModelError(f"point of station '{point.station}' given to station "
-                         f"'{data.name}'", item=f"case '{point.case}'")
+        raise InternalError(f"case '{point.case}': the point of station "
+                            f"'{point.station}' was given to the checks of station "
+                            f"'{data.name}'")
 
 
 # ----------------------------------------------------------------- across cases

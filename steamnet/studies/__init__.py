@@ -4,10 +4,15 @@ consumer, headroom per header and the marginal cost of steam.
 Each study is a function returning a pandas DataFrame whose columns carry their unit
 (``flow_t_h``, ``cost_per_h``, ``marginal_cost_per_t``); docs/studies.md lists them.
 
->>> from steamnet import load_model                              # doctest: +SKIP
+>>> from steamnet import load_model
 >>> from steamnet.studies import header_headroom
->>> model = load_model("cases/orlewick.toml")                    # doctest: +SKIP
->>> header_headroom(model, "winter")[["header", "headroom_t_h"]] # doctest: +SKIP
+>>> model = load_model("cases/orlewick.toml")
+>>> table = header_headroom(model, "winter")
+>>> sorted(table["header"])             # one row per header of the model
+['HP', 'LLP', 'LP', 'MP']
+>>> table[["header", "headroom_t_h"]]   # doctest: +ELLIPSIS
+  header  headroom_t_h
+0 ...
 
 Results support engineering studies; they do not replace design by a licensed
 engineer, the equipment maker's data, or the codes in force at the site.

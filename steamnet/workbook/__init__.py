@@ -2,8 +2,10 @@
 
 >>> import steamnet
 >>> from steamnet.workbook import write_workbook
->>> study = steamnet.solve_cases(steamnet.load_model("cases/orlewick.toml"))  # doctest: +SKIP
->>> write_workbook("orlewick.xlsx", study)                                     # doctest: +SKIP
+>>> study = steamnet.solve_cases(steamnet.load_model("cases/orlewick.toml"))
+>>> path = write_workbook("orlewick.xlsx", study)
+>>> path.name
+'orlewick.xlsx'
 
 Sheets and columns: docs/workbook.md.
 """

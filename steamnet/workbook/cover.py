@@ -15,7 +15,7 @@ from .sheet import print_setup, text_cell
 
 __all__ = ["CAUTIONS", "UNITS", "write_cover", "run_facts"]
 
-#: The cautions of engineering.md section 11, on the first sheet of every workbook.
+#: The cautions of docs/cautions.md, on the first sheet of every workbook.
 CAUTIONS = [
     "Let-down stations, relief valves and desuperheaters protect people and equipment.",
     "This workbook supports studies. It does not replace design by a licensed engineer, "

@@ -2,11 +2,11 @@
 
 Not a test (pytest collects test_*.py only). Run:
 
-    .venv/bin/python tests/bench_annual.py                 # workers 1 and 2
-    .venv/bin/python tests/bench_annual.py --reference     # and the reference path
-    .venv/bin/python tests/bench_annual.py --hours 720 --workers 1
+    .venv/bin/python benchmarks/bench_annual.py                 # workers 1 and 2
+    .venv/bin/python benchmarks/bench_annual.py --reference     # and the reference path
+    .venv/bin/python benchmarks/bench_annual.py --hours 720 --workers 1
 
-The hours are the INVENTED DEMO profile of tests/bench_common.py, based on the demo
+The hours are the INVENTED DEMO profile of benchmarks/bench_common.py, based on the demo
 model's "winter" case; the station checks (steamnet.stations.run.run_checks) run on the
 whole study. Each configuration runs in a fresh process; see bench_common for what every
 figure means. The machine is shared: compare ratios from one run.

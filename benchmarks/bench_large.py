@@ -2,10 +2,10 @@
 
 Not a test (pytest collects test_*.py only). Run:
 
-    .venv/bin/python tests/bench_large.py                  # the fast path
-    .venv/bin/python tests/bench_large.py --reference      # and the reference path
+    .venv/bin/python benchmarks/bench_large.py                  # the fast path
+    .venv/bin/python benchmarks/bench_large.py --reference      # and the reference path
 
-The network is steamnet.synth.random_model(seed, 100, 1000): synthetic test data, not a
+The network is steamnet.testing.synth.random_model(seed, 100, 1000): synthetic test data, not a
 plant (with ``--before``, the earlier package solves the network this checkout
 generates). Generating and loading it are timed apart from the solve; the figures are those
 of solving its base case with tables off and running the station checks on it. (At this
@@ -28,7 +28,7 @@ import bench_common as bc
 def run_one(cfg: str, a) -> dict:
     import steamnet
     from steamnet.stations.run import run_checks
-    from steamnet.synth import random_model_text
+    from steamnet.testing.synth import random_model_text
     kind, _ = cfg.split(":")
     t0 = time.perf_counter()
     if kind == "before":
@@ -62,7 +62,7 @@ def run_one(cfg: str, a) -> dict:
 def _text_from_this_checkout(a) -> str:
     """The network text from this checkout's generator, so that an earlier package
     (``--before``, whose own generator may differ) solves the same network."""
-    code = ("import sys; from steamnet.synth import random_model_text; "
+    code = ("import sys; from steamnet.testing.synth import random_model_text; "
             f"sys.stdout.write(random_model_text({a.seed}, n_headers={a.headers}, "
             f"n_items={a.items}))")
     env = {**os.environ, "PYTHONPATH": str(bc.ROOT)}

@@ -1,9 +1,9 @@
 """Scale benchmark (a script, not a test): a generated network of 100 headers and 1,000
 items is loaded and solved; prints wall times, iterations, unknowns and peak memory.
 
-    python tests/bench_scale.py                    # seeds 1-3, 100 headers, 1000 items
-    python tests/bench_scale.py --seeds 7 --profile
-    python tests/bench_scale.py --headers 50 --items 400 --slack 3
+    python benchmarks/bench_scale.py                    # seeds 1-3, 100 headers, 1000 items
+    python benchmarks/bench_scale.py --seeds 7 --profile
+    python benchmarks/bench_scale.py --headers 50 --items 400 --slack 3
 
 Peak memory is reported two ways: the peak of Python allocations during load and solve
 (tracemalloc, which slows the run, so the times come from a separate run without it),
@@ -29,7 +29,7 @@ from pathlib import Path
 sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
 
 from steamnet import loads_model, properties, solve_case  # noqa: E402
-from steamnet.synth import random_model_text  # noqa: E402
+from steamnet.testing.synth import random_model_text  # noqa: E402
 
 
 def run_once(text: str, *, trace: bool = False) -> dict:

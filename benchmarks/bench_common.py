@@ -116,8 +116,9 @@ def parser(doc: str) -> argparse.ArgumentParser:
     ap.add_argument("--workers", type=int, nargs="+", default=[1, 2],
                     help="worker counts to run, in order (default: 1 2)")
     ap.add_argument("--reference", action="store_true",
-                    help="also run the reference solver path (the code before issue 7) "
-                         "with one worker, for a before/after ratio from the same run")
+                    help="also run the reference solver path (the code path before the "
+                         "speed work) with one worker, for a before/after ratio from the "
+                         "same run")
     ap.add_argument("--before", metavar="DIR", default=None,
                     help="also run with the steamnet package found in DIR (a copy of an "
                          "earlier commit, e.g. git archive be085aa | tar -x -C DIR), one "

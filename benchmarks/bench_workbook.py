@@ -1,8 +1,8 @@
 """Benchmark of the workbook writer (not a test): time and peak memory for N synthetic
 copies of the demo's case results, with a station-checks table of the same shape.
 
-    .venv/bin/python tests/bench_workbook.py              # N = 100, 1000, 8760
-    .venv/bin/python tests/bench_workbook.py 8760 --no-checks --csv
+    .venv/bin/python benchmarks/bench_workbook.py              # N = 100, 1000, 8760
+    .venv/bin/python benchmarks/bench_workbook.py 8760 --no-checks --csv
 
 Each N runs in a fresh process so that the peaks do not mix. Printed per N: the time to
 write (wall clock, and the process's CPU time, which a busy machine disturbs less), the
@@ -21,8 +21,8 @@ import tempfile
 import time
 from pathlib import Path
 
-HERE = Path(__file__).resolve().parent
-sys.path.insert(0, str(HERE))
+ROOT = Path(__file__).resolve().parents[1]
+sys.path.insert(0, str(ROOT / "tests"))      # wb_helpers, the demo study of the tests
 
 
 def _rss_mb() -> float:

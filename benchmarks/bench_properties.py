@@ -1,6 +1,6 @@
 """Cost per call of steamnet's property functions, uncached, against iapws.IAPWS97.
 
-Not a test (pytest collects test_*.py only). Run:  python tests/bench_properties.py
+Not a test (pytest collects test_*.py only). Run:  python benchmarks/bench_properties.py
 
 Every call of state_pt, state_ph and state_ps is preceded by clear_cache(), so each one
 pays for its saturation and region look-ups in full; the time of clear_cache() alone is

@@ -53,7 +53,7 @@ import re
 from dataclasses import dataclass, field
 from typing import Any
 
-from . import properties as props
+from .. import properties as props
 
 __all__ = ["random_model", "random_model_text", "to_toml", "min_items",
            "MAX_PRESSURE_BARG", "MIN_PRESSURE_BARG"]
@@ -340,7 +340,7 @@ def random_model_text(seed: int, n_headers: int = 4, n_items: int | None = None,
     """:func:`random_model` as TOML text (a model file)."""
     head = (f"# Synthetic steamnet model: random_model({seed}, n_headers={n_headers}, "
             f"n_items={n_items}{''.join(f', {k}={v!r}' for k, v in kw.items())})\n"
-            "# Generated test data (steamnet.synth); no real plant.\n\n")
+            "# Generated test data (steamnet.testing.synth); no real plant.\n\n")
     return head + to_toml(random_model(seed, n_headers, n_items, **kw))
 
 

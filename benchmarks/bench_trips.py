@@ -2,11 +2,11 @@
 
 Not a test (pytest collects test_*.py only). Run:
 
-    .venv/bin/python tests/bench_trips.py                  # workers 1 and 2
-    .venv/bin/python tests/bench_trips.py --hours 720 --reference
+    .venv/bin/python benchmarks/bench_trips.py                  # workers 1 and 2
+    .venv/bin/python benchmarks/bench_trips.py --hours 720 --reference
 
 For each turbine and extraction turbine that runs in the demo model's "winter" case, and
-each hour of the INVENTED DEMO profile of tests/bench_common.py, the hour is solved with
+each hour of the INVENTED DEMO profile of benchmarks/bench_common.py, the hour is solved with
 ``<table>.<name>.mode = tripped``; the station checks then run on every trip case. The
 untripped hours themselves are benchmark (a). See bench_common for what every figure
 means. The machine is shared: compare ratios from one run.
