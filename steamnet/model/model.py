@@ -20,6 +20,7 @@ from pydantic import ValidationError
 
 from .._version import FORMAT_VERSION
 from ..errors import ModelError, ModelErrors
+from ..io.readfile import check_model_size, read_input
 from .schema import EQUIPMENT_TABLES, NAME_RE, SI, Case, Prices, Site
 
 __all__ = ["Model", "load_model", "loads_model", "ITEM_LABELS"]
@@ -365,7 +366,7 @@ def load_model(path: str | Path) -> Model:
     """
     p = Path(path)
     try:
-        data = p.read_bytes()
+        data = read_input(p, "model file")
     except FileNotFoundError:
         raise ModelErrors([ModelError("file not found", file=str(p))]) from None
     except IsADirectoryError:
@@ -378,6 +379,7 @@ def load_model(path: str | Path) -> Model:
 
 
 def _build(doc: dict, *, source: str, sha256: str) -> Model:
+    check_model_size(doc, source)
     errors: list[ModelError] = []
     for key in doc:
         if key not in _TOP_KEYS:

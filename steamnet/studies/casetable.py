@@ -44,6 +44,8 @@ import pandas as pd
 from pydantic import BaseModel
 
 from ..errors import ModelError, ModelErrors
+from ..io.readfile import check_input
+from ..io.textsafe import control_error, has_controls
 from ..model.model import ITEM_LABELS, Model
 from ..model.schema import EQUIPMENT_TABLES, SI, Prices, Site
 from ..model.validate import validate_model, validate_value_changes
@@ -503,6 +505,7 @@ def _read_frame(path: Path) -> pd.DataFrame:
         raise ModelError("file not found", file=str(path))
     if path.is_dir():
         raise ModelError("is a folder, not a case table", file=str(path))
+    check_input(path, "case table")
     try:
         if suffix == ".csv":
             return pd.read_csv(path, header=None, dtype=str, keep_default_na=False,
@@ -698,6 +701,10 @@ def _case_names(rows, cols, rownum, profile, src, errors) -> list[str]:
             if _is_empty(v):
                 errors.append(ModelError("the case has no name", file=src,
                                          item=f"row {rownum[i]}", field="case"))
+                out.append("")
+            elif has_controls(str(v).strip()):
+                errors.append(control_error(str(v).strip(), file=src,
+                                            item=f"row {rownum[i]}", field="case"))
                 out.append("")
             else:
                 out.append(str(v).strip())
