@@ -60,7 +60,7 @@ def check(model: str) -> None:
 @main.command()
 @click.argument("model", type=click.Path(dir_okay=False))
 @click.option("--case", "cases", multiple=True, help="Solve only this case (repeatable).")
-@click.option("--json", "json_path", type=click.Path(dir_okay=False),
+@click.option("--json", "json_path", type=click.Path(),
               help="Write every result to this JSON file (layout: docs/results.md).")
 @click.option("--quiet", is_flag=True, help="Print only problems.")
 @parallel_options

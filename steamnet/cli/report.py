@@ -5,6 +5,7 @@ from __future__ import annotations
 import click
 
 from ..errors import ModelError
+from ..io.atomic import clean_earlier_runs
 from ..model.model import load_model
 from ..solve import solve_cases
 from . import EXIT_FAIL, EXIT_OK, main
@@ -12,9 +13,9 @@ from . import EXIT_FAIL, EXIT_OK, main
 
 @main.command()
 @click.argument("model", type=click.Path(dir_okay=False))
-@click.option("--out", "out", required=True, type=click.Path(dir_okay=False),
+@click.option("--out", "out", required=True, type=click.Path(),
               help="The Excel workbook to write (.xlsx); replaced only when complete.")
-@click.option("--csv", "csv_folder", type=click.Path(file_okay=False),
+@click.option("--csv", "csv_folder", type=click.Path(),
               help="Also write every table as a CSV file into this folder.")
 @click.option("--case", "cases", multiple=True, help="Only this case (repeatable).")
 @click.option("--network-case", help="The case whose flows the network drawing shows "
@@ -43,6 +44,7 @@ def report(ctx, model: str, out: str, csv_folder: str | None, cases: tuple[str, 
     """
     from ..stations.run import run_checks, station_data
     from ..workbook import write_csv_folder, write_workbook
+    clean_earlier_runs(out, csv_folder)     # temporary files a killed run left
     m = load_model(model)
     data = station_data(m)
     for name in cases:
