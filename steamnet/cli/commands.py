@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import click
 
+from ..io.textsafe import escape_controls
 from ..model.model import load_model
 from ..solve import solve_cases
 from . import EXIT_FAIL, EXIT_OK, main, parallel_options
@@ -19,7 +20,7 @@ def _fmt(v, nd=1):
 def print_summary(study) -> None:
     """A concise summary per case."""
     m = study.model
-    click.echo(f"{m.site.name} ({m.source}, sha256 {m.sha256[:12]})")
+    click.echo(f"{m.site.name} ({escape_controls(m.source)}, sha256 {m.sha256[:12]})")
     for c in study.cases:
         s = c.summary
         mark = {"solved": "ok", "infeasible": "INFEASIBLE",
@@ -53,7 +54,7 @@ def check(model: str) -> None:
     """Validate MODEL (the base and every case) without solving."""
     m = load_model(model)
     n_items = sum(len(v) for v in m.items.values())
-    click.echo(f"{model}: valid ({len(m.headers)} headers, {n_items} items, "
+    click.echo(f"{escape_controls(model)}: valid ({len(m.headers)} headers, {n_items} items, "
                f"{len(m.cases)} cases)")
 
 

@@ -97,7 +97,7 @@ def temp_prefix(target: str | Path) -> str:
 
 
 def _running(pid: int) -> bool:
-    if pid == os.getpid():
+    if pid == os.getpid() or os.name == "nt":    # Windows' os.kill would end the process
         return True
     try:
         os.kill(pid, 0)
