@@ -168,9 +168,10 @@ def test_after_sigkill_the_next_run_removes_what_was_left(tmp_path, previous, mo
     if moment == "workbook":
         assert (tmp_path / "r.xlsx").read_bytes() == book
     assert snapshot(tmp_path / "csv") == tables
-    r = cli("report", ONE, "--out", tmp_path / "r.xlsx", "--csv", tmp_path / "csv",
-            "--studies", "none", "--quiet")
-    assert r.returncode == 0, r.stderr
+    r = CliRunner().invoke(main, ["report", str(ONE), "--out", str(tmp_path / "r.xlsx"),
+                                  "--csv", str(tmp_path / "csv"), "--studies", "none",
+                                  "--quiet"])          # the second run, in this process
+    assert r.exit_code == 0, r.output
     assert hidden(tmp_path) == []
     openpyxl.load_workbook(tmp_path / "r.xlsx")
 
@@ -299,14 +300,14 @@ def test_a_file_over_the_size_cap_is_refused_naming_the_cap(tmp_path):
     big = tmp_path / "big.toml"
     with open(big, "wb") as f:            # a sparse file: no disk used
         f.truncate(CAP + 1)
-    r = cli("check", big, timeout=60)
-    assert r.returncode == EXIT_INPUT, r.stderr
-    assert "read up to 64 MB" in r.stderr
+    r = CliRunner().invoke(main, ["check", str(big)])
+    assert r.exit_code == EXIT_INPUT, r.output
+    assert "is 64.0 MB; a model file is read up to 64 MB" in r.output
     table = tmp_path / "big.csv"
     with open(table, "wb") as f:
         f.truncate(CAP + 1)
-    r = cli("cases", ONE, table, timeout=60)
-    assert r.returncode == EXIT_INPUT and "read up to 64 MB" in r.stderr
+    r = CliRunner().invoke(main, ["cases", str(ONE), str(table)])
+    assert r.exit_code == EXIT_INPUT and "a case table is read up to 64 MB" in r.output
 
 
 # ---------------------------------------------------------- 5. outputs that are folders
