@@ -466,3 +466,29 @@ def test_the_caps_are_the_documented_ones():
     doc = (Path(__file__).resolve().parents[1] / "docs" / "validation.md").read_text(
         encoding="utf-8")
     assert f"{readfile.MAX_MODEL_ITEMS:,} items" in doc
+
+
+def test_a_signal_within_a_deferred_step_is_raised_when_the_step_ends():
+    # signal(7): the handler runs in the main thread between bytecodes; here it only
+    # notes the signal until the step is done
+    from steamnet.io.signals import Terminated, signals_deferred, termination_as_interrupt
+    done, before = [], signal.getsignal(signal.SIGTERM)
+    with termination_as_interrupt():
+        with pytest.raises(Terminated) as exc:
+            with signals_deferred():
+                os.kill(os.getpid(), signal.SIGTERM)
+                for _ in range(1000):          # bytecodes for the handler to run on
+                    pass
+                done.append("the step ran to its end")
+    assert done and exc.value.code == 128 + signal.SIGTERM
+    assert signal.getsignal(signal.SIGTERM) is before       # the previous handler is back
+
+
+def test_temporary_files_noted_are_removed_after_an_interruption(tmp_path):
+    from steamnet.io.atomic import make_temp, remove_own_temps
+    fd, f = make_temp(prefix=".x.", dir=tmp_path)
+    os.close(fd)
+    d = make_temp(folder=True, prefix=".y.", dir=tmp_path)
+    (Path(d) / "part.csv").write_text("half")
+    remove_own_temps()
+    assert hidden(tmp_path) == []

@@ -16,6 +16,7 @@ import click
 
 from .._version import __version__
 from ..errors import ModelError, SteamnetError
+from ..io.atomic import remove_own_temps
 from ..io.signals import termination_as_interrupt
 from ..io.textsafe import escape_controls
 
@@ -37,6 +38,7 @@ class _Group(click.Group):
             sys.stderr.close()
             ctx.exit(EXIT_OK)
         except KeyboardInterrupt as exc:
+            remove_own_temps()
             click.echo(getattr(exc, "text", "interrupted: nothing half-written was kept"),
                        err=True)
             ctx.exit(getattr(exc, "code", EXIT_INTERRUPT))

@@ -18,9 +18,11 @@ from pathlib import Path
 from typing import Callable, Iterator
 
 from ..errors import SteamnetError
+from .signals import signals_deferred
 
 __all__ = ["OutputError", "atomic_path", "write_atomic", "remove_stale", "clean_earlier_runs",
-           "refuse_unwritable", "output_errors", "save_guarded", "temp_prefix"]
+           "refuse_unwritable", "output_errors", "save_guarded", "temp_prefix", "make_temp",
+           "remove_own_temps"]
 
 
 class OutputError(SteamnetError):
@@ -39,8 +41,8 @@ def atomic_path(target: str | Path, suffix: str = "") -> Iterator[Path]:
     refuse_unwritable(target)
     remove_stale(target)
     try:
-        fd, tmp = tempfile.mkstemp(prefix=temp_prefix(target), suffix=suffix or ".tmp",
-                                   dir=folder)
+        fd, tmp = make_temp(prefix=temp_prefix(target), suffix=suffix or ".tmp",
+                            dir=folder)
     except OSError as exc:
         raise OutputError(f"{target}: cannot write in '{folder}': {exc.strerror}") from None
     os.close(fd)
@@ -270,3 +272,28 @@ def save_guarded(save: Callable[[object], None], tmp: Path) -> None:
     except BaseException:
         fh.abandon()
         raise
+
+
+# ----------------------------------------------- this process's temporary files, noted
+_OWN_TEMPS: set[str] = set()
+
+
+def make_temp(*, folder: bool = False, **kw):
+    """``tempfile.mkstemp(**kw)`` (or ``mkdtemp`` with ``folder``), noted for
+    :func:`remove_own_temps`; a signal cannot fall between the two."""
+    with signals_deferred():
+        made = tempfile.mkdtemp(**kw) if folder else tempfile.mkstemp(**kw)
+        _OWN_TEMPS.add(made if folder else made[1])
+    return made
+
+
+def remove_own_temps() -> None:
+    """Remove every temporary file or folder of this process still there (after an
+    interruption that fell where no writer could clean up)."""
+    for p in sorted(_OWN_TEMPS):
+        with contextlib.suppress(OSError):
+            if os.path.isdir(p) and not os.path.islink(p):
+                shutil.rmtree(p)
+            else:
+                os.unlink(p)
+    _OWN_TEMPS.clear()

@@ -28,7 +28,9 @@ import tempfile
 from pathlib import Path
 from typing import Callable, Iterator
 
-from .atomic import OutputError, output_errors, refuse_unwritable, remove_stale, temp_prefix
+from .atomic import (OutputError, make_temp, output_errors, refuse_unwritable, remove_stale,
+                     temp_prefix)
+from .signals import signals_deferred
 
 __all__ = ["atomic_folder"]
 
@@ -54,6 +56,11 @@ def _exchange(a: Path, b: Path) -> bool:
 
 
 def _swap_in(new: Path, target: Path) -> None:
+    with signals_deferred():              # never interrupted between two renames
+        _swap(new, target)
+
+
+def _swap(new: Path, target: Path) -> None:
     if not os.path.lexists(target):
         os.rename(new, target)
         return
@@ -119,7 +126,7 @@ def atomic_folder(target: str | Path, is_ours: Callable[[str], bool]) -> Iterato
     if target.is_dir():
         keep, modes, mode = _existing(target, is_ours)
     try:
-        new = Path(tempfile.mkdtemp(prefix=temp_prefix(target) + "new.", dir=parent))
+        new = Path(make_temp(folder=True, prefix=temp_prefix(target) + "new.", dir=parent))
     except OSError as exc:
         raise OutputError(f"{target}: cannot write in '{parent}': {exc.strerror}") \
             from None

@@ -1,4 +1,4 @@
-"""SIGTERM and SIGHUP handled like Ctrl-C.
+"""SIGTERM and SIGHUP handled like Ctrl-C, and none of them cutting a step in two.
 
 A service manager or ``kill`` ends a run with SIGTERM, a closed terminal with SIGHUP.
 By default either ends Python at once, leaving the hidden temporary file of an output
@@ -6,7 +6,8 @@ beside it. While a command runs, both raise :class:`Terminated` instead (a
 ``KeyboardInterrupt``), which unwinds through the writers like Ctrl-C: the temporary
 files are removed, the previous outputs kept, and the command exits 128 + the signal's
 number. SIGKILL cannot be caught; the next run removes what it left
-(:func:`steamnet.io.atomic.remove_stale`).
+(:func:`steamnet.io.atomic.remove_stale`). Ctrl-C (SIGINT) goes through the same
+handler, so that :func:`signals_deferred` holds all three back alike.
 """
 
 from __future__ import annotations
@@ -17,9 +18,12 @@ import signal
 import threading
 from typing import Iterator
 
-__all__ = ["Terminated", "termination_as_interrupt"]
+__all__ = ["Terminated", "termination_as_interrupt", "signals_deferred"]
 
-_SIGNALS = tuple(getattr(signal, n) for n in ("SIGTERM", "SIGHUP") if hasattr(signal, n))
+_SIGNALS = tuple(getattr(signal, n) for n in ("SIGTERM", "SIGHUP", "SIGINT")
+                 if hasattr(signal, n))
+_deferring = 0
+_pending: list[int] = []
 
 
 class Terminated(KeyboardInterrupt):
@@ -33,6 +37,28 @@ class Terminated(KeyboardInterrupt):
         super().__init__(self.text)
 
 
+def _exception(signum: int) -> KeyboardInterrupt:
+    return KeyboardInterrupt() if signum == signal.SIGINT else Terminated(signum)
+
+
+@contextlib.contextmanager
+def signals_deferred() -> Iterator[None]:
+    """Within the block a handled signal waits; it is raised when the block ends.
+
+    For the few steps that must not be cut in two: making a temporary file and noting
+    it for removal, swapping a folder in."""
+    global _deferring
+    _deferring += 1
+    try:
+        yield
+    finally:
+        _deferring -= 1
+        if not _deferring and _pending:
+            signum = _pending.pop()
+            _pending.clear()
+            raise _exception(signum)
+
+
 @contextlib.contextmanager
 def termination_as_interrupt() -> Iterator[None]:
     """Within the block, SIGTERM and SIGHUP raise :class:`Terminated` in this process
@@ -43,18 +69,25 @@ def termination_as_interrupt() -> Iterator[None]:
     owner = os.getpid()
 
     def handler(signum, frame):
-        if os.getpid() != owner:            # a forked worker: end as by default
+        if os.getpid() != owner:            # a forked worker: as by default
+            if signum == signal.SIGINT:
+                raise KeyboardInterrupt
             signal.signal(signum, signal.SIG_DFL)
             os.kill(os.getpid(), signum)
             return
-        for s in _SIGNALS:                  # the clean-up must not be cut short
+        for s in previous:                  # the clean-up must not be cut short
             signal.signal(s, signal.SIG_IGN)
-        raise Terminated(signum)
+        if _deferring:
+            _pending.append(signum)
+            return
+        raise _exception(signum)
 
     previous = {}
     for s in _SIGNALS:
-        if signal.getsignal(s) is signal.SIG_IGN:    # e.g. nohup: leave it ignored
-            continue
+        now = signal.getsignal(s)
+        if now is signal.SIG_IGN or (s == signal.SIGINT
+                                     and now is not signal.default_int_handler):
+            continue                        # e.g. nohup: leave it as it is
         previous[s] = signal.signal(s, handler)
     try:
         yield
