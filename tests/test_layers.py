@@ -14,7 +14,10 @@ PKG = Path(__file__).resolve().parents[1] / "steamnet"
 #: Layers from the bottom up; a module may import from its own layer or below.
 LAYERS = [
     {"steamnet._version", "steamnet.errors", "steamnet.status", "steamnet.units",
-     "steamnet._gc", "steamnet._if97fast", "steamnet.properties"},
+     "steamnet._gc", "steamnet._if97fast", "steamnet.properties",
+     # the file-level helpers of steamnet.io: safe reading, atomic writing, signals
+     "steamnet.io.readfile", "steamnet.io.textsafe", "steamnet.io.atomic",
+     "steamnet.io.atomicdir", "steamnet.io.signals"},
     {"steamnet.calc", "steamnet.graph"},
     {"steamnet.model"},
     {"steamnet.solver"},

@@ -1,11 +1,12 @@
 """The ``steamnet`` command.
 
-Exit codes: 0 all cases solved (and, for station checks, nothing failed); 1 a case is
-infeasible or did not converge, or a check failed; 2 bad input (the message names the
+Exit codes: 0 every case balances and no check fails; 1 a case is infeasible, did not
+converge or could not be computed, or a check fails; 2 bad input (the message names the
 file, the item and the field) or an optional package missing for what was asked (the
 message gives the pip command that installs it); 3 an output file could not be written;
 4 an internal error (please report it; ``--debug`` shows the traceback); 130
-interrupted.
+interrupted (Ctrl-C), 143 ended by SIGTERM, 129 by SIGHUP (nothing half-written is kept
+in any of these).
 """
 
 from __future__ import annotations
@@ -18,6 +19,9 @@ import click
 from .._version import __version__
 from ..errors import (InternalError, MissingDependencyError, ModelError,
                       SteamnetError)
+from ..io.atomic import remove_own_temps
+from ..io.signals import termination_as_interrupt
+from ..io.textsafe import escape_controls
 
 EXIT_OK, EXIT_FAIL, EXIT_INPUT, EXIT_OUTPUT, EXIT_INTERNAL, EXIT_INTERRUPT = 0, 1, 2, 3, 4, 130
 
@@ -28,7 +32,8 @@ class _Group(click.Group):
     def invoke(self, ctx):
         debug = bool(ctx.params.get("debug"))
         try:
-            return super().invoke(ctx)
+            with termination_as_interrupt():
+                return super().invoke(ctx)
         except ModelError as exc:
             click.echo(_error_text(exc), err=True)
             ctx.exit(EXIT_INPUT)
@@ -41,12 +46,14 @@ class _Group(click.Group):
         except BrokenPipeError:          # output piped into `head` and closed
             sys.stderr.close()
             ctx.exit(EXIT_OK)
-        except KeyboardInterrupt:
-            click.echo("interrupted: nothing half-written was kept", err=True)
-            ctx.exit(EXIT_INTERRUPT)
+        except KeyboardInterrupt as exc:
+            remove_own_temps()
+            click.echo(getattr(exc, "text", "interrupted: nothing half-written was kept"),
+                       err=True)
+            ctx.exit(getattr(exc, "code", EXIT_INTERRUPT))
         except SteamnetError as exc:
             from ..io.atomic import OutputError
-            click.echo(f"error: {exc}", err=True)
+            click.echo(f"error: {escape_controls(str(exc))}", err=True)
             ctx.exit(EXIT_OUTPUT if isinstance(exc, OutputError) else EXIT_FAIL)
         except (click.exceptions.Exit, click.exceptions.Abort, click.ClickException):
             raise
@@ -59,13 +66,13 @@ def _internal(exc: Exception, debug: bool) -> None:
     """The one-line report of a fault of steamnet (with the traceback under --debug)."""
     if debug:
         traceback.print_exc()
-    click.echo(f"internal error: {type(exc).__name__}: {exc} (please report this; run "
-               "with --debug for details)", err=True)
+    click.echo(f"internal error: {type(exc).__name__}: {escape_controls(str(exc))} "
+               "(please report this; run with --debug for details)", err=True)
 
 
 def _error_text(exc: ModelError) -> str:
     errors = getattr(exc, "errors", [exc])
-    lines = [f"error: {e}" for e in errors[:50]]
+    lines = [f"error: {escape_controls(str(e))}" for e in errors[:50]]
     if len(errors) > 50:
         lines.append(f"... and {len(errors) - 50} more")
     return "\n".join(lines)

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import click
 
+from ..io.textsafe import escape_controls
 from ..model.load import load_model
 from ..sweep import solve_cases
 from . import EXIT_FAIL, EXIT_OK, main, parallel_options
@@ -20,7 +21,7 @@ def _fmt(v, nd=1):
 def print_summary(study) -> None:
     """A concise summary per case."""
     m = study.model
-    click.echo(f"{m.site.name} ({m.source}, sha256 {m.sha256[:12]})")
+    click.echo(f"{m.site.name} ({escape_controls(m.source)}, sha256 {m.sha256[:12]})")
     for c in study.cases:
         s = c.summary
         mark = {CaseStatus.SOLVED: "ok", CaseStatus.INFEASIBLE: "INFEASIBLE",
@@ -54,14 +55,14 @@ def check(model: str) -> None:
     """Validate MODEL (the base and every case) without solving."""
     m = load_model(model)
     n_items = sum(len(v) for v in m.items.values())
-    click.echo(f"{model}: valid ({len(m.headers)} headers, {n_items} items, "
+    click.echo(f"{escape_controls(model)}: valid ({len(m.headers)} headers, {n_items} items, "
                f"{len(m.cases)} cases)")
 
 
 @main.command()
 @click.argument("model", type=click.Path(dir_okay=False))
 @click.option("--case", "cases", multiple=True, help="Solve only this case (repeatable).")
-@click.option("--json", "json_path", type=click.Path(dir_okay=False),
+@click.option("--json", "json_path", type=click.Path(),
               help="Write every result to this JSON file (layout: docs/results.md).")
 @click.option("--quiet", is_flag=True, help="Print only problems.")
 @parallel_options

@@ -5,6 +5,7 @@ from __future__ import annotations
 import click
 
 from ..errors import ModelError
+from ..io.atomic import clean_earlier_runs
 from ..model.load import load_model
 from ..sweep import solve_cases
 from . import main
@@ -12,9 +13,9 @@ from . import main
 
 @main.command()
 @click.argument("model", type=click.Path(dir_okay=False))
-@click.option("--out", "out", required=True, type=click.Path(dir_okay=False),
+@click.option("--out", "out", required=True, type=click.Path(),
               help="The Excel workbook to write (.xlsx); replaced only when complete.")
-@click.option("--csv", "csv_folder", type=click.Path(file_okay=False),
+@click.option("--csv", "csv_folder", type=click.Path(),
               help="Also write every table as a CSV file into this folder.")
 @click.option("--case", "cases", multiple=True, help="Only this case (repeatable).")
 @click.option("--network-case", help="The case whose flows the network drawing shows "
@@ -49,6 +50,7 @@ def report(ctx, model: str, out: str, csv_folder: str | None, cases: tuple[str, 
     from ..evaluate import evaluate
     from .verdict import finish_evaluation
     from ..workbook import write_csv_folder, write_workbook
+    clean_earlier_runs(out, csv_folder)     # temporary files a killed run left
     m = load_model(model)
     data = m.stations
     for name in cases:

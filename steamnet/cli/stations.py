@@ -13,7 +13,7 @@ from .verdict import EXIT_CODES_HELP, finish_evaluation, print_findings
 @main.command()
 @click.argument("model", type=click.Path(dir_okay=False))
 @click.option("--case", "cases", multiple=True, help="Only this case (repeatable).")
-@click.option("--json", "json_path", type=click.Path(dir_okay=False),
+@click.option("--json", "json_path", type=click.Path(),
               help="Write the balance and every check to this JSON file.")
 @click.option("--all", "show_all", is_flag=True, help="List every finding, not the 25 "
               "worst.")

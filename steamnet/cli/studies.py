@@ -37,7 +37,7 @@ _STUDY_OPTIONS = [
                  ".xlsx) instead of the model file."),
     click.option("--base", help="Model-file case that table rows without based_on (and "
                  "every hour of a profile) start from; default the base model."),
-    click.option("--json", "json_path", type=click.Path(dir_okay=False),
+    click.option("--json", "json_path", type=click.Path(),
                  help="Also write the results to this JSON file (written at the end)."),
     click.option("--quiet", is_flag=True, help="No progress bar; print only problems."),
     click.option("--rows", default=20, show_default=True, type=click.IntRange(0),

@@ -44,6 +44,8 @@ from ..model.chain import CaseLoop, case_chain
 from ..model.fields import FieldKind, name_list, resolve_key
 from ..model.model import Model
 from ..model.schema import SI
+from .readfile import check_input
+from .textsafe import control_error, has_controls
 from ..units import Kind, parse_quantity, unit_factor
 
 __all__ = ["read_case_table"]
@@ -158,6 +160,7 @@ def _read_frame(path: Path) -> pd.DataFrame:
         raise ModelError("file not found", file=str(path))
     if path.is_dir():
         raise ModelError("is a folder, not a case table", file=str(path))
+    check_input(path, "case table")
     try:
         if suffix == ".csv":
             return pd.read_csv(path, header=None, dtype=str, keep_default_na=False,
@@ -353,6 +356,10 @@ def _case_names(rows, cols, rownum, profile, src, errors) -> list[str]:
             if _is_empty(v):
                 errors.append(ModelError("the case has no name", file=src,
                                          item=f"row {rownum[i]}", field="case"))
+                out.append("")
+            elif has_controls(str(v).strip()):
+                errors.append(control_error(str(v).strip(), file=src,
+                                            item=f"row {rownum[i]}", field="case"))
                 out.append("")
             else:
                 out.append(str(v).strip())

@@ -18,6 +18,7 @@ from typing import Any
 
 from .._version import FORMAT_VERSION
 from ..errors import ModelError, ModelErrors
+from ..io.readfile import check_model_size, read_input
 from .model import Model
 from .parse import validate_item
 from .schema import EQUIPMENT_TABLES, ITEM_LABELS, NAME_RE, Case, Prices, Site, item_label
@@ -63,7 +64,7 @@ def load_model(path: str | Path) -> Model:
     """
     p = Path(path)
     try:
-        data = p.read_bytes()
+        data = read_input(p, "model file")
     except FileNotFoundError:
         raise ModelErrors([ModelError("file not found", file=str(p))]) from None
     except IsADirectoryError:
@@ -76,6 +77,7 @@ def load_model(path: str | Path) -> Model:
 
 
 def _build(doc: dict, *, source: str, sha256: str) -> Model:
+    check_model_size(doc, source)
     errors: list[ModelError] = []
     for key in doc:
         if key not in _TOP_KEYS:

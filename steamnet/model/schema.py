@@ -29,7 +29,7 @@ __all__ = [
 
 #: Allowed item names: letters, digits, space and - _ / + ( ) # ; no dots (dots separate
 #: the parts of a case change such as ``user.Tracing.demand``).
-NAME_RE = re.compile(r"^[A-Za-z0-9][A-Za-z0-9 _\-/+()#&]{0,63}$")
+NAME_RE = re.compile(r"^[A-Za-z0-9][A-Za-z0-9 _\-/+()#&]{0,63}\Z")
 
 
 #: How an item is named in messages: table -> label.

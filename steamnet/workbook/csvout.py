@@ -2,15 +2,18 @@
 
 Same tables, columns and headings as the workbook (the case overview one row per case).
 UTF-8, comma separated, numbers at full precision, empty for missing. Text that a
-spreadsheet would take for a formula (beginning with = + - @) is written with a leading
-apostrophe, so that opening a CSV in a spreadsheet cannot run anything. Each file is
-written atomically: a failure leaves the previous file as it was.
+spreadsheet would take for a formula (= + - @ as its first non-blank character, or a
+leading tab or carriage return) is written with a leading apostrophe, so that opening a
+CSV in a spreadsheet cannot run anything. The files are written into a temporary folder
+that replaces the folder's files as a whole (steamnet.io.atomicdir): a failure leaves the
+previous files as they were, and the folder never mixes two runs.
 """
 
 from __future__ import annotations
 
 import csv
 import math
+import re
 from datetime import datetime
 from pathlib import Path
 
@@ -18,14 +21,27 @@ import numpy as np
 import pandas as pd
 
 from ..io.atomic import OutputError, write_atomic
+from ..io.atomicdir import atomic_folder
+from ..io.textsafe import formula_like
 from . import style
 from .columns import Column
 from .cover import run_facts
 from .run import Run
-from .sheet import FORMULA_START, Table
+from .sheet import Table
 from .writer import build_tables
 
-__all__ = ["write_csv_folder", "csv_value"]
+__all__ = ["write_csv_folder", "csv_value", "csv_file_of_ours"]
+
+#: The CSV files this program writes: the fixed tables and one per study. Only these are
+#: replaced or removed when the folder is written again; other files there are kept.
+_OUR_CSV = re.compile(r"(run|cases|headers|equipment|streams|stations|station_summary|"
+                      r"station_envelopes|station_checks|findings|inputs|"
+                      r"study_[0-9a-z_]+)\.csv")
+
+
+def csv_file_of_ours(name: str) -> bool:
+    """True for the name of a CSV file this program writes (see :data:`_OUR_CSV`)."""
+    return _OUR_CSV.fullmatch(name) is not None
 
 
 def csv_value(column: Column, v) -> str:
@@ -41,7 +57,7 @@ def csv_value(column: Column, v) -> str:
     s = str(v)
     if column.kind in ("verdict", "status") and style.rank(s) is not None:
         s = style.display(s)
-    return "'" + s if s.startswith(FORMULA_START) else s
+    return "'" + s if formula_like(s) else s
 
 
 def _write_table(path: Path, table: Table) -> None:
@@ -77,8 +93,8 @@ def write_csv_folder(folder: str | Path, study, *, checks: pd.DataFrame | None =
                                                  Column("value", "Value", "text")],
                       lambda: ([k, v] for k, v in facts))
     out = []
-    for t in [run_table, *build_tables(run, for_csv=True)]:
-        path = folder / f"{t.slug}.csv"
-        _write_table(path, t)
-        out.append(path)
+    with atomic_folder(folder, csv_file_of_ours) as tmp:
+        for t in [run_table, *build_tables(run, for_csv=True)]:
+            _write_table(tmp / f"{t.slug}.csv", t)
+            out.append(folder / f"{t.slug}.csv")
     return out

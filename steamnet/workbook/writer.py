@@ -14,7 +14,7 @@ from openpyxl import Workbook
 from openpyxl.drawing.image import Image
 
 from ..errors import ModelError
-from ..io.atomic import atomic_path
+from ..io.atomic import atomic_path, output_errors, save_guarded
 from . import style
 from .charts import write_charts
 from .cover import write_cover
@@ -191,12 +191,12 @@ def write_workbook(path: str | Path, study, *, checks: pd.DataFrame | None = Non
     contents = [(n, SHEETS.get(n) or what.get(n, "")) for n in order]
     now = datetime.now().astimezone()
     target = Path(path)
-    with atomic_path(target, ".xlsx") as tmp:
+    with atomic_path(target, ".xlsx") as tmp, output_errors(target):
         wb = Workbook(write_only=True)
         try:
             write_cover(wb, run, contents, now)
             _write_sheets(wb, run, tables, order[1:])
-            wb.save(tmp)
+            save_guarded(wb.save, tmp)
         except BaseException:
             _discard(wb)
             raise
