@@ -12,9 +12,11 @@ rated range of docs/checks/steam_turndown.md.
 
 from __future__ import annotations
 
+import json
 import math
 
 import pytest
+from click.testing import CliRunner
 
 from steamnet.errors import ModelError
 from steamnet.model.load import loads_model
@@ -212,3 +214,71 @@ def test_unknown_cases_name_the_known_ones(solved):
         compare_cases(study, report, reference="winter")
     with pytest.raises(ModelError, match=r"no case 'spring'.*normal, more, toomuch"):
         compare_cases(study, report, cases=["spring"])
+
+
+# ------------------------------------------------------------------ command line
+def invoke(*args):
+    from steamnet.cli import main
+    r = CliRunner().invoke(main, [str(a) for a in args])
+    if r.exception is not None and not isinstance(r.exception, SystemExit):
+        raise r.exception
+    return r
+
+
+@pytest.fixture
+def model_file(tmp_path):
+    def make(rated_max="20 t/h"):
+        p = tmp_path / "compare.toml"
+        p.write_text(PLANT.replace("RATED_MAX", rated_max))
+        return p
+    return make
+
+
+def test_cli_exit_0_when_all_is_well(model_file, tmp_path):
+    # a rated maximum of 60 t/h holds the 25.9 t/h of 'more' (closed form above)
+    assert U1_MORE * letdown_share() < 60.0
+    out = tmp_path / "diff.json"
+    r = invoke("compare", model_file("60 t/h"), "--case", "more", "--json", out)
+    assert r.exit_code == 0, r.output
+    assert r.output.strip().splitlines()[-1] == "all cases balance; no check fails"
+    assert "steam raised [t/h]" in r.output
+    doc = json.loads(out.read_text())
+    rows = doc["studies"]["case_differences"]["rows"]
+    steam = [x for x in rows if x["quantity"] == "steam raised"]
+    assert steam[0]["difference"] == pytest.approx((U1_MORE - U1_NORMAL)
+                                                   * letdown_share(), rel=1e-6)
+
+
+def test_cli_exit_1_when_a_compared_case_fails_a_check_or_cannot_balance(model_file):
+    r = invoke("compare", model_file(), "--case", "more")
+    assert r.exit_code == 1
+    assert "steam_turndown" in r.output
+    assert r.output.strip().splitlines()[-1] == \
+        "not all well: 1 station check fails in case 'more'"
+    r = invoke("compare", model_file("60 t/h"), "--case", "toomuch")
+    assert r.exit_code == 1
+    assert "NOT COMPARED" in r.output
+    assert r.output.strip().splitlines()[-1].startswith(
+        "not all well: case 'toomuch' infeasible")
+
+
+def test_cli_exit_2_for_an_unknown_case_and_3_for_an_unwritable_file(model_file,
+                                                                     tmp_path):
+    r = invoke("compare", model_file(), "--case", "spring")
+    assert r.exit_code == 2
+    assert "no case named 'spring' (cases: normal, more, toomuch)" in r.output
+    assert "option --case" in r.output
+    r = invoke("compare", model_file(), "--against", "winter")
+    assert r.exit_code == 2 and "option --against" in r.output
+    r = invoke("compare", model_file("60 t/h"), "--case", "more", "--json",
+               tmp_path / "no such folder" / "x.json")
+    assert r.exit_code == 3
+
+
+def test_help_gives_the_exit_codes():
+    r = invoke("compare", "--help")
+    assert r.exit_code == 0
+    text = " ".join(r.output.split())
+    for words in ("0 every compared case", "1 a compared case", "2 bad input",
+                  "3 the JSON file"):
+        assert words in text
