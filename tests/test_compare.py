@@ -282,3 +282,48 @@ def test_help_gives_the_exit_codes():
     for words in ("0 every compared case", "1 a compared case", "2 bad input",
                   "3 the JSON file"):
         assert words in text
+
+
+# ------------------------------------------------------------------ workbook
+def test_workbook_sheet_reads_back_with_openpyxl_and_calamine(solved, tmp_path):
+    import openpyxl
+    import pandas as pd
+    from steamnet.workbook import write_csv_folder, write_workbook
+    study, report = solved
+    path = tmp_path / "compare.xlsx"
+    write_workbook(path, study, checks=report.checks, envelopes=report.envelopes)
+    names = openpyxl.load_workbook(path, read_only=True).sheetnames
+    assert names.index("Case differences") == names.index("Cases") + 1
+    ws = openpyxl.load_workbook(path)["Case differences"]
+    head = [c.value for c in ws[3]]
+    assert "Difference [unit of the row]" in head
+    d_steam = (U1_MORE - U1_NORMAL) * letdown_share()
+    for frame in (pd.read_excel(path, sheet_name="Case differences", header=2,
+                                engine="calamine"),
+                  pd.DataFrame(list(ws.iter_rows(min_row=4, values_only=True)),
+                               columns=head)):
+        steam = frame[(frame["Case"] == "more") & (frame["Quantity"] == "steam raised")]
+        assert steam["Difference [unit of the row]"].iloc[0] == pytest.approx(d_steam,
+                                                                             rel=1e-6)
+        f = frame[frame["Quantity"] == "steam_turndown"]
+        assert list(f["Reference verdict"]) == ["ok"] and list(f["Verdict"]) == ["fail"]
+        assert list(frame.loc[frame["Case"] == "toomuch", "Section"]) == ["status"]
+    # a temperature row is formatted as the other sheets' degC columns
+    t = [r for r in ws.iter_rows(min_row=4) if r[7].value == "outlet temperature"]
+    assert t and t[0][8].value == "°C" and t[0][10].number_format == "0.0"
+    files = write_csv_folder(tmp_path / "csv", study, checks=report.checks)
+    csv = pd.read_csv(tmp_path / "csv" / "case_differences.csv")
+    assert tmp_path / "csv" / "case_differences.csv" in files
+    assert csv.loc[(csv["Case"] == "more") & (csv["Quantity"] == "steam raised"),
+                   "Difference [unit of the row]"].iloc[0] == pytest.approx(d_steam,
+                                                                           rel=1e-6)
+
+
+def test_no_sheet_for_a_single_case(tmp_path):
+    import openpyxl
+    from steamnet.workbook import write_workbook
+    study = solve_cases(plant(), ["normal"])
+    path = tmp_path / "one.xlsx"
+    write_workbook(path, study)
+    names = openpyxl.load_workbook(path, read_only=True).sheetnames
+    assert "Case differences" not in names and "Cases" in names
