@@ -2,8 +2,6 @@
 
 from __future__ import annotations
 
-import math
-
 import click
 
 from ..errors import ModelError
@@ -30,10 +28,10 @@ def _columns(ref: str, case: str) -> tuple[dict, dict]:
 
 
 def _changed(d):
-    """Rows whose difference is not zero, or whose value is missing on one side only."""
-    keep = [(x != 0 and not math.isnan(x)) or (math.isnan(a) != math.isnan(b))
-            for x, a, b in zip(d["difference"], d["reference_value"], d["value"])]
-    return d[keep]
+    """The rows whose quantity changed (beyond rounding, or on one side only)."""
+    from ..studies.compare import changed
+    return d[[changed(a, b, x) for a, b, x in zip(d["reference_value"], d["value"],
+                                                  d["difference"])]]
 
 
 def _print_pair(d, ref: str, case: str, rows: int, every: bool) -> None:

@@ -23,7 +23,8 @@ from ..stations.rows import SEVERITY, Status
 from ..status import CaseStatus
 from .consumer import TOTALS
 
-__all__ = ["compare_cases", "COMPARE_COLUMNS", "SECTIONS", "pair_problems"]
+__all__ = ["compare_cases", "COMPARE_COLUMNS", "SECTIONS", "pair_problems", "changed",
+           "SAME_REL"]
 
 #: Columns of the case-differences table, in order (docs/studies.md).
 COMPARE_COLUMNS = ["case", "reference", "status", "reference_status", "section", "item",
@@ -58,6 +59,22 @@ def _num(v) -> float:
         return float(v)
     except (TypeError, ValueError):
         return math.nan
+
+
+#: Relative difference below which two values count as the same when the rows that
+#: changed are picked (rounding of the solve, far below its closure of 1e-6) [-]
+SAME_REL = 1e-9
+
+
+def changed(reference_value: float, value: float, difference: float) -> bool:
+    """Whether a row's quantity changed: a difference beyond rounding
+    (:data:`SAME_REL` of the larger value), or a value on one side only."""
+    if math.isnan(reference_value) != math.isnan(value):
+        return True
+    if math.isnan(difference):
+        return False
+    scale = max(abs(_zero_nan(reference_value)), abs(_zero_nan(value)))
+    return abs(difference) > SAME_REL * scale
 
 
 def _difference(a: float, b: float, absent_is_zero: bool) -> float:
@@ -176,9 +193,8 @@ def _findings(head: dict, c0: dict, c1: dict) -> list[dict]:
         a0, u0, s0 = c0.get(key, (None, "", Status.NOT_APPLICABLE.value))
         a1, u1, s1 = c1.get(key, (None, "", Status.NOT_APPLICABLE.value))
         v = _values(a0, a1, False)
-        changed = not (math.isnan(v["difference"]) or v["difference"] == 0) or \
-            (math.isnan(v["reference_value"]) != math.isnan(v["value"]))
-        if s0 == s1 and not (changed and (s0 in _FINDING or s1 in _FINDING)):
+        moved = changed(v["reference_value"], v["value"], v["difference"])
+        if s0 == s1 and not (moved and (s0 in _FINDING or s1 in _FINDING)):
             continue
         out.append({**head, "section": "finding", "item": key[0],
                     "type": "station check", "quantity": key[1], "unit": u1 or u0, **v,
