@@ -13,8 +13,8 @@ from steamnet.workbook.columns import KNOWN
 from wb_helpers import stand_in_checks
 from wb_helpers import study  # noqa: F401 (fixtures)
 
-EXPECTED = {"run", "cases", "headers", "equipment", "streams", "stations",
-            "station_summary", "station_checks", "findings", "inputs"}
+EXPECTED = {"run", "cases", "case_differences", "headers", "equipment", "streams",
+            "stations", "station_summary", "station_checks", "findings", "inputs"}
 
 
 @pytest.fixture(scope="module")

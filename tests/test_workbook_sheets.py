@@ -22,10 +22,11 @@ from wb_helpers import (formulas_in, sheet_frame, stand_in_checks,
                         two_header_study)
 from wb_helpers import study, book  # noqa: F401 (fixtures)
 
-DEMO_SHEETS = ["Cover", "Cases", "Network", "Headers", "Equipment", "Streams", "Stations",
-               "Station summary", "Station charts", "Findings", "Inputs"]
-TABLE_SHEETS = ["Cases", "Headers", "Equipment", "Streams", "Stations", "Station summary",
-                "Inputs"]
+DEMO_SHEETS = ["Cover", "Cases", "Case differences", "Network", "Headers", "Equipment",
+               "Streams", "Stations", "Station summary", "Station charts", "Findings",
+               "Inputs"]
+TABLE_SHEETS = ["Cases", "Case differences", "Headers", "Equipment", "Streams",
+                "Stations", "Station summary", "Inputs"]
 
 
 @pytest.fixture(scope="module")
@@ -81,7 +82,8 @@ def test_units_in_every_numeric_heading(book):
     """A column that holds numbers names its unit in brackets in its heading (counts and
     dimensionless columns included, as [count] and [-])."""
     wb = openpyxl.load_workbook(book)
-    for name in ("Headers", "Equipment", "Streams", "Stations", "Station summary"):
+    for name in ("Case differences", "Headers", "Equipment", "Streams", "Stations",
+                 "Station summary"):
         ws = wb[name]
         heads = [c.value for c in ws[3]]
         numeric = set()

@@ -18,6 +18,7 @@ from ..io.atomic import atomic_path, output_errors, save_guarded
 from . import style
 from .charts import write_charts
 from .cover import write_cover
+from .differences import DIFFERENCES_SHEET, differences_table
 from .findings import findings_table
 from .inputs import inputs_table
 from .network import network_png
@@ -33,6 +34,8 @@ __all__ = ["write_workbook", "build_tables", "network_case_of", "SHEETS"]
 SHEETS = {
     "Cover": "What was run, on what and when; cautions; cases; verdicts; units.",
     "Cases": "Each case's totals side by side: steam, fuel, power, water, cost, status.",
+    DIFFERENCES_SHEET: "Each case against the first: totals, headers, equipment and the "
+                       "station checks that differ.",
     "Network": "A drawing of the network with the flows of one case.",
     "Headers": "Each header in each case: pressure, temperatures, enthalpy, flows, "
                "balance residuals.",
@@ -99,6 +102,9 @@ def build_tables(run: Run, *, for_csv: bool = False) -> list[Table]:
                           title="Streams", note="Every steam and water stream the balance "
                           "computes, with its state."),
          stations_table(run), station_summary_table(run)]
+    diff = differences_table(run) if not run.large else None
+    if diff is not None:                 # after the case overview (a long run: none)
+        t.insert(1, diff)
     if run.large and not for_csv:        # a long run: streams only in the CSV export
         t = [x for x in t if x.slug != "streams"]
     if run.envelopes is not None and len(run.envelopes):
@@ -185,6 +191,9 @@ def write_workbook(path: str | Path, study, *, checks: pd.DataFrame | None = Non
                          f"(cases: {', '.join(names)})")
     tables = build_tables(run)
     order = ["Cover", "Cases", "Network"] + [t.name for t in tables[1:]]
+    if DIFFERENCES_SHEET in order:       # right after the case overview
+        order.remove(DIFFERENCES_SHEET)
+        order.insert(2, DIFFERENCES_SHEET)
     at = order.index("Findings")
     order.insert(at, "Station charts")
     what = {t.name: t.note.split(". ")[0] for t in tables}
