@@ -381,7 +381,7 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
         if len(recent) == _PERSIST:
             keep = set.intersection(*recent)
             stuck = [e for e in exhausted if (e[0], e[1]) in keep]
-        least = _least_slack(net, co, h, x, scale) if stuck else None
+        least = _least_slack(net, co, h, x, scale, modes) if stuck else None
         if least is not None:
             x, found = least[0], least[1] + derived_findings(net, co, least[0], tol_mode)
             return Solution(net, x, h, co, modes, it, CaseStatus.INFEASIBLE, found,
@@ -399,7 +399,7 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
     x = np.where(np.abs(x) < 1e-12, 0.0, x)     # no -0.0 or 1e-16 flows in reports
     least = None
     if exhausted or beyond_limits(net, co, x, tol_mode):
-        least = _least_slack(net, co, h, x, scale)
+        least = _least_slack(net, co, h, x, scale, modes if exhausted else None)
     if least is not None:
         # the case cannot balance: report the balance of least header slack, every
         # element within its limits (docs/method.md, infeasible cases)
@@ -414,17 +414,21 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
                     time.perf_counter() - t0)
 
 
-def _least_slack(net: Net, co: Coeffs, h: list[float], x, scale: float):
+def _least_slack(net: Net, co: Coeffs, h: list[float], x, scale: float, modes=None):
     """The flows and findings of the balance of least header slack at the present
     coefficients (:mod:`steamnet.solver.slack`), or None when it needs no slack (the
-    limits can all hold: the iteration's findings stand) or cannot be found."""
-    bal = min_slack(net, co, h, x)
-    if bal is None:
-        return None
-    found = slack_findings(net, co, bal, slack_tolerance(scale))
-    if not found:
-        return None
-    return bal.x, found
+    limits can all hold: the iteration's findings stand) or cannot be found.
+
+    With ``modes`` (a header's sequence is exhausted), a balance that needs no slack
+    only because it runs the elements in another order than the control sequence is
+    sought again with the sequences held in those modes."""
+    tol = slack_tolerance(scale)
+    for held in (None, modes) if modes is not None else (None,):
+        bal = min_slack(net, co, h, x, held)
+        found = slack_findings(net, co, bal, tol) if bal is not None else []
+        if found:
+            return bal.x, found
+    return None
 
 
 def _neighbours(net: Net, hi: int, mode) -> list:

@@ -98,7 +98,14 @@ def _bound_text(net: Net, bal, vi: int, upper: bool) -> str | None:
     x, lo, hi = bal.x[vi], bal.lo[vi], bal.hi[vi]
     label = _item_label(net, vi)
     if lo == hi:
-        return f"{label} fixed at {fmt_th(lo)}" if _near(x, lo) else None
+        if not _near(x, lo):
+            return None
+        if net.vars[vi].fixed is not None:
+            return f"{label} fixed at {fmt_th(lo)}"
+        if any(t["var"] == vi and t["mode"] == "fixed_power" for t in net.turbines):
+            return f"{label} at the flow its fixed power needs, {fmt_th(lo)}"
+        # held by its header's sequence (slack.min_slack with modes); closed: no limit
+        return f"{label} held by its sequence at {fmt_th(lo)}" if lo > 0 else None
     if upper:
         if not (np.isfinite(hi) and _near(x, hi)):
             return None

@@ -26,6 +26,11 @@ held within the bounds, so the split the control sequence made is kept where the
 allow. The headers with slack above :func:`slack_tolerance` are short
 (``s+``) or long (``s-``) by that amount; the elements on them sitting at a bound are
 the limits that bind.
+
+The programme ignores the priorities of the sequences: it finds the least imbalance
+with the elements run in any order. When that needs none although a sequence is
+exhausted (the limits hold only in another order), ``modes`` holds each header's
+sequence in its operating mode instead (:func:`_hold_sequence`).
 """
 
 from __future__ import annotations
@@ -37,7 +42,7 @@ import numpy as np
 import scipy.sparse as sp
 from scipy.optimize import linprog
 
-from .network import Coeffs, Net
+from .network import Coeffs, Net, group_bounds
 from .reference import _da_rows, _header_terms
 
 __all__ = ["SlackBalance", "min_slack", "slack_tolerance", "beyond_limits"]
@@ -167,7 +172,30 @@ def _matrix(rows, n_cols: int):
     return sp.csr_matrix((v, (r, c)), shape=(len(rows), n_cols))
 
 
-def min_slack(net: Net, co: Coeffs, h: list[float], x_last) -> SlackBalance | None:
+def _hold_sequence(net: Net, modes, lo: np.ndarray, hi: np.ndarray) -> None:
+    """Tighten ``lo``/``hi`` to the operating ``modes`` of the headers' sequences: the
+    groups before the moving one at their maximum, those after it at their minimum,
+    the absorbers before the moving one at capacity and the others closed; only the
+    moving group or absorber of each header is free within its range."""
+    for hs, (kind, k) in zip(net.swing, modes):
+        for gi, g in enumerate(hs.groups):
+            if kind == "supply" and gi == k:
+                continue
+            glo, ghi = group_bounds(net, g, {})
+            level = ghi if (kind == "supply" and gi < k) else glo
+            if math.isfinite(level):
+                for vi, w in zip(g.members, g.weights):
+                    lo[vi] = hi[vi] = w * level
+        for ai, vi in enumerate(hs.absorbers):
+            if kind == "absorb" and ai == k:
+                continue
+            cap = net.vars[vi].hi if (kind == "absorb" and ai < k) else 0.0
+            if math.isfinite(cap):
+                lo[vi] = hi[vi] = cap
+
+
+def min_slack(net: Net, co: Coeffs, h: list[float], x_last,
+              modes=None) -> SlackBalance | None:
     """The balance of least total header slack at the coefficients ``co`` of the header
     enthalpies ``h`` (see the module docstring).
 
@@ -178,6 +206,10 @@ def min_slack(net: Net, co: Coeffs, h: list[float], x_last) -> SlackBalance | No
     x_last : array_like
         The flows of the last iterate [kg/s]; among the balances of least slack, the one
         nearest to them (held within the bounds) is returned.
+    modes : list, optional
+        Hold the headers' sequences in these operating modes (:func:`_hold_sequence`):
+        the least imbalance with the control sequence as it runs, for a case whose
+        limits could all hold only in another order.
 
     Returns
     -------
@@ -188,6 +220,8 @@ def min_slack(net: Net, co: Coeffs, h: list[float], x_last) -> SlackBalance | No
     """
     n, nh = len(net.vars), len(net.headers)
     lo, hi = _bounds(net, co)
+    if modes is not None:
+        _hold_sequence(net, modes, lo, hi)
     if (lo > hi).any():
         return None
     hrows, hconst = _header_terms(net, co)
