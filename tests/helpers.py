@@ -168,3 +168,41 @@ header = "{header}"
 pressure = "{p}"
 vent_fraction = "{vent}"
 """
+
+
+def plant_head(name: str, headers: str) -> str:
+    """The start of a small test plant's model text: site, prices, header HP at
+    40 bar(g), the other ``headers`` (TOML) and an external feedwater supply BFW
+    (50 bar(g), 105 degC)."""
+    return f"""
+format_version = 1
+[site]
+name = "{name}"
+makeup_temperature = "15 degC"
+[prices]
+fuel = "10 EUR/GJ"
+[[header]]
+name = "HP"
+pressure = "40 bar(g)"
+{headers}
+[[water_supply]]
+name = "BFW"
+source = "external"
+pressure = "50 bar(g)"
+temperature = "105 degC"
+"""
+
+
+def hp_boiler(name: str, max_steam: str, priority: int = 1) -> str:
+    """A swing boiler on HP raising steam at 400 degC from BFW, without blowdown."""
+    return f"""
+[[boiler]]
+name = "{name}"
+header = "HP"
+steam_temperature = "400 degC"
+feedwater = "BFW"
+efficiency = "88 %"
+blowdown = "0 %"
+max_steam = "{max_steam}"
+priority = {priority}
+"""

@@ -27,7 +27,7 @@ import math
 from ..errors import ModelError
 
 __all__ = ["spray_water_flow", "gain_per_spray", "gain_per_ratio",
-           "evaporation_distance"]
+           "evaporation_distance", "mixed_enthalpy"]
 
 
 def _finite(**values: float) -> None:
@@ -64,6 +64,53 @@ def spray_ratio(h_steam: float, h_out: float, h_water: float) -> float:
     0.12
     """
     return (h_steam - h_out) / (h_out - h_water)
+
+
+def mixed_enthalpy(flows, enthalpies, heat_loss: float = 0.0) -> float:
+    """Specific enthalpy of streams mixed adiabatically, less a heat loss.
+
+    .. math:: h = \\frac{\\sum_i \\dot m_i h_i - \\dot Q_{loss}}{\\sum_i \\dot m_i}
+
+    With the steam and the spray water as the two streams and no loss, the outlet of a
+    spray desuperheater, h = (m_s h_s + m_w h_w) / (m_s + m_w); with a header's
+    inflows and heat loss, the header's enthalpy.
+
+    Parameters
+    ----------
+    flows : sequence of float
+        Mass flows of the streams, each zero or positive, not all zero [kg/s]
+    enthalpies : sequence of float
+        Specific enthalpy of each stream [J/kg]
+    heat_loss : float
+        Heat lost by the mixture [W]
+
+    Returns
+    -------
+    float
+        Specific enthalpy of the mixture [J/kg]
+
+    Raises
+    ------
+    ModelError
+        A negative or non-finite flow, no flow at all, or flows and enthalpies of
+        different lengths.
+
+    Examples
+    --------
+    10 kg/s of steam at 3.0 MJ/kg with 1 kg/s of water at 0.4 MJ/kg:
+
+    >>> round(mixed_enthalpy([10.0, 1.0], [3.0e6, 0.4e6]), 3)
+    2763636.364
+    """
+    flows, enthalpies = list(flows), list(enthalpies)
+    if len(flows) != len(enthalpies):
+        raise ModelError(f"{len(flows)} flows but {len(enthalpies)} enthalpies")
+    _finite(heat_loss=heat_loss, **{f"flow {i}": m for i, m in enumerate(flows)},
+            **{f"enthalpy {i}": h for i, h in enumerate(enthalpies)})
+    if any(m < 0 for m in flows) or not sum(flows) > 0:
+        raise ModelError(f"mixing needs flows zero or positive and not all zero, got "
+                         f"{flows!r} kg/s")
+    return (sum(m * h for m, h in zip(flows, enthalpies)) - heat_loss) / sum(flows)
 
 
 def spray_water_flow(m_steam: float, h_steam: float, h_out: float,

@@ -329,6 +329,14 @@ class StationPoint:
         Spray water supply pressure at the spray valve inlet [Pa]
     setpoint_reachable : bool
         False when the steam arrives colder than the outlet setpoint [-]
+    out_header : str or None
+        Name of the header the station feeds [-]
+    header_inflow : float or None
+        Total steam inflow of that header, this station's outlet included [kg/s]
+    header_h : float or None
+        Enthalpy of that header (its inflows mixed, less its heat loss) [J/kg]
+    header_heat_loss : float or None
+        Heat loss of that header [W]
     """
 
     case: str
@@ -343,6 +351,10 @@ class StationPoint:
     t_water: float | None = None
     p_water: float | None = None
     setpoint_reachable: bool = True
+    out_header: str | None = None
+    header_inflow: float | None = None
+    header_h: float | None = None
+    header_heat_loss: float | None = None
 
     def __post_init__(self):
         item = f"station '{self.station}', case '{self.case}'"

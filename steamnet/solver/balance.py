@@ -36,10 +36,11 @@ from scipy.linalg.lapack import dgesv as _dgesv
 from ..status import CaseStatus
 from . import reference as _reference
 from .assembly import Plan
-from .findings import cold_findings, derived_findings, exhausted_findings
+from .findings import cold_findings, derived_findings, exhausted_findings, slack_findings
 from .network import (INF, Coeffs, ItemPropertyError, Net, build, coefficients,
                       header_inflows)
 from .network import group_bounds as _group_bounds
+from .slack import beyond_limits, min_slack, slack_tolerance
 
 __all__ = ["solve_net", "Solution", "build"]
 
@@ -376,11 +377,18 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
         # the iteration, is what the user must hear about.
         found = [f for f in derived_findings(net, co, x, tol_mode)
                  if f["side"] == "deaerator"]
+        stuck = []
         if len(recent) == _PERSIST:
             keep = set.intersection(*recent)
-            found += exhausted_findings(
-                net, [e for e in exhausted if (e[0], e[1]) in keep], modes,
-                _extraction_bounds(net, co, x))
+            stuck = [e for e in exhausted if (e[0], e[1]) in keep]
+        least = _least_slack(net, co, h, x, scale, modes) if stuck else None
+        if least is not None:
+            x, found = least[0], least[1] + derived_findings(net, co, least[0], tol_mode)
+            return Solution(net, x, h, co, modes, it, CaseStatus.INFEASIBLE, found,
+                            "; ".join(f["message"] for f in found) + f" ({msg}; the "
+                            "amounts are those of the last iteration's enthalpies)",
+                            time.perf_counter() - t0)
+        found += exhausted_findings(net, stuck, modes, _extraction_bounds(net, co, x))
         if found:
             return Solution(net, x, h, co, modes, it, CaseStatus.INFEASIBLE, found,
                             "; ".join(f["message"] for f in found) + f" ({msg}; the "
@@ -389,14 +397,38 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
         return Solution(net, x, h, co, modes, it, CaseStatus.NOT_CONVERGED, [], msg,
                         time.perf_counter() - t0)
     x = np.where(np.abs(x) < 1e-12, 0.0, x)     # no -0.0 or 1e-16 flows in reports
-    eff = _extraction_bounds(net, co, x)
-    findings = exhausted_findings(net, exhausted, modes, eff)
+    least = None
+    if exhausted or beyond_limits(net, co, x, tol_mode):
+        least = _least_slack(net, co, h, x, scale, modes if exhausted else None)
+    if least is not None:
+        # the case cannot balance: report the balance of least header slack, every
+        # element within its limits (docs/method.md, infeasible cases)
+        x, findings = least[0], list(least[1])
+    else:
+        findings = exhausted_findings(net, exhausted, modes, _extraction_bounds(net, co, x))
     findings += derived_findings(net, co, x, tol_mode)
     findings += cold_findings(net, co, x, cold)
     status = CaseStatus.INFEASIBLE if findings else CaseStatus.SOLVED
     msg = "; ".join(f["message"] for f in findings) if findings else "solved"
     return Solution(net, x, h, co, modes, it, status, findings, msg,
                     time.perf_counter() - t0)
+
+
+def _least_slack(net: Net, co: Coeffs, h: list[float], x, scale: float, modes=None):
+    """The flows and findings of the balance of least header slack at the present
+    coefficients (:mod:`steamnet.solver.slack`), or None when it needs no slack (the
+    limits can all hold: the iteration's findings stand) or cannot be found.
+
+    With ``modes`` (a header's sequence is exhausted), a balance that needs no slack
+    only because it runs the elements in another order than the control sequence is
+    sought again with the sequences held in those modes."""
+    tol = slack_tolerance(scale)
+    for held in (None, modes) if modes is not None else (None,):
+        bal = min_slack(net, co, h, x, held)
+        found = slack_findings(net, co, bal, tol) if bal is not None else []
+        if found:
+            return bal.x, found
+    return None
 
 
 def _neighbours(net: Net, hi: int, mode) -> list:

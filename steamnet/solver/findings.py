@@ -11,8 +11,10 @@ import numpy as np
 
 from ..units import T_H
 from .network import INF, Coeffs, Net, group_bounds as _group_bounds, header_inflows
+from .reference import _header_terms
 
-__all__ = ["exhausted_findings", "derived_findings", "cold_findings", "fmt_th"]
+__all__ = ["exhausted_findings", "slack_findings", "derived_findings", "cold_findings",
+           "fmt_th"]
 
 
 def _item_label(net: Net, vi: int) -> str:
@@ -55,26 +57,112 @@ def _group_limit_texts(net: Net, g, which: str, eff) -> list[str]:
     return out
 
 
+def _imbalance(net: Net, hi: int, side: str, amount: float, limits: list[str]) -> dict:
+    """The finding of header ``hi`` short or long by ``amount`` [kg/s]."""
+    name = net.headers[hi]
+    if side == "short":
+        msg = (f"header '{name}' is short of steam by {fmt_th(amount)}: every "
+               "element that can supply it is at its limit")
+    else:
+        if not net.swing[hi].absorbers:
+            limits = limits + ["no vent or swing export on this header"]
+        msg = (f"header '{name}' has {fmt_th(amount)} of steam in excess: its "
+               "suppliers are at their minimum and nothing more can take it")
+    return {"kind": "infeasible", "header": name, "side": side, "amount_kg_s": amount,
+            "limits": limits,
+            "message": msg + (" (" + "; ".join(limits) + ")" if limits else "")}
+
+
 def exhausted_findings(net: Net, exhausted, modes, eff) -> list[dict]:
     out = []
     for hi, side, amount in exhausted:
         hs = net.swing[hi]
-        name = net.headers[hi]
         if side == "short":
             limits = [t for g in hs.groups for t in _group_limit_texts(net, g, "max", eff)]
-            msg = (f"header '{name}' is short of steam by {fmt_th(amount)}: every "
-                   "element that can supply it is at its limit")
         else:
             limits = [t for g in hs.groups for t in _group_limit_texts(net, g, "min", eff)]
             limits += [f"{_item_label(net, vi)} at its capacity "
                        f"{fmt_th(net.vars[vi].hi)}" for vi in hs.absorbers]
-            if not hs.absorbers:
-                limits.append("no vent or swing export on this header")
-            msg = (f"header '{name}' has {fmt_th(amount)} of steam in excess: its "
-                   "suppliers are at their minimum and nothing more can take it")
-        out.append({"kind": "infeasible", "header": name, "side": side,
-                    "amount_kg_s": amount, "limits": limits,
-                    "message": msg + (" (" + "; ".join(limits) + ")" if limits else "")})
+        out.append(_imbalance(net, hi, side, amount, limits))
+    return out
+
+
+def _near(a: float, b: float) -> bool:
+    return abs(a - b) <= 1e-9 * max(1.0, abs(b))
+
+
+def _bound_text(net: Net, bal, vi: int, upper: bool) -> str | None:
+    """How flow ``vi`` of the least-slack balance ``bal`` sits at its upper (or lower)
+    bound, or None when it does not. A lower bound of zero on an outflow of a short
+    header is no limit of the equipment (it is closed) and is not named."""
+    x, lo, hi = bal.x[vi], bal.lo[vi], bal.hi[vi]
+    label = _item_label(net, vi)
+    if lo == hi:
+        if not _near(x, lo):
+            return None
+        if net.vars[vi].fixed is not None:
+            return f"{label} fixed at {fmt_th(lo)}"
+        if any(t["var"] == vi and t["mode"] == "fixed_power" for t in net.turbines):
+            return f"{label} at the flow its fixed power needs, {fmt_th(lo)}"
+        # held by its header's sequence (slack.min_slack with modes); closed: no limit
+        return f"{label} held by its sequence at {fmt_th(lo)}" if lo > 0 else None
+    if upper:
+        if not (np.isfinite(hi) and _near(x, hi)):
+            return None
+        word = "capacity" if net.vars[vi].kind == "vent" else "maximum"
+        return f"{label} at its {word} {fmt_th(hi)}"
+    return f"{label} at its minimum {fmt_th(lo)}" if _near(x, lo) else None
+
+
+def slack_findings(net: Net, co: Coeffs, bal, tol: float) -> list[dict]:
+    """The headers the least-slack balance ``bal`` (:func:`steamnet.solver.slack.
+    min_slack`) leaves short or long by more than ``tol`` [kg/s], with the elements on
+    each that sit at the bound that keeps it so: for a short header its inflows at
+    their maximum and its outflows at their (non-zero) minimum, for a long header the
+    other way round; a member of a swing group sharing load is named at its share."""
+    rows, _ = _header_terms(net, co)
+    group_of = {vi: g for hs in net.swing for g in hs.groups for vi in g.members}
+    eff = {vi: (bal.lo[vi], bal.hi[vi]) for vi in range(len(net.vars))}
+    out = []
+    for hi, name in enumerate(net.headers):
+        for side, amount in (("short", bal.short[hi]), ("long", bal.long[hi])):
+            if amount <= tol:
+                continue
+            coef: dict[int, float] = {}
+            for vi, c in rows[hi]:
+                coef[vi] = coef.get(vi, 0.0) + c
+            limits, groups = [], set()
+            for vi, c in coef.items():
+                if c == 0.0:
+                    continue
+                upper = (c > 0) == (side == "short")
+                text = _bound_text(net, bal, vi, upper)
+                if text is None or (not upper and side == "short"
+                                    and bal.lo[vi] == 0.0 and bal.hi[vi] > 0.0):
+                    continue
+                g = group_of.get(vi)
+                if g is not None and len(g.members) > 1 and bal.lo[vi] != bal.hi[vi]:
+                    if id(g) not in groups:
+                        groups.add(id(g))
+                        limits += _group_limit_texts(net, g, "max" if upper else "min",
+                                                     eff)
+                    continue
+                limits.append(text)
+            for t, (ex, vmin, vmax) in zip(net.xturbines, bal.exhaust):
+                touches = hi in {t["inlet"], t["exhaust"], *(e["header"] for e in t["exts"])}
+                for word, bound in (("minimum", vmin), ("maximum", vmax)):
+                    if touches and np.isfinite(bound) and bound > 0 and _near(ex, bound):
+                        limits.append(f"extraction turbine '{t['name']}' exhaust at its "
+                                      f"{word} {fmt_th(bound)}")
+            out.append(_imbalance(net, hi, side, amount, limits))
+    da = net.deaerator
+    if da is not None and bal.overflow > tol:
+        out.append({"kind": "infeasible", "header": net.headers[da["header"]],
+                    "side": "deaerator", "amount_kg_s": bal.overflow,
+                    "limits": [f"deaerator '{da['name']}' make-up at its minimum 0.00 t/h"],
+                    "message": f"deaerator '{da['name']}' has {fmt_th(bal.overflow)} of "
+                    "water in excess with no make-up: more water returns than the plant "
+                    "uses"})
     return out
 
 
@@ -97,8 +185,8 @@ def derived_findings(net: Net, co: Coeffs, x: np.ndarray, tol: float) -> list[di
                         f"({fmt_th(mu)}): more water returns than the plant uses"})
     for t, c in zip(net.turbines, co.turb):
         it = t["item"]
-        m = x[t["var"]]
         if t["mode"] == "fixed_power":
+            m = c["flow"]       # what its power needs (the flow may be held in range)
             hi = INF if it.max_flow is None else it.max_flow
             if m > hi + tol or m < it.min_flow - tol:
                 out.append({"kind": "infeasible", "header": net.headers[t["inlet"]],

@@ -430,15 +430,17 @@ def _supply_flow(sol: Solution, name: str) -> float:
 # ------------------------------------------------------------ let-down points
 def letdown_points(case: str, status: str, sol: Solution) -> list[StationPoint]:
     """The operating point of every running let-down (steam in, spray, outlet state,
-    spray water), what the station checks read; empty unless the case is solved or
-    infeasible."""
+    spray water, and the steam inflow, enthalpy and heat loss of the header it feeds),
+    what the station checks read; empty unless the case is solved or infeasible."""
     if sol is None or status not in (CaseStatus.SOLVED, CaseStatus.INFEASIBLE):
         return []
     net, x, co = sol.net, sol.x, sol.co
+    inflow = [sum(f for _, f, _ in lst) for lst in header_inflows(net, co, x, labels=False)]
     pts = []
     for s, c in zip(net.letdowns, co.ld):
         ds = s["ds"]
         m = float(x[s["var"]])
+        ho = s["outlet"]
         pts.append(StationPoint(
             case=case, station=s["name"], p_in=net.p[s["inlet"]],
             h_in=sol.h[s["inlet"]], p_out=net.p[s["outlet"]], m_steam=max(m, 0.0),
@@ -446,7 +448,9 @@ def letdown_points(case: str, status: str, sol: Solution) -> list[StationPoint]:
             h_water=ds["supply"]["h"] if ds else None,
             t_water=ds["supply"]["t"] if ds else None,
             p_water=ds["supply"]["p"] if ds else None,
-            setpoint_reachable=bool(c["reachable"])))
+            setpoint_reachable=bool(c["reachable"]), out_header=net.headers[ho],
+            header_inflow=float(inflow[ho]), header_h=float(sol.h[ho]),
+            header_heat_loss=float(net.q_loss[ho])))
     return pts
 
 

@@ -30,7 +30,7 @@ from __future__ import annotations
 from typing import Iterable
 
 from .. import properties as props
-from ..calc.desuperheater import evaporation_distance, spray_water_flow
+from ..calc.desuperheater import evaporation_distance, mixed_enthalpy, spray_water_flow
 from ..calc.valve import ValveSizing, size_steam_valve, size_water_valve, valve_travel
 from ..errors import InternalError, ModelError
 from ..units import T_H
@@ -71,9 +71,42 @@ def check_spray_capacity(c: Ctx) -> CheckRow:
                      "rating with the maker",
         Status.OK: "spray within the desuperheater's capacity",
     }[status]
+    if share > 1:
+        advice += "; " + _at_max_spray(c)
     return c.row(status, value=100 * share, limit=100 * limit, source=source,
                  advice=advice, basis=f"spray {c.point.m_spray * T_H:.3g} t/h of "
                                       f"maximum {c.ds.max_spray * T_H:.3g} t/h")
+
+
+def _at_max_spray(c: Ctx) -> str:
+    """What the outlet, and the header it feeds, reach with the spray at its maximum
+    (docs/checks/spray_capacity.md): the desuperheater's energy balance with the
+    maximum spray, and the header's mixing balance with this station's outlet replaced
+    by that one, its other inflows and its heat loss held."""
+    pt, m_max = c.point, c.ds.max_spray
+    h_w = water_enthalpy(pt)
+    if h_w is None:
+        return "the spray water's state is not known, so the outlet at the maximum " \
+               "spray is not given"
+    h_max = mixed_enthalpy([pt.m_steam, m_max], [pt.h_in, h_w])
+    t_max = props.state_ph(pt.p_out, h_max).t
+    text = (f"at the maximum spray {m_max * T_H:.3g} t/h the outlet reaches "
+            f"{t_max - 273.15:.1f} degC (setpoint {outlet(pt).t - 273.15:.1f} degC)")
+    if None in (pt.header_inflow, pt.header_h, pt.header_heat_loss, pt.out_header):
+        return text
+    # the header's other inflows: its inflow less this station's outlet, and their
+    # energy, sum m h = inflow h_header + heat loss less the station's outlet
+    m_st, m_st_max = pt.m_steam + pt.m_spray, pt.m_steam + m_max
+    m_other = pt.header_inflow - m_st
+    e_other = pt.header_inflow * pt.header_h + pt.header_heat_loss - m_st * pt.h_out
+    if m_other > 1e-9 * pt.header_inflow:
+        h_hdr = mixed_enthalpy([m_other, m_st_max], [e_other / m_other, h_max],
+                               pt.header_heat_loss)
+    else:
+        h_hdr = mixed_enthalpy([m_st_max], [h_max], pt.header_heat_loss)
+    t_hdr = props.state_ph(pt.p_out, h_hdr).t
+    return (text + f" and header {pt.out_header} {t_hdr - 273.15:.1f} degC (its other "
+            "inflows and heat loss held)")
 
 
 @point_check("approach_to_saturation", "K")

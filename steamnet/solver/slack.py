@@ -1,0 +1,322 @@
+"""The smallest header imbalances that let a case balance (docs/method.md, infeasible
+cases).
+
+When a header's swing sequence is exhausted, the last iterate of the solve is not a
+state of the plant: the moving elements run past their limits. This module finds the
+balance nearest to possible instead. Every header gets a slack supply ``s+`` and a slack
+sink ``s-`` [kg/s]; at the enthalpies of the last iterate (its coefficients: turbine
+expansion lines, let-down outlet flows ``1 + r``, duty-user flows, deaerator rows) the
+balance is linear in the flows, and the linear programme
+
+    minimise    sum over headers of (s+ + s-)  +  0.5 w   (a millionth more per
+                                                       header down the pressures)
+    subject to  header mass balances + s+ - s- = user flows
+                deaerator mass and energy balances, less an overflow w >= 0 of
+                saturated water (returns the plant cannot use)
+                shares of the swing groups (a member is its share of the group)
+                fixed-power extraction turbines at their shaft power
+                extraction-turbine exhaust flow within its range
+                every flow within its bounds (fixed flows fixed, fixed-power turbines at
+                their power flow, throttle flows within range, vents within capacity,
+                deaerator steam and make-up >= 0)
+
+is solved with HiGHS (scipy.optimize.linprog). A second programme, with the slacks of the first
+held, picks the flows nearest (in the sum of absolute differences) to the last iterate
+held within the bounds, so the split the control sequence made is kept where the limits
+allow. The headers with slack above :func:`slack_tolerance` are short
+(``s+``) or long (``s-``) by that amount; the elements on them sitting at a bound are
+the limits that bind.
+
+The programme ignores the priorities of the sequences: it finds the least imbalance
+with the elements run in any order. When that needs none although a sequence is
+exhausted (the limits hold only in another order), ``modes`` holds each header's
+sequence in its operating mode instead (:func:`_hold_sequence`).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+import scipy.sparse as sp
+from scipy.optimize import linprog
+
+from .network import Coeffs, Net, group_bounds
+from .reference import _da_rows, _header_terms
+
+__all__ = ["SlackBalance", "min_slack", "slack_tolerance", "beyond_limits"]
+
+#: Slack below this fraction of the plant's size is no imbalance: the closure a solved
+#: case is allowed (1e-6 relative, docs/method.md), far above the 1e-7 kg/s to which
+#: HiGHS holds its rows [-]
+SLACK_TOL_REL = 1e-6
+#: Cost of a kg/s of the deaerator's water overflow against a kg/s of header slack
+#: [-]. Under 1/(1 + vent fraction) x (1 - blowdown), so returns the plant cannot use
+#: are named as such, not as steam raised (and left in excess) to use their water; and
+#: over (h_f - h_mk) / (h_g - h_mk), at most 1/3 for make-up under 100 degC, so a header's
+#: excess steam is not hidden by condensing it in the deaerator with make-up and
+#: overflowing the water.
+OVERFLOW_COST = 0.5
+#: The deaerator's energy row is divided by this so its coefficients are of the size of
+#: the mass rows' (enthalpies of about 1e6 J/kg) [J/kg]
+_ENERGY_SCALE = 1e6
+
+
+def slack_tolerance(scale: float) -> float:
+    """Smallest slack reported as an imbalance, for a plant of size ``scale`` (at least
+    1 kg/s) [kg/s]."""
+    return SLACK_TOL_REL * max(1.0, scale)
+
+
+@dataclass
+class SlackBalance:
+    """The balance of least total slack.
+
+    Attributes
+    ----------
+    x : numpy.ndarray
+        Flows, each within its bounds [kg/s]
+    short, long : list of float
+        Slack supply and slack sink of each header, in the order of ``net.headers``
+        [kg/s]
+    overflow : float
+        Water the deaerator cannot use, with its make-up at zero (returns more than
+        the plant's feedwater) [kg/s]
+    lo, hi : numpy.ndarray
+        The bounds of every flow the programme held [kg/s]
+    exhaust : list of tuple
+        Per extraction turbine (in ``net.xturbines`` order): exhaust flow, its minimum
+        and maximum [kg/s]
+    """
+
+    x: np.ndarray
+    short: list[float]
+    long: list[float]
+    overflow: float
+    lo: np.ndarray
+    hi: np.ndarray
+    exhaust: list[tuple[float, float, float]]
+
+
+def _bounds(net: Net, co: Coeffs) -> tuple[np.ndarray, np.ndarray]:
+    """Bounds of every flow: its own limits, fixed flows fixed, fixed-power turbines at
+    their power flow (held within their range: a power the range cannot give is a
+    finding of its own), extraction-turbine throttle flows within their range, and
+    the flows the balance holds at zero (boilers, transfers and let-downs that are
+    neither fixed nor in a sequence)."""
+    lo = np.array([v.lo for v in net.vars], dtype=float)
+    hi = np.array([v.hi for v in net.vars], dtype=float)
+    held = {vi for hs in net.swing for g in hs.groups for vi in g.members}
+    held.update(vi for hs in net.swing for vi in hs.absorbers)
+    for v in net.vars:
+        if v.fixed is not None:
+            lo[v.index] = hi[v.index] = v.fixed
+        elif v.kind in ("boiler", "transfer", "letdown") and v.index not in held:
+            lo[v.index] = hi[v.index] = 0.0
+    for t, c in zip(net.turbines, co.turb):
+        if t["mode"] == "fixed_power" and t["var"] not in held:
+            it = t["item"]
+            top = math.inf if it.max_flow is None else it.max_flow
+            lo[t["var"]] = hi[t["var"]] = min(max(c["flow"], it.min_flow), top)
+    for t in net.xturbines:
+        it, vi = t["item"], t["in_var"]
+        if net.vars[vi].fixed is None:
+            lo[vi] = max(lo[vi], it.min_flow)
+            if it.max_flow is not None:
+                hi[vi] = min(hi[vi], it.max_flow)
+    return lo, hi
+
+
+def _rows(net: Net, co: Coeffs, h: list[float]):
+    """Equality rows (terms, rhs) besides the header balances: the deaerator's, the
+    shares of the swing groups, the fixed-power extraction turbines."""
+    eq: list[tuple[list[tuple[int, float]], float]] = []
+    if net.deaerator is not None:
+        (mass, r_mass), (energy, r_energy) = _da_rows(net, co, h)
+        eq.append((mass, r_mass))
+        eq.append(([(vi, c / _ENERGY_SCALE) for vi, c in energy], r_energy / _ENERGY_SCALE))
+    for hs in net.swing:
+        for g in hs.groups:
+            first = g.members[0]
+            for vi, w in zip(g.members[1:], g.weights[1:]):
+                eq.append(([(vi, 1.0), (first, -w / g.weights[0])], 0.0))
+    for t, c in zip(net.xturbines, co.xturb):
+        if t["mode"] == "fixed_power":
+            dh = c["dh"]
+            terms = [(t["in_var"], sum(dh))]
+            terms += [(e["var"], -sum(dh[i + 1:])) for i, e in enumerate(t["exts"])]
+            eq.append((terms, t["item"].power / t["eta_mg"]))
+    return eq
+
+
+def _exhaust_rows(net: Net):
+    """Per extraction turbine: the terms of its exhaust flow (throttle less the
+    extractions), its minimum and maximum [kg/s]."""
+    out = []
+    for t in net.xturbines:
+        it = t["item"]
+        top = math.inf if it.max_exhaust_flow is None else it.max_exhaust_flow
+        out.append(([(t["in_var"], 1.0)] + [(e["var"], -1.0) for e in t["exts"]],
+                    it.min_exhaust_flow, top))
+    return out
+
+
+def _matrix(rows, n_cols: int):
+    r, c, v = [], [], []
+    for i, terms in enumerate(rows):
+        for col, val in terms:
+            r.append(i)
+            c.append(col)
+            v.append(val)
+    return sp.csr_matrix((v, (r, c)), shape=(len(rows), n_cols))
+
+
+def _hold_sequence(net: Net, modes, lo: np.ndarray, hi: np.ndarray) -> None:
+    """Tighten ``lo``/``hi`` to the operating ``modes`` of the headers' sequences: the
+    groups before the moving one at their maximum, those after it at their minimum,
+    the absorbers before the moving one at capacity and the others closed; only the
+    moving group or absorber of each header is free within its range."""
+    for hs, (kind, k) in zip(net.swing, modes):
+        for gi, g in enumerate(hs.groups):
+            if kind == "supply" and gi == k:
+                continue
+            glo, ghi = group_bounds(net, g, {})
+            level = ghi if (kind == "supply" and gi < k) else glo
+            if math.isfinite(level):
+                for vi, w in zip(g.members, g.weights):
+                    lo[vi] = hi[vi] = w * level
+        for ai, vi in enumerate(hs.absorbers):
+            if kind == "absorb" and ai == k:
+                continue
+            cap = net.vars[vi].hi if (kind == "absorb" and ai < k) else 0.0
+            if math.isfinite(cap):
+                lo[vi] = hi[vi] = cap
+
+
+def min_slack(net: Net, co: Coeffs, h: list[float], x_last,
+              modes=None) -> SlackBalance | None:
+    """The balance of least total header slack at the coefficients ``co`` of the header
+    enthalpies ``h`` (see the module docstring).
+
+    Parameters
+    ----------
+    net, co, h
+        The case and the coefficients and header enthalpies [J/kg] of its last iterate.
+    x_last : array_like
+        The flows of the last iterate [kg/s]; among the balances of least slack, the one
+        nearest to them (held within the bounds) is returned.
+    modes : list, optional
+        Hold the headers' sequences in these operating modes (:func:`_hold_sequence`):
+        the least imbalance with the control sequence as it runs, for a case whose
+        limits could all hold only in another order.
+
+    Returns
+    -------
+    SlackBalance or None
+        None when no balance exists even with the slacks (a deaerator whose heating
+        steam would have to be negative, turbines whose joint limits cannot hold), or
+        when HiGHS fails.
+    """
+    n, nh = len(net.vars), len(net.headers)
+    lo, hi = _bounds(net, co)
+    if modes is not None:
+        _hold_sequence(net, modes, lo, hi)
+    if (lo > hi).any():
+        return None
+    hrows, hconst = _header_terms(net, co)
+    eq, exhaust = _rows(net, co, h), _exhaust_rows(net)
+    # columns: flows x (n), slack supply s+ (nh), slack sink s- (nh), the deaerator's
+    # water overflow (1, with a deaerator), deviations d (n)
+    da = net.deaerator
+    ns = 2 * nh + (1 if da is not None else 0)
+    nc = 2 * n + ns
+    rows_eq = [terms + [(n + i, 1.0), (n + nh + i, -1.0)]
+               for i, terms in enumerate(hrows)] + [terms for terms, _ in eq]
+    if da is not None:
+        # overflow leaves as saturated liquid: out of the mass and the energy row
+        rows_eq[nh] = rows_eq[nh] + [(n + 2 * nh, -1.0)]
+        rows_eq[nh + 1] = rows_eq[nh + 1] + [(n + 2 * nh, -da["sat"].hf / _ENERGY_SCALE)]
+    b_eq = np.array(list(hconst) + [rhs for _, rhs in eq], dtype=float)
+    rows_ub, b_ub = [], []
+    for terms, vmin, vmax in exhaust:
+        rows_ub.append([(vi, -c) for vi, c in terms])
+        b_ub.append(-vmin)
+        if math.isfinite(vmax):
+            rows_ub.append(list(terms))
+            b_ub.append(vmax)
+    a_eq = _matrix(rows_eq, nc)
+    bounds = ([(a if math.isfinite(a) else None, b if math.isfinite(b) else None)
+               for a, b in zip(lo, hi)] + [(0.0, None)] * ns + [(0.0, 0.0)] * n)
+    # Each kg/s of slack costs 1, and a millionth more on each header down the
+    # pressures: where an imbalance can sit on either of two headers alike (a let-down
+    # without a maximum between them), it is put on the higher one, whose suppliers
+    # are the limit (the let-down would pass what the lower one needs).
+    cost = np.zeros(nc)
+    cost[n:n + ns] = 1.0
+    if da is not None:
+        cost[n + 2 * nh] = OVERFLOW_COST
+    rank = 1e-6 * np.arange(nh) / max(1, nh)
+    cost[n:n + nh] += rank
+    cost[n + nh:n + 2 * nh] += rank
+    a_ub = _matrix(rows_ub, nc) if rows_ub else None
+    first = linprog(cost, A_ub=a_ub, b_ub=b_ub or None, A_eq=a_eq, b_eq=b_eq,
+                    bounds=bounds, method="highs")
+    if first.status != 0:
+        return None
+    # second programme: the slacks of the first held, the flows nearest to the last
+    # iterate within the bounds: d >= x - c and d >= c - x, minimise sum d (holding
+    # only the total would let a rounding's worth of slack move to other headers)
+    target = np.clip(np.nan_to_num(np.asarray(x_last, dtype=float)), lo, hi)
+    near = []
+    near_b = []
+    for i in range(n):
+        near.append([(i, 1.0), (n + ns + i, -1.0)])
+        near_b.append(target[i])
+        near.append([(i, -1.0), (n + ns + i, -1.0)])
+        near_b.append(-target[i])
+    rows2 = rows_ub + near
+    b2 = b_ub + near_b
+    bounds2 = bounds[:n] + [(v, v) for v in first.x[n:n + ns]] + [(0.0, None)] * n
+    cost2 = np.zeros(nc)
+    cost2[n + ns:] = 1.0
+    second = linprog(cost2, A_ub=_matrix(rows2, nc), b_ub=b2, A_eq=a_eq, b_eq=b_eq,
+                     bounds=bounds2, method="highs")
+    res = second if second.status == 0 else first
+    # HiGHS holds bounds to its feasibility tolerance: clip, so no flow is reported
+    # past its limit by a rounding
+    x = np.clip(res.x[:n], lo, hi)
+    x = np.where(np.abs(x) < 1e-12, 0.0, x)
+    # the imbalance of each header from the flows themselves, so that it is what the
+    # mass residuals of the reported balance show
+    s_in, s_out = [], []
+    for terms, users in zip(hrows, hconst):
+        gap = users - sum(c * x[vi] for vi, c in terms)
+        s_in.append(max(gap, 0.0))
+        s_out.append(max(-gap, 0.0))
+    overflow = 0.0
+    if da is not None:
+        terms, r_mass = eq[0]
+        overflow = max(sum(c * x[vi] for vi, c in terms) - r_mass, 0.0)
+    ex = []
+    for terms, vmin, vmax in exhaust:
+        ex.append((float(sum(c * x[vi] for vi, c in terms)), vmin, vmax))
+    return SlackBalance(x=x, short=s_in, long=s_out, overflow=overflow, lo=lo, hi=hi,
+                        exhaust=ex)
+
+
+def beyond_limits(net: Net, co: Coeffs, x, tol: float) -> bool:
+    """Whether any flow of ``x`` is outside the bounds :func:`min_slack` holds, or an
+    extraction turbine's exhaust outside its range, by more than ``tol`` [kg/s]; the
+    deaerator's steam and make-up are left out (:func:`~steamnet.solver.findings.
+    derived_findings` reports them)."""
+    lo, hi = _bounds(net, co)
+    if net.deaerator is not None:    # its negative flows are findings of their own
+        for key in ("steam_var", "makeup_var"):
+            lo[net.deaerator[key]] = -math.inf
+    xa = np.asarray(x, dtype=float)
+    if (xa < lo - tol).any() or (xa > hi + tol).any():
+        return True
+    exhaust = _exhaust_rows(net)
+    return any(not (vmin - tol <= sum(c * xa[vi] for vi, c in terms) <= vmax + tol)
+               for terms, vmin, vmax in exhaust)
