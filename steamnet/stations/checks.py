@@ -38,6 +38,7 @@ from .data import StationData, StationLimits, StationPoint, ValveData
 from ._context import (Ctx, needs_row, outlet, outlet_velocity, point_check, row,
                        water_enthalpy, water_state)
 from .rows import CheckRow, Status, grade_high, grade_low, worst
+from .safety import SAFETY_POINT_CHECKS, check_relief_cover_rated
 
 __all__ = [
     "CheckRow", "Status", "ALL_CASES", "POINT_CHECKS", "check_spray_capacity",
@@ -344,7 +345,7 @@ def check_sensor_distance(c: Ctx) -> CheckRow:
 POINT_CHECKS = (check_approach_to_saturation, check_steam_turndown,
                 check_spray_capacity, check_spray_turndown, check_letdown_valve,
                 check_spray_valve, check_spray_water_pressure,
-                check_downstream_velocity, check_sensor_distance)
+                check_downstream_velocity, check_sensor_distance, *SAFETY_POINT_CHECKS)
 
 
 def check_point(data: StationData, point: StationPoint) -> list[CheckRow]:
@@ -499,7 +500,7 @@ def check_across_cases(data: StationData, points: list[StationPoint], *,
         _same_station(data, p)
     if verdicts is None:
         verdicts = ((r.check, r.status) for p in points for r in check_point(data, p))
-    rows = check_gain_spread(data, points)
+    rows = [*check_gain_spread(data, points), check_relief_cover_rated(data, points)]
     flowing = [p for p in points if p.m_steam > 0]
     ds = data.desuperheater
     steam_min = _extreme(flowing, "m_steam", min)

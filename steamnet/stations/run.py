@@ -18,9 +18,11 @@ from .. import properties as props
 from .._gc import young_collections_only
 from ..calc.desuperheater import gain_per_ratio, gain_per_spray
 from ..errors import ModelError, ModelErrors
+from ..calc.relief import orifice_area
 from ..units import Kind, parse_quantity
 from .checks import check_across_cases, check_point
-from .data import DesuperheaterData, StationData, StationLimits, StationPoint, ValveData
+from .data import (DesuperheaterData, ReliefData, ReliefDevice, StationData,
+                   StationLimits, StationPoint, ValveData)
 from .rows import SEVERITY, CheckRow, Status
 
 __all__ = ["StationReport", "PointChecks", "station_data", "station_points",
@@ -66,8 +68,9 @@ class StationReport:
 
 
 def parse_limits(table: dict, *, base: StationLimits | None = None, file=None,
-                 item="station_limits") -> StationLimits:
-    """StationLimits from a table of overrides written with units."""
+                 item="station_limits", origin: str | None = None) -> StationLimits:
+    """StationLimits from a table of overrides written with units; ``origin`` (e.g.
+    ``"model file, [station_limits]"``) becomes the source label of each limit set."""
     base = base or StationLimits()
     kinds = StationLimits.LIMIT_KINDS
     values = {}
@@ -85,7 +88,7 @@ def parse_limits(table: dict, *, base: StationLimits | None = None, file=None,
     if errors:
         raise ModelErrors(errors)
     try:
-        return base.with_overrides(**values)
+        return base.with_overrides(origin, **values)
     except ModelError as exc:
         raise ModelErrors([exc.with_context(file=file, item=item)]) from None
 
@@ -95,7 +98,51 @@ def _valve(v) -> ValveData | None:
         return None
     return ValveData(rated_kv=v.rated_coefficient, characteristic=v.characteristic,
                      rangeability=v.rangeability, fl=v.fl, xt=v.xt, fd=v.fd,
-                     diameter=v.diameter)
+                     diameter=v.diameter, pipe_diameter=v.pipe_diameter,
+                     pipe_wall=v.pipe_wall, pipe_density=v.pipe_density,
+                     pipe_sound_speed=v.pipe_sound_speed)
+
+
+def _relief(model, name: str, s) -> ReliefData:
+    """The relief devices of the station's outlet header and its failure assumptions.
+
+    Raises
+    ------
+    ModelError
+        A credited outflow that names no user or turbine drawing from the outlet
+        header.
+    """
+    header = model.table("header")[s.outlet]
+    devices = tuple(
+        ReliefDevice(name=r.name, p_set=r.set_pressure, overpressure=r.overpressure,
+                     capacity=r.capacity,
+                     area=orifice_area(r.orifice) if r.orifice else r.orifice_area,
+                     orifice=r.orifice, kd=r.discharge_coefficient)
+        for r in header.relief_valves)
+    credits = []
+    users, turbines = model.table("user"), model.table("turbine")
+    xturbines = model.table("extraction_turbine")
+    for k, c in enumerate(s.relief_credit):
+        item = f"letdown '{name}' relief_credit {k + 1}"
+        if c.user is not None:
+            u = users.get(c.user)
+            if u is None or u.header != s.outlet:
+                raise ModelError(f"no user '{c.user}' on the outlet header "
+                                 f"'{s.outlet}'", file=model.source, item=item,
+                                 field="user")
+            credits.append((f"user '{c.user}'", c.flow))
+        else:
+            t = turbines.get(c.turbine) or xturbines.get(c.turbine)
+            if t is None or t.inlet != s.outlet:
+                raise ModelError(f"no turbine '{c.turbine}' drawing from the outlet "
+                                 f"header '{s.outlet}'", file=model.source, item=item,
+                                 field="turbine")
+            credits.append((f"turbine '{c.turbine}'", c.flow))
+    return ReliefData(header=s.outlet, devices=devices,
+                      p_atm=model.site.atmospheric_pressure,
+                      spray_fails_open=s.spray_fails == "open", credits=tuple(credits),
+                      max_inlet_pressure=s.max_inlet_pressure,
+                      max_inlet_temperature=s.max_inlet_temperature)
 
 
 def station_data(model) -> dict[str, StationData]:
@@ -107,13 +154,16 @@ def station_data(model) -> dict[str, StationData]:
         A limit that is unknown, has a wrong unit or breaks the order of the limits,
         naming the file and the station.
     """
-    site = parse_limits(model.station_limits, file=model.source)
+    site = parse_limits(model.station_limits, file=model.source,
+                        origin="model file, [station_limits]")
     out = {}
     errors = []
     for name, s in model.table("letdown").items():
         try:
             limits = parse_limits(s.limits, base=site, file=model.source,
-                                  item=f"letdown '{name}' limits") if s.limits else site
+                                  item=f"letdown '{name}' limits",
+                                  origin=f"model file, letdown '{name}' limits"
+                                  ) if s.limits else site
         except ModelErrors as exc:
             errors.extend(exc.errors)
             continue
@@ -131,7 +181,8 @@ def station_data(model) -> dict[str, StationData]:
             out[name] = StationData(name=name, valve=_valve(s.valve), desuperheater=ds,
                                     spray_valve=_valve(s.spray_valve),
                                     outlet_pipe_diameter=s.outlet_pipe_diameter,
-                                    sensor_distance=s.sensor_distance, limits=limits)
+                                    sensor_distance=s.sensor_distance, limits=limits,
+                                    relief=_relief(model, name, s))
         except ModelError as exc:
             errors.append(exc.with_context(file=model.source, item=f"letdown '{name}'"))
     if errors:
