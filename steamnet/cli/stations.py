@@ -20,7 +20,8 @@ def print_findings(report, limit: int = 25) -> None:
         val = "-" if r["value"] is None or r["value"] != r["value"] else f"{r['value']:.3g}"
         lim = "-" if r["limit"] is None or r["limit"] != r["limit"] else f"{r['limit']:.3g}"
         click.echo(f"  {r['status'].upper():<12} {r['station']:<10} {r['case']:<18} "
-                   f"{r['check']:<24} {val:>8} {r['unit']:<4} (limit {lim}): {r['advice']}")
+                   f"{r['check']:<24} {val:>8} {r['unit']:<4} (limit {lim}): {r['advice']}"
+                   + (f" [source: {r['source']}]" if r["source"] else ""))
     if len(bad) > limit:
         click.echo(f"  ... {len(bad) - limit} more (see the JSON export or the workbook)")
 
