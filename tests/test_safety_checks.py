@@ -85,15 +85,16 @@ def test_relief_cover_not_assessed_names_the_field():
     orifice_no_kd = dataclasses.replace(d, relief=ReliefData(header="MP", devices=(
         ReliefDevice("PSV", P_SET, 0.1, area=1e-3),)))
     assert "discharge_coefficient" in check_relief_cover(orifice_no_kd, _point()).advice
-    rated = check_relief_cover_rated(d, [_point()])
+    rated = check_relief_cover_rated(d, [_point()], case="all cases")
     assert rated.status == "not_assessed" and "letdown.max_inlet_pressure" in rated.advice
 
 
 def test_relief_cover_rated_uses_the_rated_upstream_state():
     load = _choked_flow() + SPRAY
     d = _data(load / 0.85, max_inlet_pressure=P1, max_inlet_temperature=T1)
-    r = check_relief_cover_rated(d, [])
-    assert r.case == "rated inlet" and r.status == "ok"
+    r = check_relief_cover_rated(d, [], case="all cases")
+    assert r.case == "all cases" and r.status == "ok"
+    assert r.basis.startswith("at the rated maximum upstream state")
     assert r.value == pytest.approx(85.0, rel=3e-3)
 
 
@@ -206,3 +207,23 @@ def test_demo_relief_cover_fails_in_one_case_only():
         rows = c[c["check"] == check].set_index(["station", "case"])
         for key in zip(flowing["station"], flowing["case"]):
             assert rows.loc[key, "status"] in ("ok", "warn", "fail"), (check, key)
+
+
+def test_rows_of_an_overridden_limit_name_where_it_was_set():
+    # every check's row, old and new, carries the origin of an overridden limit
+    text = DEMO.read_text(encoding="utf-8").replace(
+        '[prices]', '[station_limits]\nspray_capacity_warn = "80 %"\n'
+        'valve_travel_warn_high = "75 %"\nnoise_warn = "80 dB(A)"\n\n[prices]', 1)
+    from steamnet.solve import solve_cases
+    from steamnet.stations.run import run_checks
+    m = loads_model(text, source="demo.toml")
+    data = station_data(m)
+    c = run_checks(solve_cases(m, station_checks=data), data=data).checks
+    here = "model file, [station_limits]"
+    for check in ("spray_capacity", "letdown_valve_noise"):
+        warned = c[(c["check"] == check) & (c["status"] == "warn")]
+        assert len(warned) and set(warned["source"]) == {here}, check
+    travel = c[(c["check"] == "letdown_valve_travel") & (c["status"] == "ok")]
+    assert set(travel["source"]) == {here}
+    approach = c[(c["check"] == "approach_to_saturation") & (c["status"] == "ok")]
+    assert set(approach["source"]) == {"common practice, no source"}

@@ -32,38 +32,38 @@ References
 from __future__ import annotations
 
 from dataclasses import replace
+from functools import lru_cache
 
 from .. import properties as props
 from ..calc.noise import PipeWall, STEEL, steam_valve_noise, water_valve_noise
 from ..calc.relief import relieving_pressure, steam_relief_capacity, steam_valve_flow
 from ..calc.valve import size_steam_valve, size_water_valve
 from ..errors import ModelError
-from ._context import Ctx, needs_row, point_check, row, water_enthalpy, water_state
-from .data import StationData, StationLimits, StationPoint
+from ._context import (Ctx, limit_source, needs_row, point_check, row, water_enthalpy,
+                       water_state)
+from .data import StationData, StationPoint
 from .rows import CheckRow, Status, grade_high
 
 __all__ = ["check_relief_cover", "check_relief_cover_rated", "check_letdown_noise",
-           "check_spray_noise", "check_spray_cavitation", "SAFETY_POINT_CHECKS",
-           "RATED"]
+           "check_spray_noise", "check_spray_cavitation", "SAFETY_POINT_CHECKS"]
 
 _T_H = 3.6
-#: Case name of the relief cover row at the station's rated maximum upstream state.
-RATED = "rated inlet"
 _CAVITATION_SOURCE = "IEC 60534-8-4 (xFz), IEC 60534-2-1 (choked liquid flow)"
 
 
-def _source(lim: StationLimits, status: Status, warn: str, fail: str) -> str:
-    """Source label of the limit a verdict refers to."""
-    return lim.source(fail if status is Status.FAIL else warn)
-
-
 # ---------------------------------------------------------------- relief cover
+def _relief_temperature(p_rel: float, h_mix: float) -> float:
+    """Temperature of the discharge at the relieving pressure [K]; saturation when it
+    is wet (the steam equation is for dry steam)."""
+    st = props.state_ph(p_rel, h_mix)
+    return props.t_sat(p_rel) if st.is_wet or st.phase == "liquid" else st.t
+
+
 def _capacity(dev, p_rel: float, h_mix: float) -> tuple[float, str]:
     """(capacity [kg/s], basis) of one safety valve at its relieving pressure."""
     if dev.capacity is not None:
         return dev.capacity, f"'{dev.name}' rated {dev.capacity * _T_H:.4g} t/h"
-    st = props.state_ph(p_rel, h_mix)
-    t = props.t_sat(p_rel) if st.is_wet or st.phase == "liquid" else st.t
+    t = _relief_temperature(p_rel, h_mix)
     cap = steam_relief_capacity(dev.area, p_rel, t, kd=dev.kd)
     what = f"orifice {dev.orifice}" if dev.orifice else "orifice"
     return cap.flow, (f"'{dev.name}' {what} {cap.flow * _T_H:.4g} t/h ({cap.basis}, "
@@ -96,7 +96,7 @@ def _relief_needs(data: StationData) -> list[str]:
 
 
 def _relief_row(data: StationData, case: str, p_in: float, state_in: props.State,
-                h_water: float | None, check: str) -> CheckRow:
+                h_water: float | None, check: str, rated: bool = False) -> CheckRow:
     """Relief cover of a failed-open let-down from one upstream state."""
     lim, r, valve = data.limits, data.relief, data.valve
     needs = _relief_needs(data)
@@ -130,7 +130,8 @@ def _relief_row(data: StationData, case: str, p_in: float, state_in: props.State
     capacity = sum(c for c, _ in caps)
     share = load / capacity
     status, limit = grade_high(share, lim.relief_cover_warn, lim.relief_cover_fail)
-    parts = [f"valve failed open at rated Kv {valve.rated_kv:.4g} m3/h: "
+    where = "at the rated maximum upstream state: " if rated else ""
+    parts = [f"{where}valve failed open at rated Kv {valve.rated_kv:.4g} m3/h: "
              f"{flow.flow * _T_H:.4g} t/h ({'choked' if flow.choked else 'not choked'}) "
              f"from {p_in / 1e5:.4g} bar(a), {state_in.t - 273.15:.0f} degC to "
              f"{p_rel / 1e5:.4g} bar(a)"]
@@ -153,7 +154,7 @@ def _relief_row(data: StationData, case: str, p_in: float, state_in: props.State
     }[status]
     return row(data, case, check, "%", status, value=100 * share, limit=100 * limit,
                basis="; ".join(parts), advice=advice,
-               source=_source(lim, status, "relief_cover_warn", "relief_cover_fail"))
+               source=limit_source(lim, status, "relief_cover_warn", "relief_cover_fail"))
 
 
 @point_check("relief_cover", "%")
@@ -165,8 +166,8 @@ def check_relief_cover(c: Ctx) -> CheckRow:
                        water_enthalpy(pt), c.check)
 
 
-def check_relief_cover_rated(data: StationData,
-                             points: list[StationPoint]) -> CheckRow:
+def check_relief_cover_rated(data: StationData, points: list[StationPoint], *,
+                             case: str) -> CheckRow:
     """Relief cover at the station's rated maximum upstream state (case-independent).
 
     Parameters
@@ -176,11 +177,13 @@ def check_relief_cover_rated(data: StationData,
     points : list of StationPoint
         The station's points; the spray water enthalpy is taken from the first with
         one (the steam's own enthalpy otherwise) [-]
+    case : str
+        Case name of the row: that of the rows across cases [-]
 
     Returns
     -------
     row : CheckRow
-        Check ``relief_cover_rated`` in case :data:`RATED`; value and limit in % [%]
+        Check ``relief_cover_rated``; value and limit in % [%]
     """
     check = "relief_cover_rated"
     r = data.relief
@@ -190,11 +193,12 @@ def check_relief_cover_rated(data: StationData,
         ("rated maximum upstream temperature", "max_inlet_temperature",
          r.max_inlet_temperature if r else None)) if v is None]
     if needs:
-        return needs_row(data, RATED, check, "%", needs,
+        return needs_row(data, case, check, "%", needs,
                          source=data.limits.source("relief_cover_fail"))
     h_w = next((h for h in map(water_enthalpy, points) if h is not None), None)
     state = props.state_pt(r.max_inlet_pressure, r.max_inlet_temperature)
-    return _relief_row(data, RATED, r.max_inlet_pressure, state, h_w, check)
+    return _relief_row(data, case, r.max_inlet_pressure, state, h_w, check,
+                       rated=True)
 
 
 # ----------------------------------------------------------------------- noise
@@ -211,7 +215,7 @@ def _noise_row(c: Ctx, what: str, noise) -> CheckRow:
         Status.OK: f"{what} noise within the usual specification",
     }[status]
     return c.row(status, value=noise.level, limit=limit, basis=noise.basis,
-                 advice=advice, source=_source(lim, status, "noise_warn", "noise_fail"))
+                 advice=advice, source=limit_source(lim, status, "noise_warn", "noise_fail"))
 
 
 def _pipe(valve, diameter, field: str) -> tuple[PipeWall | None, list[str], str]:
@@ -266,8 +270,14 @@ def check_letdown_noise(c: Ctx) -> CheckRow:
 
 
 def _spray_noise(c: Ctx):
-    """(noise or None, missing data) of the spray valve at the point."""
-    valve, pt = c.data.spray_valve, c.point
+    """(noise or None, missing data) of the spray valve at the point (worked out once
+    for the noise and the cavitation rows)."""
+    return _spray_noise_of(c.data, c.point)
+
+
+@lru_cache(maxsize=16)
+def _spray_noise_of(data: StationData, pt: StationPoint):
+    valve = data.spray_valve
     needs = _valve_needs(valve, "spray_valve", "spray valve", ("fl", "fd", "diameter"))
     if pt.p_water is None:
         needs.append("the spray water supply pressure")
