@@ -1,8 +1,10 @@
 """Pure engineering functions of steamnet, SI units at the interface.
 
 One module per topic: :mod:`steamnet.calc.valve` (IEC 60534-2-1 sizing through
-``fluids`` and valve travel) and :mod:`steamnet.calc.desuperheater` (spray balance,
-control gains, evaporation distance). Nothing here reads a model or keeps state.
+``fluids`` and valve travel), :mod:`steamnet.calc.desuperheater` (spray balance,
+control gains, evaporation distance), :mod:`steamnet.calc.relief` (valve flow at a
+given Kv, API 520 steam relief capacity) and :mod:`steamnet.calc.noise` (IEC 60534-8-3
+and 8-4 valve noise). Nothing here reads a model or keeps state.
 """
 
 from .desuperheater import (evaporation_distance, gain_per_ratio, gain_per_spray,
