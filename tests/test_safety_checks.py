@@ -227,3 +227,14 @@ def test_rows_of_an_overridden_limit_name_where_it_was_set():
     assert set(travel["source"]) == {here}
     approach = c[(c["check"] == "approach_to_saturation") & (c["status"] == "ok")]
     assert set(approach["source"]) == {"common practice, no source"}
+
+
+def test_relief_state_outside_api520_range_is_not_assessed():
+    # API 520's superheat table stops at 649 degC (fluids raises beyond it): the row
+    # says so instead of raising
+    d = _data(None)
+    d = dataclasses.replace(d, relief=dataclasses.replace(d.relief, devices=(
+        ReliefDevice("PSV", P_SET, 0.1, area=1e-3, kd=0.975),)))
+    hot = dataclasses.replace(_point(), h_in=props.h_pt(P1, 1000.0))
+    r = check_relief_cover(d, hot)
+    assert r.status == "not_assessed" and "649" in r.advice

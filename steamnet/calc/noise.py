@@ -218,11 +218,15 @@ def gas_valve_noise(m: float, p_in: float, p_out: float, *, t_in: float, rho: fl
         raise ModelError("no pressure drop across the valve")
     if fl is None and (flp is None or fp is None):
         raise ModelError("give fl, or both flp and fp")
-    level = _cv.control_valve_noise_g_2011(
-        m=m, P1=p_in, P2=p_out, T1=t_in, rho=rho, gamma=gamma, MW=mw, Kv=kv, d=d_valve,
-        Di=pipe.diameter, t_pipe=pipe.wall, Fd=fd, FL=fl, FLP=flp, FP=fp,
-        rho_pipe=pipe.density, c_pipe=pipe.sound_speed, rho_air=RHO_AIR, c_air=C_AIR,
-        T2=t_out)
+    try:
+        level = _cv.control_valve_noise_g_2011(
+            m=m, P1=p_in, P2=p_out, T1=t_in, rho=rho, gamma=gamma, MW=mw, Kv=kv,
+            d=d_valve, Di=pipe.diameter, t_pipe=pipe.wall, Fd=fd, FL=fl, FLP=flp, FP=fp,
+            rho_pipe=pipe.density, c_pipe=pipe.sound_speed, rho_air=RHO_AIR,
+            c_air=C_AIR, T2=t_out)
+    except (ValueError, ZeroDivisionError, OverflowError) as exc:
+        raise ModelError(f"IEC 60534-8-3 (fluids) cannot evaluate this point: {exc}"
+                         ) from None
     fl_term = flp / fp if (flp is not None and fp is not None) else fl
     x_vcc = 1.0 - (2.0 / (gamma + 1.0)) ** (gamma / (gamma - 1.0))
     choked = (p_in - p_out) / p_in > fl_term ** 2 * x_vcc
@@ -281,10 +285,14 @@ def liquid_valve_noise(m: float, p_in: float, p_out: float, *, p_sat: float,
               d_valve=d_valve)
     if p_out >= p_in:
         raise ModelError("no pressure drop across the valve")
-    level = _cv.control_valve_noise_l_2015(
-        m=m, P1=p_in, P2=p_out, Psat=p_sat, rho=rho, c=c, Kv=kv, d=d_valve,
-        Di=pipe.diameter, FL=fl, Fd=fd, t_pipe=pipe.wall, rho_pipe=pipe.density,
-        c_pipe=pipe.sound_speed, rho_air=RHO_AIR, c_air=C_AIR)
+    try:
+        level = _cv.control_valve_noise_l_2015(
+            m=m, P1=p_in, P2=p_out, Psat=p_sat, rho=rho, c=c, Kv=kv, d=d_valve,
+            Di=pipe.diameter, FL=fl, Fd=fd, t_pipe=pipe.wall, rho_pipe=pipe.density,
+            c_pipe=pipe.sound_speed, rho_air=RHO_AIR, c_air=C_AIR)
+    except (ValueError, ZeroDivisionError, OverflowError) as exc:
+        raise ModelError(f"IEC 60534-8-4 (fluids) cannot evaluate this point: {exc}"
+                         ) from None
     # the characteristic pressure ratio as fluids estimates it inside the function
     cv = _cv.Kv_to_Cv(kv)
     x_fz = 0.9 / math.sqrt(1.0 + 3.0 * fd * math.sqrt(cv / (1.17 * fl)))

@@ -117,16 +117,21 @@ def _relief_row(data: StationData, case: str, p_in: float, state_in: props.State
                    advice="the let-down cannot raise the header to its relieving "
                           "pressure")
     full = valve.diameter is not None and valve.fl is not None and valve.fd is not None
-    flow = steam_valve_flow(valve.rated_kv, p_in, p_rel, state_in, fl=valve.fl,
-                            xt=valve.xt, fd=valve.fd if full else None,
-                            d_valve=valve.diameter if full else None)
     ds = data.desuperheater
     spray = ds.max_spray if (ds is not None and r.spray_fails_open) else 0.0
-    h_w = h_water if h_water is not None else state_in.h
-    h_mix = (flow.flow * state_in.h + spray * h_w) / (flow.flow + spray)
+    try:
+        flow = steam_valve_flow(valve.rated_kv, p_in, p_rel, state_in, fl=valve.fl,
+                                xt=valve.xt, fd=valve.fd if full else None,
+                                d_valve=valve.diameter if full else None)
+        h_w = h_water if h_water is not None else state_in.h
+        h_mix = (flow.flow * state_in.h + spray * h_w) / (flow.flow + spray)
+        caps = [_capacity(d, p, h_mix) for d, p in zip(r.devices, p_rels)]
+    except ModelError as exc:
+        return needs_row(data, case, check, "%", ["a state within the equations' range"],
+                         source=lim.source("relief_cover_fail"),
+                         extra=f" ({exc.message})")
     credit = sum(f for _, f in r.credits)
     load = max(flow.flow + spray - credit, 0.0)
-    caps = [_capacity(d, p, h_mix) for d, p in zip(r.devices, p_rels)]
     capacity = sum(c for c, _ in caps)
     share = load / capacity
     status, limit = grade_high(share, lim.relief_cover_warn, lim.relief_cover_fail)
@@ -291,11 +296,14 @@ def _spray_noise_of(data: StationData, pt: StationPoint):
     if needs or pt.p_water <= pt.p_out:
         return None, needs
     ws = water_state(pt)
-    sizing = size_water_valve(pt.p_water, pt.p_out, pt.m_spray, ws, fl=valve.fl,
-                              fd=valve.fd, d_valve=valve.diameter)
-    noise = water_valve_noise(pt.m_spray, pt.p_water, pt.p_out, ws, kv=sizing.kv,
-                              fl=valve.fl, fd=valve.fd, d_valve=valve.diameter,
-                              pipe=pipe)
+    try:
+        sizing = size_water_valve(pt.p_water, pt.p_out, pt.m_spray, ws, fl=valve.fl,
+                                  fd=valve.fd, d_valve=valve.diameter)
+        noise = water_valve_noise(pt.m_spray, pt.p_water, pt.p_out, ws, kv=sizing.kv,
+                                  fl=valve.fl, fd=valve.fd, d_valve=valve.diameter,
+                                  pipe=pipe)
+    except ModelError as exc:
+        return None, [f"a spray water state the liquid equations cover ({exc.message})"]
     return replace(noise, basis=f"{noise.basis}; {note}; dP = p_water - p_out, nozzle "
                                 "drop not deducted"), []
 
