@@ -471,3 +471,18 @@ def viscosity(st: State) -> float:
         raise PropertyRangeError(f"{_fmt(st.p, h=st.h)}: viscosity of wet steam is not "
                                  "defined")
     return _viscosity(float(st.rho), float(st.t))
+
+
+@lru_cache(maxsize=65536)
+@_timed
+def _speed_of_sound(p: float, t: float) -> float:
+    return float(_if97.IAPWS97(P=p / 1e6, T=t).w)
+
+
+def speed_of_sound(st: State) -> float:
+    """Speed of sound [m/s] of a single-phase state (IAPWS-IF97, via iapws); cached
+    and counted like the other evaluations."""
+    if st.is_wet:
+        raise PropertyRangeError(f"{_fmt(st.p, h=st.h)}: speed of sound of wet steam is "
+                                 "not used here")
+    return _speed_of_sound(float(st.p), float(st.t))

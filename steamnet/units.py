@@ -66,13 +66,16 @@ class Kind(str, Enum):
     PRICE_ENERGY = "price_energy"             # currency per J
     PRICE_MASS = "price_mass"                 # currency per kg
     NUMBER = "number"                         # a pure number (FL, xT, Fd)
+    AREA = "area"                             # m2 (relief valve orifice)
+    DENSITY = "density"                       # kg/m3 (pipe wall material)
+    SOUND_LEVEL = "sound_level"               # dB(A), written "85 dB(A)"
 
 
 _SI = {
     Kind.PRESSURE: "Pa", Kind.PRESSURE_DIFFERENCE: "Pa", Kind.TEMPERATURE: "K",
     Kind.TEMPERATURE_DIFFERENCE: "K", Kind.MASS_FLOW: "kg/s", Kind.POWER: "W",
     Kind.SPECIFIC_ENTHALPY: "J/kg", Kind.STEAM_RATE: "kg/J", Kind.LENGTH: "m",
-    Kind.TIME: "s", Kind.VELOCITY: "m/s",
+    Kind.TIME: "s", Kind.VELOCITY: "m/s", Kind.AREA: "m**2", Kind.DENSITY: "kg/m**3",
 }
 
 _EXAMPLES = {
@@ -93,6 +96,9 @@ _EXAMPLES = {
     Kind.PRICE_ENERGY: "'9.5 EUR/GJ', '32 EUR/MWh'",
     Kind.PRICE_MASS: "'1.8 EUR/t'",
     Kind.NUMBER: "0.9",
+    Kind.AREA: "'1840 mm^2', '2.853 in^2'",
+    Kind.DENSITY: "'7800 kg/m^3'",
+    Kind.SOUND_LEVEL: "'85 dB(A)'",
 }
 
 # Pressure units the gauge/absolute suffix may follow (pint names on the right).
@@ -153,6 +159,11 @@ def unit_factor(unit: str, kind: Kind) -> tuple[float, float, bool]:
         if kind is Kind.FRACTION and u in ("%", "percent"):
             return 0.01, 0.0, False
         raise _err(f"'{unit}' is not a unit for a {kind.value}; write {_EXAMPLES[kind]}")
+    if kind is Kind.SOUND_LEVEL:
+        if u.lower().replace(" ", "") in ("db(a)", "dba"):
+            return 1.0, 0.0, False
+        raise _err(f"'{unit}' is not a unit of A-weighted sound level; write "
+                   f"{_EXAMPLES[kind]}")
     if kind is Kind.FLOW_COEFFICIENT:
         low = u.lower()
         if low == "kv":

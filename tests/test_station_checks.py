@@ -84,7 +84,7 @@ def test_default_limits_as_in_docs_checks_index():
     assert StationLimits.LIMIT_SOURCES["velocity_warn_high"] == "from memory"
     assert set(StationLimits.LIMIT_KINDS.values()) <= {
         "fraction", "temperature_difference", "pressure_difference", "velocity",
-        "time", "ratio"}
+        "time", "ratio", "sound_level"}
 
 
 def test_limit_overrides():
@@ -368,7 +368,8 @@ def test_check_across_cases_envelope():
     points = [_point(10.0, "winter"), _point(4.0, "summer"), _point(11.5, "trip"),
               _point(0.0, "shutdown")]
     rows, env = check_across_cases(data, points)
-    assert [r.check for r in rows] == ["gain_spread_spray", "gain_spread_ratio"]
+    assert [r.check for r in rows] == ["gain_spread_spray", "gain_spread_ratio",
+                                       "relief_cover_rated"]
     assert env["cases"] == ["winter", "summer", "trip"]
     assert env["steam_min"] == {"value": 4.0, "case": "summer"}
     assert env["steam_max"] == {"value": 11.5, "case": "trip"}

@@ -23,7 +23,8 @@ def demo_report():
 #: The single-point checks of docs/checks/index.md.
 POINT_IDS = {"approach_to_saturation", "steam_turndown", "spray_capacity", "spray_turndown",
              "letdown_valve_travel", "spray_valve_travel", "spray_water_pressure",
-             "downstream_velocity", "sensor_distance"}
+             "downstream_velocity", "sensor_distance", "relief_cover",
+             "letdown_valve_noise", "spray_valve_noise", "spray_valve_cavitation"}
 
 
 def test_every_station_every_check_every_case(demo_report):

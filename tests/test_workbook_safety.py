@@ -135,7 +135,7 @@ def test_report_of_one_case_draws_that_case(tmp_path):
     out = tmp_path / "r.xlsx"
     r = run("report", str(DEMO), "--out", str(out), "--case", "winter",
             "--network-case", "winter")
-    assert r.returncode == 0, r.stderr
+    assert r.returncode == 1, r.stderr      # winter fails a noise check of its own
     wb = openpyxl.load_workbook(out)
     assert "winter" in wb["Network"]["A2"].value
     assert len(wb["Network"]._images) == 1

@@ -4,7 +4,9 @@ One module per topic: :mod:`steamnet.calc.valve` (IEC 60534-2-1 sizing through
 ``fluids`` and valve travel), :mod:`steamnet.calc.desuperheater` (spray balance,
 control gains, evaporation distance), :mod:`steamnet.calc.boiler` (feedwater, blowdown,
 fuel), :mod:`steamnet.calc.turbine` (section flows and power) and
-:mod:`steamnet.calc.pump` (pump work). The solver, the result tables, validation and
+:mod:`steamnet.calc.pump` (pump work), :mod:`steamnet.calc.relief` (valve flow at a
+given Kv, API 520 steam relief capacity) and :mod:`steamnet.calc.noise` (IEC 60534-8-3
+and 8-4 valve noise). The solver, the result tables, validation and
 the station checks all call these: each equation has one home. Nothing here reads a
 model or keeps state.
 """

@@ -34,6 +34,9 @@ _KIND_UNITS = {
     Kind.PRICE_ENERGY: "price per energy: `9 EUR/GJ`, `95 EUR/MWh` (site currency)",
     Kind.PRICE_MASS: "price per mass: `1.6 EUR/t` (site currency)",
     Kind.NUMBER: "pure number: `0.85`",
+    Kind.AREA: "area: `1840 mm^2`, `2.853 in^2`",
+    Kind.DENSITY: "density: `7800 kg/m^3`",
+    Kind.VELOCITY: "velocity: `5000 m/s`",
 }
 
 _TABLES = [
@@ -43,6 +46,7 @@ _TABLES = [
     ("[[extraction_turbine]]", S.ExtractionTurbine),
     ("[[extraction_turbine.extractions]]", S.Extraction), ("[[letdown]]", S.Letdown),
     ("[letdown.desuperheater]", S.Desuperheater),
+    ("[[letdown.relief_credit]]", S.ReliefCredit),
     ("[letdown.valve] and [letdown.spray_valve]", S.Valve), ("[[user]]", S.User),
     ("[[vent]]", S.Vent), ("[[deaerator]]", S.Deaerator), ("[[case]]", S.Case),
 ]
@@ -86,7 +90,8 @@ def _type_text(info: FieldInfo) -> str:
         return "text"
     name = getattr(ann, "__name__", str(ann))
     if "list" in str(ann):
-        return "list (see below)" if "Extraction" in str(ann) else "list of fractions"
+        see_below = any(k in str(ann) for k in ("Extraction", "Relief"))
+        return "list (see below)" if see_below else "list of fractions"
     if "dict" in str(ann):
         return "table"
     return name.replace("NoneType", "").strip("| ")
@@ -147,7 +152,8 @@ def station_limit_table() -> str:
     lim = StationLimits()
     units = {"fraction": ("%", 100.0), "temperature_difference": ("K", 1.0),
              "pressure_difference": ("bar", 1e-5), "velocity": ("m/s", 1.0),
-             "time": ("s", 1.0), "ratio": (":1", 1.0)}
+             "time": ("s", 1.0), "ratio": (":1", 1.0),
+             "sound_level": ("dB(A)", 1.0)}
     out = ["### [station_limits] and a let-down's `limits`", "",
            "Limits of the station checks (docs/checks/). `[station_limits]` sets them "
            "for the site; a let-down's `limits = { ... }` table overrides them for that "

@@ -25,6 +25,8 @@ __all__ = [
     "Extraction", "ExtractionTurbine", "Valve", "Desuperheater", "Letdown", "User", "Vent",
     "Deaerator", "Case", "EQUIPMENT_TABLES", "NAME_RE", "ITEM_LABELS", "VENT_RANK",
     "item_label",
+    "ReliefValve", "ReliefCredit",
+    "Deaerator", "Case", "EQUIPMENT_TABLES", "NAME_RE",
 ]
 
 #: Allowed item names: letters, digits, space and - _ / + ( ) # ; no dots (dots separate
@@ -122,6 +124,9 @@ FlowCoefficient = Q(Kind.FLOW_COEFFICIENT)
 PriceEnergy = Q(Kind.PRICE_ENERGY)
 PriceMass = Q(Kind.PRICE_MASS)
 SteamRate = Q(Kind.STEAM_RATE)
+Area = Q(Kind.AREA)
+Density = Q(Kind.DENSITY)
+Velocity = Q(Kind.VELOCITY)
 
 
 class _Item(BaseModel):
@@ -186,6 +191,46 @@ class Prices(_Item):
 
 
 # --------------------------------------------------------------------------- header
+#: Orifice letters of API 526 (effective areas in steamnet.calc.relief.ORIFICE_LETTERS).
+ORIFICE_LETTER = Literal["D", "E", "F", "G", "H", "J", "K", "L", "M", "N", "P", "Q", "R",
+                         "T"]
+
+
+class ReliefValve(_Item):
+    """A steam safety (relief) valve protecting a header (docs/checks/relief_cover.md)."""
+
+    name: Name
+    set_pressure: Pressure = Field(description="set pressure [Pa]")
+    overpressure: Fraction = Field(description="allowed overpressure (accumulation) "
+                                   "above the set pressure, as a share of the gauge set "
+                                   "pressure, e.g. '10 %' [-]")
+    capacity: Flow | None = Field(None, description="rated (certified) relieving "
+                                  "capacity in steam at the relieving pressure; or give "
+                                  "the orifice [kg/s]")
+    orifice_area: Area | None = Field(None, description="effective orifice area; or give "
+                                      "'orifice' [m2]")
+    orifice: ORIFICE_LETTER | None = Field(None, description="API 526 orifice letter "
+                                           "(D to T); or give 'orifice_area'")
+    discharge_coefficient: Number | None = Field(
+        None, description="effective coefficient of discharge Kd, needed with an "
+        "orifice (the maker's certified figure) [-]")
+
+    def check(self) -> None:
+        _check_fraction(self.overpressure, "overpressure", allow_zero=True,
+                        allow_one=False)
+        if self.orifice is not None and self.orifice_area is not None:
+            raise FieldError("orifice", "give either 'orifice' (a letter) or "
+                             "'orifice_area', not both")
+        if self.capacity is not None and (self.orifice or self.orifice_area):
+            raise FieldError("capacity", "give either the rated 'capacity' or the "
+                             "orifice, not both")
+        _check_nonneg(self, "capacity", "orifice_area")
+        if self.discharge_coefficient is not None and not (
+                0 < self.discharge_coefficient <= 1):
+            raise FieldError("discharge_coefficient", "discharge_coefficient must lie "
+                             f"in (0, 1], got {self.discharge_coefficient:g}")
+
+
 class Header(_Item):
     """A steam header held at one pressure by its controller."""
 
@@ -193,6 +238,19 @@ class Header(_Item):
     pressure: Pressure = Field(description="header pressure held by its controller [Pa]")
     heat_loss: Power = Field(0.0, description="heat lost from the header and its mains [W]")
     description: str = ""
+    relief_valves: list[ReliefValve] = Field(
+        default_factory=list, description="the header's steam safety valves, "
+        "[[header.relief_valves]] (see below)")
+
+    def check(self) -> None:
+        names = [r.name for r in self.relief_valves]
+        if len(set(names)) != len(names):
+            raise FieldError("relief_valves", "two relief valves have the same name")
+        for r in self.relief_valves:
+            if r.set_pressure <= self.pressure:
+                raise FieldError("relief_valves", f"relief valve '{r.name}' is set at "
+                                 "or below the header pressure: it would lift in "
+                                 "normal operation")
 
 
 # --------------------------------------------------------------------- water supply
@@ -423,6 +481,22 @@ class ExtractionTurbine(_Item):
 
 
 # ------------------------------------------------------------------------- let-down
+class ReliefCredit(_Item):
+    """An outflow of a let-down's outlet header that is certain to continue when the
+    let-down valve fails open, credited against the relief load."""
+
+    user: Name | None = Field(None, description="a user on the outlet header; or give "
+                              "'turbine'")
+    turbine: Name | None = Field(None, description="a turbine drawing from the outlet "
+                                 "header that cannot trip with the failure")
+    flow: Flow = Field(description="the minimum flow that is certain to continue [kg/s]")
+
+    def check(self) -> None:
+        if (self.user is None) == (self.turbine is None):
+            raise FieldError("user", "give exactly one of 'user' and 'turbine'")
+        _check_nonneg(self, "flow")
+
+
 class Valve(_Item):
     """A control valve (let-down steam valve or spray water valve)."""
 
@@ -437,8 +511,24 @@ class Valve(_Item):
                               "[-]")
     fd: Number | None = Field(None, description="valve style modifier Fd [-]")
     diameter: Length | None = Field(None, description="valve (and line) size [m]")
+    pipe_diameter: Length | None = Field(
+        None, description="inside diameter of the pipe after the valve, for its noise; "
+        "default: the station's outlet_pipe_diameter for the let-down valve, the valve "
+        "size for the spray valve [m]")
+    pipe_wall: Length | None = Field(None, description="wall thickness of the pipe "
+                                     "after the valve, for its noise [m]")
+    pipe_density: Density | None = Field(
+        None, description="density of the pipe wall material; default carbon steel, "
+        "7800 kg/m3 [kg/m3]")
+    pipe_sound_speed: Velocity | None = Field(
+        None, description="speed of sound in the pipe wall material; default carbon "
+        "steel, 5000 m/s [m/s]")
 
     def check(self) -> None:
+        for f in ("pipe_diameter", "pipe_wall", "pipe_density", "pipe_sound_speed"):
+            v = getattr(self, f)
+            if v is not None and not v > 0:
+                raise FieldError(f, f"{f} must be positive")
         for f in ("fl", "xt", "fd"):
             v = getattr(self, f)
             if v is not None and not (0 < v <= 1):
@@ -508,6 +598,17 @@ class Letdown(_Item):
                                            "spray nozzle to the temperature element [m]")
     limits: dict[str, Any] = Field(default_factory=dict, description="overrides of "
                                    "[station_limits] for this station")
+    spray_fails: Literal["open", "closed"] = Field(
+        "open", description="how the spray water valve fails: 'open' adds the maximum "
+        "spray to the relief load of a failed-open let-down (the conservative choice)")
+    relief_credit: list[ReliefCredit] = Field(
+        default_factory=list, description="outflows of the outlet header credited "
+        "against the relief load, [[letdown.relief_credit]] (see below); default none")
+    max_inlet_pressure: Pressure | None = Field(
+        None, description="highest upstream pressure the station is rated for, for the "
+        "case-independent relief cover row [Pa]")
+    max_inlet_temperature: Temperature | None = Field(
+        None, description="highest upstream temperature the station is rated for [K]")
     in_service: bool = True
 
     def check(self) -> None:

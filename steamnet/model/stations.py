@@ -21,13 +21,14 @@ from dataclasses import dataclass, field
 from types import MappingProxyType
 from typing import ClassVar, Mapping
 
+from ..calc.relief import orifice_area
 from ..calc.valve import Characteristic
 from ..errors import ModelError, ModelErrors
 from ..units import Kind, parse_quantity
 
 __all__ = ["ValveData", "DesuperheaterData", "StationLimits", "StationData",
-           "StationPoint", "CHARACTERISTICS", "ATOMISATIONS", "station_data",
-           "parse_limits"]
+           "StationPoint", "ReliefDevice", "ReliefData", "CHARACTERISTICS",
+           "ATOMISATIONS", "station_data", "parse_limits"]
 
 #: Allowed inherent characteristics: the values of :class:`steamnet.calc.Characteristic`.
 CHARACTERISTICS = tuple(c.value for c in Characteristic)
@@ -64,6 +65,14 @@ class ValveData:
         Valve style modifier [-]
     diameter : float or None
         Nominal diameter [m]
+    pipe_diameter : float or None
+        Inside diameter of the pipe after the valve, for noise [m]
+    pipe_wall : float or None
+        Wall thickness of that pipe [m]
+    pipe_density : float or None
+        Density of its wall material; None for the carbon steel default [kg/m3]
+    pipe_sound_speed : float or None
+        Speed of sound in its wall material; None for the default [m/s]
     """
 
     rated_kv: float | None = None
@@ -73,10 +82,16 @@ class ValveData:
     xt: float | None = None
     fd: float | None = None
     diameter: float | None = None
+    pipe_diameter: float | None = None
+    pipe_wall: float | None = None
+    pipe_density: float | None = None
+    pipe_sound_speed: float | None = None
 
     def __post_init__(self):
         _positive("valve", rated_kv=self.rated_kv, fl=self.fl, xt=self.xt, fd=self.fd,
-                  diameter=self.diameter)
+                  diameter=self.diameter, pipe_diameter=self.pipe_diameter,
+                  pipe_wall=self.pipe_wall, pipe_density=self.pipe_density,
+                  pipe_sound_speed=self.pipe_sound_speed)
         if self.characteristic is not None and self.characteristic not in CHARACTERISTICS:
             raise ModelError(f"unknown characteristic {self.characteristic!r}; allowed: "
                              + ", ".join(CHARACTERISTICS), item="valve",
@@ -145,6 +160,12 @@ _SOURCES = {
     "velocity_warn_high": "from memory",
     "evaporation_time_default": "from memory; maker's figure wins",
     "gain_spread_warn": "common practice, no source",
+    "relief_cover_warn": "common practice, no source",
+    "relief_cover_fail": "relief cover: the load must not exceed the relieving capacity",
+    "noise_warn": "from memory: upper daily exposure action value of EU Directive "
+                  "2003/10/EC, commonly applied at 1 m in valve specifications",
+    "noise_fail": "common practice, no source (screening level for acoustic fatigue "
+                  "of the pipe)",
 }
 _KINDS = {
     "spray_capacity_warn": "fraction",
@@ -159,6 +180,10 @@ _KINDS = {
     "velocity_warn_high": "velocity",
     "evaporation_time_default": "time",
     "gain_spread_warn": "ratio",
+    "relief_cover_warn": "fraction",
+    "relief_cover_fail": "fraction",
+    "noise_warn": "sound_level",
+    "noise_fail": "sound_level",
 }
 
 
@@ -197,6 +222,19 @@ class StationLimits:
         Evaporation time used when the maker gives none [s]
     gain_spread_warn : float
         Warn when the largest control gain exceeds the smallest by this ratio [-]
+    relief_cover_warn : float
+        Warn when the relief load of a failed-open let-down exceeds this fraction of
+        the downstream relieving capacity [-]
+    relief_cover_fail : float
+        Fail when it exceeds this fraction [-]
+    noise_warn : float
+        Warn above this valve noise level, 1 m downstream and 1 m from the pipe
+        [dB(A)]
+    noise_fail : float
+        Fail above this valve noise level [dB(A)]
+    origins : tuple of (str, str)
+        (limit, where it was set) for every limit overridden by the model; the
+        source label of such a limit is where it was set [-]
     """
 
     spray_capacity_warn: float = 0.85
@@ -211,14 +249,19 @@ class StationLimits:
     velocity_warn_high: float = 75.0
     evaporation_time_default: float = 0.2
     gain_spread_warn: float = 3.0
+    relief_cover_warn: float = 0.90
+    relief_cover_fail: float = 1.00
+    noise_warn: float = 85.0
+    noise_fail: float = 110.0
+    origins: tuple = ()
 
     LIMIT_SOURCES: ClassVar[Mapping[str, str]] = MappingProxyType(_SOURCES)
     LIMIT_KINDS: ClassVar[Mapping[str, str]] = MappingProxyType(_KINDS)
 
     def __post_init__(self):
-        _positive("station_limits", **{f.name: getattr(self, f.name)
-                                       for f in dataclasses.fields(self)})
+        _positive("station_limits", **{n: getattr(self, n) for n in self.names()})
         order = [("spray_capacity_warn", "spray_capacity_fail"),
+                 ("relief_cover_warn", "relief_cover_fail"), ("noise_warn", "noise_fail"),
                  ("approach_fail", "approach_warn"),
                  ("valve_travel_warn_low", "valve_travel_warn_high"),
                  ("valve_travel_warn_high", "valve_travel_fail_high"),
@@ -235,16 +278,40 @@ class StationLimits:
     @classmethod
     def names(cls) -> tuple[str, ...]:
         """Names of all limits, in declaration order."""
-        return tuple(f.name for f in dataclasses.fields(cls))
+        return tuple(f.name for f in dataclasses.fields(cls) if f.name != "origins")
 
-    def with_overrides(self, **si_values: float) -> "StationLimits":
+    def source(self, name: str) -> str:
+        """Source label of limit ``name``: where the model set it, when it did, else
+        the default's source.
+
+        Parameters
+        ----------
+        name : str
+            Limit name [-]
+
+        Returns
+        -------
+        label : str
+            E.g. ``"common practice, no source"`` or ``"model file,
+            [station_limits]"`` [-]
+        """
+        for limit, origin in self.origins:
+            if limit == name:
+                return origin
+        return _SOURCES[name]
+
+    def with_overrides(self, origin: str | None = None,
+                       **si_values: float) -> "StationLimits":
         """A copy with some limits replaced.
 
         Parameters
         ----------
+        origin : str, optional
+            Where the new values were set, e.g. ``"model file, [station_limits]"``;
+            it becomes their source label [-]
         **si_values : float
             New values by limit name, in SI units (fractions as 0..1, K, Pa, m/s,
-            s) [various]
+            s, dB(A)) [various]
 
         Returns
         -------
@@ -261,7 +328,74 @@ class StationLimits:
         if unknown:
             raise ModelError(f"unknown station limit(s) {', '.join(unknown)}; known: "
                              + ", ".join(self.names()), item="station_limits")
-        return dataclasses.replace(self, **si_values)
+        origins = self.origins
+        if origin is not None and si_values:
+            origins = tuple((n, o) for n, o in origins if n not in si_values) + tuple(
+                (n, origin) for n in si_values)
+        return dataclasses.replace(self, origins=origins, **si_values)
+
+
+@dataclass(frozen=True, slots=True)
+class ReliefDevice:
+    """One steam safety valve of a header, as the model gives it.
+
+    Attributes
+    ----------
+    name : str
+        Valve name [-]
+    p_set : float
+        Absolute set pressure [Pa]
+    overpressure : float
+        Allowed overpressure as a fraction of the gauge set pressure [-]
+    capacity : float or None
+        Rated relieving capacity [kg/s]
+    area : float or None
+        Effective orifice area [m2]
+    orifice : str or None
+        API 526 orifice letter, when the area came from it [-]
+    kd : float or None
+        Effective coefficient of discharge [-]
+    """
+
+    name: str
+    p_set: float
+    overpressure: float
+    capacity: float | None = None
+    area: float | None = None
+    orifice: str | None = None
+    kd: float | None = None
+
+
+@dataclass(frozen=True, slots=True)
+class ReliefData:
+    """What the relief cover of a failed-open let-down needs beyond the valve.
+
+    Attributes
+    ----------
+    header : str
+        The downstream (protected) header [-]
+    devices : tuple of ReliefDevice
+        Its safety valves; empty when the model gives none [-]
+    p_atm : float
+        Local atmospheric pressure, for the gauge set pressure [Pa]
+    spray_fails_open : bool
+        True when the spray valve can fail open (its maximum spray adds to the
+        load) [-]
+    credits : tuple of (str, float)
+        (what, flow [kg/s]) of each credited outflow of the downstream header [-]
+    max_inlet_pressure : float or None
+        Highest upstream pressure the station is rated for [Pa]
+    max_inlet_temperature : float or None
+        Highest upstream temperature the station is rated for [K]
+    """
+
+    header: str
+    devices: tuple = ()
+    p_atm: float = 101325.0
+    spray_fails_open: bool = True
+    credits: tuple = ()
+    max_inlet_pressure: float | None = None
+    max_inlet_temperature: float | None = None
 
 
 @dataclass(frozen=True, slots=True)
@@ -284,6 +418,9 @@ class StationData:
         Straight run from the spray nozzle to the temperature element [m]
     limits : StationLimits
         Check limits for this station [-]
+    relief : ReliefData or None
+        Relief devices downstream and the failure assumptions; None when not
+        given [-]
     """
 
     name: str
@@ -293,6 +430,7 @@ class StationData:
     outlet_pipe_diameter: float | None = None
     sensor_distance: float | None = None
     limits: StationLimits = field(default_factory=StationLimits)
+    relief: ReliefData | None = None
 
     def __post_init__(self):
         _positive(f"station '{self.name}'", outlet_pipe_diameter=self.outlet_pipe_diameter,
@@ -368,8 +506,9 @@ class StationPoint:
 
 
 def parse_limits(table: dict, *, base: StationLimits | None = None, file=None,
-                 item="station_limits") -> StationLimits:
-    """StationLimits from a table of overrides written with units."""
+                 item="station_limits", origin: str | None = None) -> StationLimits:
+    """StationLimits from a table of overrides written with units; ``origin`` (e.g.
+    ``"model file, [station_limits]"``) becomes the source label of each limit set."""
     base = base or StationLimits()
     kinds = StationLimits.LIMIT_KINDS
     values = {}
@@ -387,7 +526,7 @@ def parse_limits(table: dict, *, base: StationLimits | None = None, file=None,
     if errors:
         raise ModelErrors(errors)
     try:
-        return base.with_overrides(**values)
+        return base.with_overrides(origin, **values)
     except ModelError as exc:
         raise ModelErrors([exc.with_context(file=file, item=item)]) from None
 
@@ -397,7 +536,51 @@ def _valve(v) -> ValveData | None:
         return None
     return ValveData(rated_kv=v.rated_coefficient, characteristic=v.characteristic,
                      rangeability=v.rangeability, fl=v.fl, xt=v.xt, fd=v.fd,
-                     diameter=v.diameter)
+                     diameter=v.diameter, pipe_diameter=v.pipe_diameter,
+                     pipe_wall=v.pipe_wall, pipe_density=v.pipe_density,
+                     pipe_sound_speed=v.pipe_sound_speed)
+
+
+def _relief(model, name: str, s) -> ReliefData:
+    """The relief devices of the station's outlet header and its failure assumptions.
+
+    Raises
+    ------
+    ModelError
+        A credited outflow that names no user or turbine drawing from the outlet
+        header.
+    """
+    header = model.table("header")[s.outlet]
+    devices = tuple(
+        ReliefDevice(name=r.name, p_set=r.set_pressure, overpressure=r.overpressure,
+                     capacity=r.capacity,
+                     area=orifice_area(r.orifice) if r.orifice else r.orifice_area,
+                     orifice=r.orifice, kd=r.discharge_coefficient)
+        for r in header.relief_valves)
+    credits = []
+    users, turbines = model.table("user"), model.table("turbine")
+    xturbines = model.table("extraction_turbine")
+    for k, c in enumerate(s.relief_credit):
+        item = f"letdown '{name}' relief_credit {k + 1}"
+        if c.user is not None:
+            u = users.get(c.user)
+            if u is None or u.header != s.outlet:
+                raise ModelError(f"no user '{c.user}' on the outlet header "
+                                 f"'{s.outlet}'", file=model.source, item=item,
+                                 field="user")
+            credits.append((f"user '{c.user}'", c.flow))
+        else:
+            t = turbines.get(c.turbine) or xturbines.get(c.turbine)
+            if t is None or t.inlet != s.outlet:
+                raise ModelError(f"no turbine '{c.turbine}' drawing from the outlet "
+                                 f"header '{s.outlet}'", file=model.source, item=item,
+                                 field="turbine")
+            credits.append((f"turbine '{c.turbine}'", c.flow))
+    return ReliefData(header=s.outlet, devices=devices,
+                      p_atm=model.site.atmospheric_pressure,
+                      spray_fails_open=s.spray_fails == "open", credits=tuple(credits),
+                      max_inlet_pressure=s.max_inlet_pressure,
+                      max_inlet_temperature=s.max_inlet_temperature)
 
 
 def station_data(model) -> dict[str, StationData]:
@@ -409,13 +592,16 @@ def station_data(model) -> dict[str, StationData]:
         A limit that is unknown, has a wrong unit or breaks the order of the limits,
         naming the file and the station.
     """
-    site = parse_limits(model.station_limits, file=model.source)
+    site = parse_limits(model.station_limits, file=model.source,
+                        origin="model file, [station_limits]")
     out = {}
     errors = []
     for name, s in model.table("letdown").items():
         try:
             limits = parse_limits(s.limits, base=site, file=model.source,
-                                  item=f"letdown '{name}' limits") if s.limits else site
+                                  item=f"letdown '{name}' limits",
+                                  origin=f"model file, letdown '{name}' limits"
+                                  ) if s.limits else site
         except ModelErrors as exc:
             errors.extend(exc.errors)
             continue
@@ -433,7 +619,8 @@ def station_data(model) -> dict[str, StationData]:
             out[name] = StationData(name=name, valve=_valve(s.valve), desuperheater=ds,
                                     spray_valve=_valve(s.spray_valve),
                                     outlet_pipe_diameter=s.outlet_pipe_diameter,
-                                    sensor_distance=s.sensor_distance, limits=limits)
+                                    sensor_distance=s.sensor_distance, limits=limits,
+                                    relief=_relief(model, name, s))
         except ModelError as exc:
             errors.append(exc.with_context(file=model.source, item=f"letdown '{name}'"))
     if errors:

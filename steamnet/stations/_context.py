@@ -40,6 +40,12 @@ def row(data: StationData, case: str, check: str, unit: str, status: Status, *,
                     advice=advice)
 
 
+def limit_source(lim: StationLimits, status: Status, warn: str, fail: str) -> str:
+    """Source label of the limit a verdict refers to: the fail limit's for a fail, the
+    warn limit's otherwise (where the model set it, or the default's source)."""
+    return lim.source(fail if status is Status.FAIL else warn)
+
+
 def needs_row(data: StationData, case: str, check: str, unit: str, needs: list[str],
               *, source: str, value: float | None = None, basis: str = "",
               extra: str = "") -> CheckRow:

@@ -35,9 +35,10 @@ from ..calc.valve import ValveSizing, size_steam_valve, size_water_valve, valve_
 from ..errors import InternalError, ModelError
 from ..units import T_H
 from ..model.stations import StationData, StationLimits, StationPoint, ValveData
-from ._context import (Ctx, control_gains, gain_inputs, needs_row, outlet,
+from ._context import (Ctx, control_gains, gain_inputs, limit_source, needs_row, outlet,
                        outlet_velocity, point_check, row, water_enthalpy, water_state)
 from .rows import CheckRow, Status, grade_high, grade_low, worst
+from .safety import SAFETY_POINT_CHECKS, check_relief_cover_rated
 
 __all__ = [
     "CheckRow", "Status", "ALL_CASES", "POINT_CHECKS", "check_spray_capacity",
@@ -57,7 +58,7 @@ _SRC = StationLimits.LIMIT_SOURCES
 @point_check("spray_capacity", "%", spray=True)
 def check_spray_capacity(c: Ctx) -> CheckRow:
     """Required spray as a share of the desuperheater's maximum spray flow."""
-    source = _SRC["spray_capacity_fail"]
+    source = c.lim.source("spray_capacity_fail")
     if c.ds.max_spray is None:
         return c.needs(["the desuperheater's maximum spray flow"], source=source)
     share = c.point.m_spray / c.ds.max_spray
@@ -73,6 +74,7 @@ def check_spray_capacity(c: Ctx) -> CheckRow:
     }[status]
     if share > 1:
         advice += "; " + _at_max_spray(c)
+    source = limit_source(c.lim, status, "spray_capacity_warn", "spray_capacity_fail")
     return c.row(status, value=100 * share, limit=100 * limit, source=source,
                  advice=advice, basis=f"spray {c.point.m_spray * T_H:.3g} t/h of "
                                       f"maximum {c.ds.max_spray * T_H:.3g} t/h")
@@ -132,7 +134,8 @@ def check_approach_to_saturation(c: Ctx) -> CheckRow:
         }[status]
     if not c.point.setpoint_reachable:
         advice += "; the steam arrives colder than the setpoint, no spray is possible"
-    return c.row(status, value=approach, limit=limit, source=_SRC["approach_fail"],
+    return c.row(status, value=approach, limit=limit, source=limit_source(
+                     c.lim, status, "approach_warn", "approach_fail"),
                  advice=advice,
                  basis=f"T_out {out.t - 273.15:.2f} degC, Tsat {t_sat - 273.15:.2f} "
                        f"degC at {c.point.p_out / 1e5:.4g} bar(a), IAPWS-IF97")
@@ -193,7 +196,7 @@ def _travel_row(c: Ctx, what: str, valve: ValveData, sizing: ValveSizing,
                 extra_basis: str) -> CheckRow:
     """Travel verdict from a required coefficient, shared by both valve checks."""
     lim = c.lim
-    source = _SRC["valve_travel_fail_high"]
+    source = lim.source("valve_travel_fail_high")
     basis = f"{sizing.basis}; {'; '.join(sizing.notes)}{extra_basis}; " \
             f"required Kv {sizing.kv:.4g} m3/h"
     needs = []
@@ -211,8 +214,10 @@ def _travel_row(c: Ctx, what: str, valve: ValveData, sizing: ValveSizing,
     basis += f" of rated {valve.rated_kv:.4g} m3/h, {valve.characteristic}"
     status, limit = grade_high(travel, lim.valve_travel_warn_high,
                                lim.valve_travel_fail_high)
+    source = limit_source(lim, status, "valve_travel_warn_high", "valve_travel_fail_high")
     if status is Status.OK and travel < lim.valve_travel_warn_low:
         status, limit = Status.WARN, lim.valve_travel_warn_low
+        source = lim.source("valve_travel_warn_low")
         advice = (f"{what} below {100 * limit:.0f} % travel: poor control near the seat "
                   "and trim erosion; consider a smaller trim or a split-range pair")
     elif travel > 1:
@@ -238,7 +243,7 @@ def check_letdown_valve(c: Ctx) -> CheckRow:
     Fd are all given; the valve is taken without attached fittings. Wet inlet steam
     is not assessed (the compressible equations need a single-phase vapour).
     """
-    source = _SRC["valve_travel_fail_high"]
+    source = c.lim.source("valve_travel_fail_high")
     valve, pt = c.data.valve, c.point
     if valve is None or valve.xt is None:
         return c.needs(["the let-down valve's data (xT, rated Kv, characteristic)"
@@ -263,7 +268,7 @@ def check_spray_valve(c: Ctx) -> CheckRow:
     Sized across ``p_water - p_out`` (see the module notes: the nozzle's pressure
     drop is not deducted, so the required Kv is a lower bound).
     """
-    source = _SRC["valve_travel_fail_high"]
+    source = c.lim.source("valve_travel_fail_high")
     valve, pt = c.data.spray_valve, c.point
     needs = []
     if valve is None or valve.fl is None:
@@ -296,7 +301,7 @@ def check_spray_water_pressure(c: Ctx) -> CheckRow:
     the atomisation is not given (and the basis says so). For other nozzles the
     margin is reported but not judged.
     """
-    source = _SRC["spray_pressure_margin_fail"]
+    source = c.lim.source("spray_pressure_margin_fail")
     if c.point.p_water is None:
         return c.needs(["the spray water supply pressure"], source=source)
     margin = c.point.p_water - c.point.p_out
@@ -323,7 +328,7 @@ def check_downstream_velocity(c: Ctx) -> CheckRow:
     The low limit (poor atomisation) applies only to stations with a desuperheater.
     """
     lim = c.lim
-    source = _SRC["velocity_warn_high"]
+    source = c.lim.source("velocity_warn_high")
     if c.data.outlet_pipe_diameter is None:
         return c.needs(["the outlet pipe's inside diameter"], source=source)
     velocity = outlet_velocity(c.data, c.point)
@@ -332,6 +337,8 @@ def check_downstream_velocity(c: Ctx) -> CheckRow:
     if status is Status.OK and c.ds is not None:
         status, limit = grade_low(velocity, lim.velocity_warn_low, None)
         limit = lim.velocity_warn_high if status is Status.OK else limit
+        if status is Status.WARN:
+            source = lim.source("velocity_warn_low")
     elif c.ds is None:
         basis += "; no desuperheater, low limit not applied"
     advice = {
@@ -352,7 +359,8 @@ def check_sensor_distance(c: Ctx) -> CheckRow:
     The value is the run available, the limit the run needed.
     """
     t_evap = c.ds.evaporation_time
-    source = MAKERS_DATA if t_evap is not None else _SRC["evaporation_time_default"]
+    source = (MAKERS_DATA if t_evap is not None
+              else c.lim.source("evaporation_time_default"))
     t_evap = c.lim.evaporation_time_default if t_evap is None else t_evap
     needs = [w for w, v in (("the straight run to the temperature element",
                              c.data.sensor_distance),
@@ -376,7 +384,7 @@ def check_sensor_distance(c: Ctx) -> CheckRow:
 POINT_CHECKS = (check_approach_to_saturation, check_steam_turndown,
                 check_spray_capacity, check_spray_turndown, check_letdown_valve,
                 check_spray_valve, check_spray_water_pressure,
-                check_downstream_velocity, check_sensor_distance)
+                check_downstream_velocity, check_sensor_distance, *SAFETY_POINT_CHECKS)
 
 
 def check_point(data: StationData, point: StationPoint) -> list[CheckRow]:
@@ -456,7 +464,7 @@ def check_gain_spread(data: StationData, points: list[StationPoint]) -> list[Che
         gain [-]
     """
     lim = data.limits
-    source = _SRC["gain_spread_warn"]
+    source = lim.source("gain_spread_warn")
     ids = ("gain_spread_spray", "gain_spread_ratio")
     if data.desuperheater is None:
         return [row(data, ALL_CASES, c, "-", Status.NOT_APPLICABLE,
@@ -534,7 +542,8 @@ def check_across_cases(data: StationData, points: list[StationPoint], *,
         _same_station(data, p)
     if verdicts is None:
         verdicts = ((r.check, r.status) for p in points for r in check_point(data, p))
-    rows = check_gain_spread(data, points)
+    rows = [*check_gain_spread(data, points), check_relief_cover_rated(data, points,
+                                                                case=ALL_CASES)]
     flowing = [p for p in points if p.m_steam > 0]
     ds = data.desuperheater
     steam_min = _extreme(flowing, "m_steam", min)
