@@ -251,7 +251,6 @@ def write_charts(wb, run: Run):
     """The station charts sheet; returns it (None when the model has no station)."""
     blocks, charts = _blocks(run)
     ws = wb.create_sheet("Station charts")
-    print_setup(ws)
     col = 1
     for b in blocks:
         b.col = col
@@ -277,12 +276,14 @@ def write_charts(wb, run: Run):
     if not blocks:
         ws.append([text_cell(ws, "(the model has no let-down station)",
                              font=style.NOTE_FONT)])
+        print_setup(ws, rows=top)
         return ws
     _write_blocks(ws, run, blocks)
     for i, make in enumerate(charts):
         ch = make(ws, top)
         column = get_column_letter(1 + (i % per_row) * _CHART_COLS)
         ws.add_chart(ch, f"{column}{4 + (i // per_row) * _CHART_ROWS}")
+    print_setup(ws, rows=top + 1 + max(len(b.rows) for b in blocks))
     return ws
 
 

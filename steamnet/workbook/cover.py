@@ -81,7 +81,6 @@ def run_facts(run: Run, now: datetime) -> list[tuple[str, str]]:
 def write_cover(wb, run: Run, contents: list[tuple[str, str]], now: datetime):
     """Write the cover as the first sheet; ``contents`` lists (sheet, what it holds)."""
     ws = wb.create_sheet("Cover")
-    print_setup(ws, landscape=False)
     for letter, w in zip("ABCDEFG", (42, 70, 15, 11, 11, 13, 60)):
         ws.column_dimensions[letter].width = w
     t = lambda v, **kw: text_cell(ws, v, **kw)   # noqa: E731
@@ -146,4 +145,5 @@ def write_cover(wb, run: Run, contents: list[tuple[str, str]], now: datetime):
         c = t(name, font=Font(color="1F4E79", underline="single"))
         c.hyperlink = Hyperlink(ref="", location=f"'{name}'!A1", display=name)
         add([c, t(what)])
+    print_setup(ws, rows=row[0], key_cols=1)       # column A names each row
     return ws

@@ -134,7 +134,7 @@ def network_png(model, case, *, dpi: int = 110) -> bytes:
     elements = _elements(model, rows)
     y, ncol = layout(model, elements)
     width = ncol * SLOT
-    fig = Figure(figsize=(max(9.0, 2.6 + width * 0.62), 1.9 + len(y) * GAP * 0.62 + 1.0),
+    fig = Figure(figsize=(max(9.0, 2.6 + width * 0.62), 1.9 + len(y) * GAP * 0.40 + 1.0),
                  dpi=dpi)
     FigureCanvasAgg(fig)
     ax = fig.add_axes((0.0, 0.0, 1.0, 0.9))

@@ -26,6 +26,7 @@ from openpyxl.worksheet.table import TableColumn, TableStyleInfo
 
 from . import style
 from .columns import Column, clean_number, format_for_unit
+from .printing import PageLayout, page_setup
 
 __all__ = ["Table", "CellMaker", "write_table", "text_cell", "print_setup", "HEAD_ROW",
            "FORMULA_START"]
@@ -232,7 +233,6 @@ def write_table(wb, table: Table, status_of: dict[str, str], *, table_name: str)
         ws.column_dimensions[get_column_letter(i)].width = w
     ws.row_dimensions[HEAD_ROW].height = heading_height(cols, widths)
     ws.freeze_panes = f"{get_column_letter(table.freeze_cols + 1)}{HEAD_ROW + 1}"
-    print_setup(ws, title_rows=f"{HEAD_ROW}:{HEAD_ROW}")
     ws.append([text_cell(ws, table.title, font=style.TITLE_FONT)])
     ws.append([text_cell(ws, table.note, font=style.NOTE_FONT)] if table.note else [])
     ws.append([_heading_cell(ws, table, c, status_of) for c in cols])
@@ -246,20 +246,21 @@ def write_table(wb, table: Table, status_of: dict[str, str], *, table_name: str)
         n += 1
     if n == 0:
         ws.append([text_cell(ws, "(no rows)", font=style.NOTE_FONT)])
+        print_setup(ws, rows=HEAD_ROW + 1, key_cols=table.freeze_cols,
+                    head_rows=(HEAD_ROW, HEAD_ROW), ncols=len(cols))
         return ws, 0
     ref = f"A{HEAD_ROW}:{get_column_letter(len(cols))}{HEAD_ROW + n}"
     add_excel_table(ws, table_name, ref, [c.heading for c in cols])
+    print_setup(ws, rows=HEAD_ROW + n, key_cols=table.freeze_cols,
+                head_rows=(HEAD_ROW, HEAD_ROW), ncols=len(cols))
     return ws, n
 
 
-def print_setup(ws, *, landscape: bool = True, title_rows: str | None = None) -> None:
-    """Print one page wide (as many pages long as it takes), headings on every page."""
-    ws.page_setup.orientation = "landscape" if landscape else "portrait"
-    ws.sheet_properties.pageSetUpPr.fitToPage = True
-    ws.page_setup.fitToWidth = 1
-    ws.page_setup.fitToHeight = 0
-    if title_rows:
-        ws.print_title_rows = title_rows
+def print_setup(ws, **shape) -> PageLayout:
+    """How a sheet prints, decided from its shape once it is written
+    (:func:`steamnet.workbook.printing.page_setup`: text at 8 pt or more, printed column
+    groups with the key columns repeated, headings on every page)."""
+    return page_setup(ws, **shape)
 
 
 def _heading_cell(ws, table: Table, c: Column, status_of: dict[str, str]):

@@ -22,6 +22,7 @@ from .differences import DIFFERENCES_SHEET, differences_table
 from .findings import findings_table
 from .inputs import inputs_table
 from .network import network_png
+from .printing import finish
 from .run import Run
 from .sheet import Table, print_setup, text_cell, write_table
 from .stations import checks_table, station_summary_table, stations_table
@@ -132,7 +133,6 @@ def _table_name(slug: str, used: set[str]) -> str:
 
 def _write_network(wb, run: Run, case_name: str | None) -> None:
     ws = wb.create_sheet("Network")
-    print_setup(ws)
     ws.append([text_cell(ws, "Network", font=style.TITLE_FONT)])
     if case_name is None:
         ws.append([text_cell(ws, "(no case to draw)", font=style.NOTE_FONT)])
@@ -153,6 +153,7 @@ def _write_network(wb, run: Run, case_name: str | None) -> None:
     scale = min(1.0, 1500 / img.width)
     img.width, img.height = int(img.width * scale), int(img.height * scale)
     ws.add_image(img, "A4")
+    print_setup(ws, rows=3)
 
 
 def write_workbook(path: str | Path, study, *, checks: pd.DataFrame | None = None,
@@ -205,6 +206,7 @@ def write_workbook(path: str | Path, study, *, checks: pd.DataFrame | None = Non
         try:
             write_cover(wb, run, contents, now)
             _write_sheets(wb, run, tables, order[1:])
+            finish(wb, run.model)
             save_guarded(wb.save, tmp)
         except BaseException:
             _discard(wb)
