@@ -34,7 +34,7 @@ from .stations.run import (DOES_NOT_BALANCE, PointChecks, StationReport, not_ass
 from .status import CaseStatus
 from .units import C0, T_H
 
-__all__ = ["FINDING_COLUMNS", "CASE_CHECKS", "Evaluation", "ChunkFindings", "case_rows",
+__all__ = ["FINDING_COLUMNS", "CASE_CHECKS", "RANK", "sort_findings", "Evaluation", "ChunkFindings", "case_rows",
            "chunk_findings", "evaluate", "evaluate_one", "new_fails", "compare_findings"]
 
 #: Columns of the findings table (docs/results.md).
@@ -62,7 +62,7 @@ def _status_text(s) -> str:
     return s.value if isinstance(s, Status) else str(s)
 
 
-def case_rows(result) -> list[tuple]:
+def case_rows(result, model=None) -> list[tuple]:
     """The balance-level findings of one solved (or failed) case, as tuples in
     :data:`FINDING_COLUMNS` order: the ``balance`` row, then the operating flags read
     from its solution (or, for a result whose solution was not kept, from its tables)."""
@@ -91,7 +91,7 @@ def case_rows(result) -> list[tuple]:
             and sol.x is not None and all(math.isfinite(v) for v in sol.x):
         rows.extend(_flag_rows(case, operating_flags(sol), sol))
     elif len(getattr(result, "equipment", ())) or len(getattr(result, "headers", ())):
-        rows.extend(_table_flag_rows(result))
+        rows.extend(_table_flag_rows(result, model))
     return rows
 
 
@@ -117,6 +117,11 @@ def _flag(case, item, typ, kind, value, limit) -> tuple:
                 "IAPWS-IF97 saturation at the header pressure",
                 "condensate forms in the header and its users: check heat loss, "
                 "desuperheater setpoints and drainage")
+    if kind == "exhaust_quality" and limit is None:
+        return (case, item, typ, "exhaust_quality", value, None, "-", Status.OK.value,
+                f"wet exhaust, quality {value:.4f}; the model gives this turbine no "
+                "lowest acceptable quality", "no limit in the model file",
+                "give the maker's lowest exhaust quality to have it checked")
     if kind == "exhaust_quality":
         low = value < limit * (1 - 1e-9)
         return (case, item, typ, "exhaust_quality", value, limit, "-",
@@ -147,7 +152,7 @@ def _flag(case, item, typ, kind, value, limit) -> tuple:
             "sequence, or the case cannot balance" if at_max else "")
 
 
-def _table_flag_rows(result) -> list[tuple]:
+def _table_flag_rows(result, model=None) -> list[tuple]:
     """The flags of a result that kept its tables but not its solution (worker
     results): the same rows as :func:`_flag_rows`, read from the tables."""
     out = []
@@ -162,9 +167,9 @@ def _table_flag_rows(result) -> list[tuple]:
         q = r.get("exhaust_quality")
         if q is not None and not (isinstance(q, float) and math.isnan(q)) \
                 and r.get("flow_t_h", 0) > 0:
-            lim = 0.88 if r["type"] == "extraction_turbine" else 0.0
+            it = model.table(r["type"]).get(r["item"]) if model is not None else None
             out.append(_flag(result.case, r["item"], r["type"], "exhaust_quality", q,
-                             lim))
+                             getattr(it, "min_exhaust_quality", None)))
         if r["type"] == "letdown" and r.get("setpoint_reachable") is False \
                 and r.get("flow_t_h", 0) > 0:
             out.append(_flag(result.case, r["item"], "letdown", "outlet_setpoint",
@@ -234,7 +239,7 @@ class Evaluation:
             return out
         for case, s in zip(self.findings["case"], self.findings["status"]):
             cur = out.get(case)
-            if cur is None or _RANK[s] > _RANK[cur]:
+            if cur is None or RANK[s] > RANK[cur]:
                 out[case] = s
         return out
 
@@ -244,7 +249,8 @@ class Evaluation:
         return f[f["status"].isin(("fail", "warn", "not_assessed"))] if len(f) else f
 
 
-_RANK = {s.value: v for s, v in SEVERITY.items()}
+#: Severity of each verdict word (fail highest): the one ranking of findings.
+RANK = {s.value: v for s, v in SEVERITY.items()}
 
 
 def evaluate(study, *, data: dict | None = None, results=None,
@@ -265,7 +271,7 @@ def evaluate(study, *, data: dict | None = None, results=None,
         rows = list(chain.from_iterable(b.rows for b in blocks))
         points = [b.points for b in blocks]
     else:
-        rows = list(chain.from_iterable(case_rows(r) for r in cases))
+        rows = list(chain.from_iterable(case_rows(r, study.model) for r in cases))
         points = [point_checks(data, cases)]
     report = run_checks(_Study(study.model, cases, points), data=data)
     return Evaluation(findings=_table(rows, report), stations=report)
@@ -291,10 +297,17 @@ def _table(rows: list[tuple], report: StationReport) -> pd.DataFrame:
     df = pd.concat(frames, ignore_index=True) if frames else bal
     if not len(df):
         return df
-    sev = df["status"].map(_RANK).fillna(0)
+    return sort_findings(df, ["item", "check"])
+
+
+def sort_findings(df: pd.DataFrame, keys: list[str]) -> pd.DataFrame:
+    """``df`` worst verdict first, then its cases in the order they first appear, then
+    ``keys``."""
+    if not len(df):
+        return df
     order = {c: i for i, c in enumerate(dict.fromkeys(df["case"]))}
-    df = df.assign(_sev=-sev, _case=df["case"].map(order))
-    return df.sort_values(["_sev", "_case", "item", "check"], kind="stable") \
+    df = df.assign(_sev=-df["status"].map(RANK).fillna(0), _case=df["case"].map(order))
+    return df.sort_values(["_sev", "_case", *keys], kind="stable") \
         .drop(columns=["_sev", "_case"]).reset_index(drop=True)
 
 
@@ -349,7 +362,7 @@ def compare_findings(before: pd.DataFrame, after: pd.DataFrame) -> pd.DataFrame:
         elif sb in bad and sa not in bad:
             effect = "cleared"
         else:
-            effect = "worsened" if _RANK[sa] > _RANK[sb] else "improved"
+            effect = "worsened" if RANK[sa] > RANK[sb] else "improved"
         ref = ra if ra is not None else rb
         out.append({"item": k[0], "type": ref["type"], "check": k[1], "effect": effect,
                     "status_without": sb, "status_with": sa,
@@ -362,7 +375,7 @@ def compare_findings(before: pd.DataFrame, after: pd.DataFrame) -> pd.DataFrame:
                                     "status_with", "value_without", "value_with",
                                     "limit", "unit", "basis", "source", "advice"])
     if len(df):
-        rank = df["status_with"].map(_RANK).fillna(0)
+        rank = df["status_with"].map(RANK).fillna(0)
         df = df.assign(_r=-rank).sort_values(["_r", "item", "check"], kind="stable") \
             .drop(columns="_r").reset_index(drop=True)
     return df

@@ -469,7 +469,7 @@ class Flag(NamedTuple):
     type: str
     kind: str
     value: float
-    limit: float
+    limit: float | None
 
 
 def operating_flags(sol: Solution) -> list[Flag]:
@@ -486,7 +486,7 @@ def operating_flags(sol: Solution) -> list[Flag]:
         st = props.state_ph(net.p[t["outlet"]], c["h_out"])
         if st.is_wet and x[t["var"]] > IDLE_FLOW:
             out.append(Flag(t["name"], "turbine", "exhaust_quality", st.x,
-                            getattr(t["item"], "min_exhaust_quality", 0.0)))
+                            getattr(t["item"], "min_exhaust_quality", None)))
     for t, c in zip(net.xturbines, co.xturb):
         st = props.state_ph(t["pressures"][-1], c["h"][-1])
         if st.is_wet and x[t["in_var"]] > IDLE_FLOW:

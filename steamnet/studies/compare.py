@@ -19,7 +19,8 @@ from typing import Iterable
 import pandas as pd
 
 from ..errors import ModelError
-from ..stations.rows import SEVERITY, Status
+from ..evaluate import RANK
+from ..stations.rows import Status
 from ..status import CaseStatus
 from .consumer import TOTALS
 
@@ -48,7 +49,6 @@ _EQUIPMENT = {"flow_t_h": ("flow", "t/h", True), "spray_t_h": ("spray", "t/h", T
 
 #: Verdicts whose value is worth following when it changes (a limit is near or crossed).
 _FINDING = {Status.FAIL.value, Status.WARN.value}
-_RANK = {s.value: v for s, v in SEVERITY.items()}
 
 
 def _num(v) -> float:
@@ -199,8 +199,8 @@ def _findings(head: dict, c0: dict, c1: dict) -> list[dict]:
         out.append({**head, "section": "finding", "item": key[0],
                     "type": "station check", "quantity": key[1], "unit": u1 or u0, **v,
                     "reference_verdict": s0, "verdict": s1})
-    out.sort(key=lambda r: (-max(_RANK.get(r["verdict"], 0),
-                                 _RANK.get(r["reference_verdict"], 0)),
+    out.sort(key=lambda r: (-max(RANK.get(r["verdict"], 0),
+                                 RANK.get(r["reference_verdict"], 0)),
                             r["verdict"] == r["reference_verdict"],
                             -abs(_zero_nan(r["difference"]))))
     return out

@@ -32,7 +32,7 @@ from ..model.model import Model
 from ..model.cases import CaseSet
 from .common import Progress, resolve_cases
 from .limits import TH, station_loads
-from ..evaluate import FINDING_COLUMNS, evaluate_one
+from ..evaluate import FINDING_COLUMNS, RANK, evaluate_one, sort_findings
 from ..status import CaseStatus
 
 __all__ = ["trip_screening", "screen_trips", "TripScreening", "TRIP_COLUMNS",
@@ -242,7 +242,8 @@ def screen_trips(model: Model, cases: CaseSet | list[str] | str | None = None, *
             if loads is not None:
                 rows.extend({**x, **verdict} for x in _station_rows(
                     name, unit, table, flow, r.status, before, loads))
-    findings = _sorted_findings(pd.DataFrame(found, columns=TRIP_FINDING_COLUMNS))
+    findings = sort_findings(pd.DataFrame(found, columns=TRIP_FINDING_COLUMNS),
+                             ["trip", "item", "check"])
     df = pd.DataFrame(rows, columns=TRIP_COLUMNS)
     if not len(df):
         return TripScreening(df, findings)
@@ -252,28 +253,16 @@ def screen_trips(model: Model, cases: CaseSet | list[str] | str | None = None, *
     return TripScreening(df.iloc[order].reset_index(drop=True), findings)
 
 
-_SEV = {"fail": 4, "warn": 3, "not_assessed": 2, "ok": 1, "not_applicable": 0}
-
-
 def _trip_verdict(findings: list[tuple]) -> dict:
     """The worst verdict of a tripped balance's findings, the counts, and the check."""
     if not findings:
         return {"trip_verdict": "", "trip_fails": 0, "trip_warnings": 0,
                 "trip_worst_check": ""}
-    worst = max(findings, key=lambda f: _SEV.get(f[7], 0))
+    worst = max(findings, key=lambda f: RANK.get(f[7], 0))
     return {"trip_verdict": worst[7],
             "trip_fails": sum(f[7] == "fail" for f in findings),
             "trip_warnings": sum(f[7] == "warn" for f in findings),
             "trip_worst_check": f"{worst[3]} ({worst[1]})" if worst[7] != "ok" else ""}
-
-
-def _sorted_findings(df: pd.DataFrame) -> pd.DataFrame:
-    if not len(df):
-        return df
-    sev = -df["status"].map(_SEV).fillna(0)
-    return df.assign(_s=sev).sort_values(["_s", "case", "trip", "item", "check"],
-                                         kind="stable").drop(columns="_s") \
-        .reset_index(drop=True)
 
 
 def _untripped(boilers: bool, results) -> list:
