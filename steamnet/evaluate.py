@@ -27,6 +27,7 @@ from typing import Iterable
 
 import pandas as pd
 
+from .solver.limits import vent_flows
 from .solver.results import operating_flags
 from .stations.rows import CHECK_COLUMNS, SEVERITY, CheckRow, Status
 from .stations.run import (DOES_NOT_BALANCE, PointChecks, StationReport, not_assessed_rows,
@@ -100,12 +101,9 @@ def _flag_rows(case: str, flags, sol) -> list[tuple]:
     for f in flags:
         out.append(_flag(case, f.item, f.type, f.kind, f.value, f.limit))
     # vents that pass steam (a loss, always reported)
-    for v in sol.net.vents:
-        m = float(sol.x[v["var"]])
+    for name, m, cap in vent_flows(sol):
         if m > 1e-6:
-            cap = sol.net.vars[v["var"]].hi
-            out.append(_flag(case, v["name"], "vent", "steam_vented", m,
-                             cap if math.isfinite(cap) else None))
+            out.append(_flag(case, name, "vent", "steam_vented", m, cap))
     return out
 
 

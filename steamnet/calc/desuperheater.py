@@ -27,7 +27,7 @@ import math
 from ..errors import ModelError
 
 __all__ = ["spray_water_flow", "gain_per_spray", "gain_per_ratio",
-           "evaporation_distance", "mixed_enthalpy"]
+           "evaporation_distance", "mixed_enthalpy", "mix"]
 
 
 def _finite(**values: float) -> None:
@@ -110,6 +110,12 @@ def mixed_enthalpy(flows, enthalpies, heat_loss: float = 0.0) -> float:
     if any(m < 0 for m in flows) or not sum(flows) > 0:
         raise ModelError(f"mixing needs flows zero or positive and not all zero, got "
                          f"{flows!r} kg/s")
+    return mix(flows, enthalpies, heat_loss)
+
+
+def mix(flows: list[float], enthalpies: list[float], heat_loss: float = 0.0) -> float:
+    """:func:`mixed_enthalpy` without its input checks, for callers whose flows are
+    known to be zero or positive and not all zero (the solver's header mixing)."""
     return (sum(m * h for m, h in zip(flows, enthalpies)) - heat_loss) / sum(flows)
 
 

@@ -33,6 +33,7 @@ import time
 import numpy as np
 from scipy.linalg.lapack import dgesv as _dgesv
 
+from ..calc.desuperheater import mix
 from ..status import CaseStatus
 from . import reference as _reference
 from .assembly import Plan
@@ -118,9 +119,9 @@ def _mix(net: Net, co: Coeffs, x: "np.ndarray | list[float]",
     ins = header_inflows(net, co, x, labels=False)
     out, cold = [], []
     for i, lst in enumerate(ins):
-        m = sum(max(f, 0.0) for _, f, _ in lst)
-        if m > IDLE_FLOW:
-            hm = (sum(max(f, 0.0) * hh for _, f, hh in lst) - net.q_loss[i]) / m
+        flows = [max(f, 0.0) for _, f, _ in lst]
+        if sum(flows) > IDLE_FLOW:
+            hm = mix(flows, [hh for _, _, hh in lst], net.q_loss[i])
             if hm < net.sat[i].hf:
                 cold.append(i)
                 hm = net.sat[i].hf

@@ -5,7 +5,7 @@ Method
 For one header of one case, a steam user is added on that header (condensate return as
 stated, default 0 %) and its demand ``d`` is raised from zero. A limit *binds* at ``d``
 when, in the balance with the added demand, a limit that had margin in the case itself
-has none left (see :mod:`steamnet.studies.limits`):
+has none left (see :mod:`steamnet.solver.limits`):
 
 * a swing boiler at ``max_steam`` (or ``min_steam``), a swing import at its limit;
 * a let-down station at ``max_flow``; its desuperheater needing more spray than
@@ -55,7 +55,7 @@ from ..units import Kind
 from ..model.cases import CaseSet
 from .common import (Progress, condensate, free_name, header_list, quantity, resolve_cases,
                      solve, solved_cases, tick, warm, with_user)
-from .limits import TH, Check, limit_checks, newly_binding
+from ..solver.limits import TH, Check, limit_checks, newly_binding
 from ..status import CaseStatus
 
 __all__ = ["header_headroom", "HEADROOM_COLUMNS", "DEFAULT_MAX_ADDED", "DEFAULT_ACCURACY"]

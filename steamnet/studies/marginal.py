@@ -40,7 +40,7 @@ from ..units import Kind
 from ..model.cases import CaseSet
 from .common import (Progress, free_name, header_list, quantity, resolve_cases, solve,
                      solved_cases, tick, warm, with_user)
-from .limits import TH, limit_checks, newly_binding
+from ..solver.limits import TH, limit_checks, newly_binding
 
 __all__ = ["marginal_steam_cost", "MARGINAL_COLUMNS", "DEFAULT_STEP"]
 

@@ -31,7 +31,7 @@ import pandas as pd
 from ..model.model import Model
 from ..model.cases import CaseSet
 from .common import Progress, resolve_cases
-from .limits import TH, station_loads
+from ..solver.limits import TH, running_units, station_loads
 from ..evaluate import FINDING_COLUMNS, RANK, evaluate_one, sort_findings
 from ..status import CaseStatus
 
@@ -64,20 +64,6 @@ class TripScreening(NamedTuple):
 _TRIP = {"turbine": ("turbine", "tripped"),
          "extraction_turbine": ("extraction_turbine", "tripped"),
          "boiler": ("boiler", "off")}
-
-
-def _running(result, boilers: bool) -> list[tuple[str, str, float]]:
-    """(table, name, flow kg/s) of every unit passing steam in a solved case."""
-    sol = result.solution
-    out = []
-    for t in sol.net.turbines:
-        out.append(("turbine", t["name"], float(sol.x[t["var"]])))
-    for t in sol.net.xturbines:
-        out.append(("extraction_turbine", t["name"], float(sol.x[t["in_var"]])))
-    if boilers:
-        for b in sol.net.boilers:
-            out.append(("boiler", b["name"], float(sol.x[b["var"]])))
-    return [u for u in out if u[2] > 1e-9]
 
 
 def _pct(value: float, limit: float | None) -> float:
@@ -268,7 +254,7 @@ def _trip_verdict(findings: list[tuple]) -> dict:
 def _untripped(boilers: bool, results) -> list:
     """Per untripped case of a solved chunk: (station loads, running units), or None
     when the case did not balance (made where the chunk was solved)."""
-    return [(station_loads(r.solution), _running(r, boilers)) if r.ok else None
+    return [(station_loads(r.solution), running_units(r.solution, boilers)) if r.ok else None
             for r in results]
 
 

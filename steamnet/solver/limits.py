@@ -20,7 +20,8 @@ from dataclasses import dataclass
 from ..model.schema import ITEM_LABELS
 from ..units import T_H as TH
 
-__all__ = ["Check", "limit_checks", "newly_binding", "station_loads", "TH"]
+__all__ = ["Check", "limit_checks", "newly_binding", "station_loads", "running_units",
+           "vent_flows", "TH"]
 
 _TOL = {"kg/s": 1e-6, "J/kg": 1e-3}
 
@@ -109,6 +110,26 @@ def station_loads(sol) -> list[dict]:
                     "rated_max_steam": d.rated_max_steam if d is not None else None,
                     "desuperheater": d is not None, "h_in": sol.h[s["inlet"]],
                     "h_set": s["ds"]["h_set"] if s["ds"] is not None else None})
+    return out
+
+
+def running_units(sol, boilers: bool) -> list[tuple[str, str, float]]:
+    """(table, name, steam kg/s) of every turbine (and, with ``boilers``, boiler) passing
+    steam in a solution: the units a trip screening trips in turn."""
+    out = [("turbine", t["name"], float(sol.x[t["var"]])) for t in sol.net.turbines]
+    out += [("extraction_turbine", t["name"], float(sol.x[t["in_var"]]))
+            for t in sol.net.xturbines]
+    if boilers:
+        out += [("boiler", b["name"], float(sol.x[b["var"]])) for b in sol.net.boilers]
+    return [u for u in out if u[2] > 1e-9]
+
+
+def vent_flows(sol) -> list[tuple[str, float, float | None]]:
+    """(name, vented kg/s, capacity kg/s or None) of every vent in a solution."""
+    out = []
+    for v in sol.net.vents:
+        cap = sol.net.vars[v["var"]].hi
+        out.append((v["name"], float(sol.x[v["var"]]), cap if math.isfinite(cap) else None))
     return out
 
 
