@@ -23,15 +23,13 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 from itertools import chain
-from typing import Iterable
 
 import pandas as pd
 
 from .solver.limits import vent_flows
 from .solver.results import operating_flags
-from .stations.rows import CHECK_COLUMNS, SEVERITY, CheckRow, Status
-from .stations.run import (DOES_NOT_BALANCE, PointChecks, StationReport, not_assessed_rows,
-                           point_checks, run_checks)
+from .stations.rows import SEVERITY, Status
+from .stations.run import PointChecks, StationReport, point_checks, run_checks
 from .status import CaseStatus
 from .units import C0, T_H
 

@@ -13,7 +13,6 @@
 from __future__ import annotations
 
 from dataclasses import dataclass, field, replace
-from typing import Callable, Iterable
 
 import pandas as pd
 

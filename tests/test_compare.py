@@ -241,7 +241,9 @@ def test_cli_exit_0_when_all_is_well(model_file, tmp_path):
     out = tmp_path / "diff.json"
     r = invoke("compare", model_file("60 t/h"), "--case", "more", "--json", out)
     assert r.exit_code == 0, r.output
-    assert r.output.strip().splitlines()[-1] == "all cases balance; no check fails"
+    last = r.output.strip().splitlines()[-1]
+    assert last.startswith("verdict: every case balances and no check fails"), last
+    assert last.endswith("-> exit 0")
     assert "steam raised [t/h]" in r.output
     # U2 on HP does not move: left out of the printout unless --all
     assert "U2" not in r.output
@@ -259,12 +261,12 @@ def test_cli_exit_1_when_a_compared_case_fails_a_check_or_cannot_balance(model_f
     assert r.exit_code == 1
     assert "steam_turndown" in r.output
     assert r.output.strip().splitlines()[-1] == \
-        "not all well: 1 station check fails in case 'more'"
+        "verdict: 1 check(s) fail (the compared cases and the reference) -> exit 1"
     r = invoke("compare", model_file("60 t/h"), "--case", "toomuch")
     assert r.exit_code == 1
     assert "NOT COMPARED" in r.output
     assert r.output.strip().splitlines()[-1].startswith(
-        "not all well: case 'toomuch' infeasible")
+        "verdict: 1 case(s) do not balance ('toomuch')")
 
 
 def test_cli_exit_2_for_an_unknown_case_and_3_for_an_unwritable_file(model_file,

@@ -7,8 +7,9 @@ import click
 from ..errors import ModelError
 from ..model.load import load_model
 from ..sweep import solve_cases
-from . import EXIT_FAIL, EXIT_OK, main
+from . import main
 from .studies import _caution, _header_line, _print_rows, _write_json
+from .verdict import finish_evaluation
 
 
 def _columns(ref: str, case: str) -> tuple[dict, dict]:
@@ -76,14 +77,14 @@ def compare_command(ctx, model, cases, reference, json_path, rows, every):
     and the station checks that differ, each with value minus reference
     (docs/studies.md).
 
-    Exit codes: 0 every compared case (and the reference) balances and no station
-    check fails in them; 1 a compared case or the reference is infeasible, did not
-    converge or could not be solved, or a station check fails in one of them; 2 bad
-    input (an unknown case name: the message lists the known cases); 3 the JSON file
-    could not be written (the previous file is kept).
+    Exit codes: 0 every compared case (and the reference) balances and no check fails
+    in them; 1 a compared case or the reference is infeasible, did not converge or
+    could not be solved, or a check fails in one of them; 2 bad input (an unknown case
+    name: the message lists the known cases); 3 the JSON file could not be written (the
+    previous file is kept).
     """
-    from ..stations.run import run_checks
-    from ..studies.compare import compare_cases, pair_problems
+    from ..evaluate import evaluate
+    from ..studies.compare import compare_cases
     m = load_model(model)
     known = [c.name for c in m.cases]
     if len(known) < 2:
@@ -101,8 +102,8 @@ def compare_command(ctx, model, cases, reference, json_path, rows, every):
                          item="option --case")
     names = [ref, *others]
     study = solve_cases(m, names, station_checks=True)
-    report = run_checks(study)
-    df = compare_cases(study, report, reference=ref, cases=others)
+    evaluation = evaluate(study)
+    df = compare_cases(study, evaluation.stations, reference=ref, cases=others)
     _header_line(m, f"case differences against '{ref}'", len(others))
     for name in others:
         d = df[df["case"] == name]
@@ -116,7 +117,4 @@ def compare_command(ctx, model, cases, reference, json_path, rows, every):
     if json_path:
         _write_json(study, json_path, "case_differences",
                     {"reference": ref, "cases": others, "rows": df}, False)
-    problems = pair_problems(study, report, names)
-    click.echo("all cases balance; no check fails" if not problems
-               else "not all well: " + "; ".join(problems))
-    ctx.exit(EXIT_OK if not problems else EXIT_FAIL)
+    finish_evaluation(ctx, study, evaluation, what="(the compared cases and the reference)")

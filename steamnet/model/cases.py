@@ -255,12 +255,6 @@ def _row_label(spec: CaseSpec) -> str:
         else f"case '{spec.name}'"
 
 
-def name_list(names: Iterable[str], most: int = 12) -> str:
-    names = list(names)
-    text = ", ".join(names[:most])
-    return text + (f", ... ({len(names)} in all)" if len(names) > most else "") or "none"
-
-
 def model_case_set(model: Model, names: Iterable[str] | None = None) -> CaseSet:
     """The cases of the model file (all, or ``names``), or the base model alone when
     the file has no cases."""

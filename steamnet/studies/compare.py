@@ -21,10 +21,9 @@ import pandas as pd
 from ..errors import ModelError
 from ..evaluate import RANK
 from ..stations.rows import Status
-from ..status import CaseStatus
 from .consumer import TOTALS
 
-__all__ = ["compare_cases", "COMPARE_COLUMNS", "SECTIONS", "pair_problems", "changed",
+__all__ = ["compare_cases", "COMPARE_COLUMNS", "SECTIONS", "changed",
            "SAME_REL"]
 
 #: Columns of the case-differences table, in order (docs/studies.md).
@@ -268,28 +267,3 @@ def compare_cases(study, report=None, *, reference: str | None = None,
         rows += _equipment(head, r0, r1)
         rows += _findings(head, checks.get(ref, {}), checks.get(name, {}))
     return pd.DataFrame(rows, columns=COMPARE_COLUMNS)
-
-
-_STATUS_WORDS = {CaseStatus.INFEASIBLE: "infeasible",
-                 CaseStatus.NOT_CONVERGED: "did not converge",
-                 CaseStatus.ERROR: "could not be solved"}
-
-
-def pair_problems(study, report, names: Iterable[str]) -> list[str]:
-    """What is wrong in the cases ``names`` of a comparison: each case that did not
-    balance, and each case with a station check that fails (one line each)."""
-    names = list(names)
-    checks = _checks_of(study, report)
-    out = []
-    for n in names:
-        r = study.case(n)
-        if not r.ok:
-            out.append(f"case '{n}' {_STATUS_WORDS.get(r.status, str(r.status))}")
-    if checks is not None and len(checks):
-        fails = checks[(checks["status"].astype(str) == Status.FAIL.value)
-                       & checks["case"].astype(str).isin(list(names))]
-        for n, grp in fails.groupby(fails["case"].astype(str), sort=False):
-            k = len(grp)
-            out.append(f"{k} station check{'s fail' if k != 1 else ' fails'} in case "
-                       f"'{n}'")
-    return out

@@ -15,7 +15,7 @@ from dataclasses import dataclass, field, replace
 
 import pandas as pd
 
-from ..model.cases import BASE, CaseSet, sweep_specs
+from ..model.cases import CaseSet, sweep_specs
 from ..solve import CaseResult, StudyResult
 from ..errors import ModelError
 from ..evaluate import chunk_findings
