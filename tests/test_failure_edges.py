@@ -448,7 +448,7 @@ def test_read_only_json_and_csv_are_refused_and_kept(tmp_path, small_study):
 # ------------------------------------------------------------------ 9. model size
 def test_a_model_over_the_item_cap_is_refused_before_validation(tmp_path, monkeypatch):
     # the cap is read at call time; a small one keeps the test quick (the figures of
-    # the real cap are measured by tests/bench_model_size.py)
+    # the real cap are measured by benchmarks/bench_model_size.py)
     from steamnet.io import readfile
     monkeypatch.setattr(readfile, "MAX_MODEL_ITEMS", 5)
     users = "".join(f'[[user]]\nname = "X{i}"\nheader = "HP"\ndemand = "1 t/h"\n'

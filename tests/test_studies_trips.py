@@ -256,3 +256,46 @@ def test_screening_solves_a_case_set_on_its_own_model():
     # the dryers draw 27 t/h less (32 t/h in cases/orlewick.toml, 5 t/h here), so the
     # let-downs that feed LP pass less in the trips; 10 t/h is a margin well inside it
     assert got["steam_t_h"].sum() < on_m["steam_t_h"].sum() - 10.0     # [t/h]
+
+
+def test_gain_spread_across_normal_and_tripped_operation_is_checked():
+    """A station that runs at a small flow normally and takes the whole trip: the
+    screening checks the control gain spread across its untripped and tripped points,
+    as ``stations`` does on the same balances written as two cases.
+
+    The gain to spray flow is (h_w - h_out) / (cp_out (m_s + m_w)) (docs/checks/, gain
+    spread); with the same header states on both sides only the flows differ, so the
+    spread is the post-trip steam over the normal steam (closed form: the spray ratio r
+    is the same at both points). The post-trip flow comes from the hand balance above;
+    warn above 3:1 (common practice, no source)."""
+    from steamnet.evaluate import evaluate
+    from steamnet.studies.trips import screen_trips
+    from steamnet.sweep import solve_cases
+    net = NET.replace('flow = "25 t/h"', 'flow = "40 t/h"')
+    screening = screen_trips(loads_model(net))
+    f = screening.findings
+    spread = f[(f["check"] == "gain_spread_spray") & (f["item"] == "L1")]
+    assert len(spread) == 1, f[["trip", "item", "check", "status"]]
+    row = spread.iloc[0]
+    assert row["status"] == "warn" and row["trip"] == "every case and trip"
+    normal = solve_case(loads_model(net))
+    eq = normal.equipment.set_index("item")
+    l_normal = float(eq.loc["L1", "flow_t_h"]) / T_H
+    l_trip = hand_trip_balance()["letdown"]
+    # the hand balance holds to about 1e-6 relative against IF97 in steamnet (above)
+    assert row["value"] == pytest.approx(l_trip / l_normal, rel=1e-5)
+    # the same two balances as cases of a model file: stations gives the same verdict
+    as_cases = net + """
+[[case]]
+name = "normal"
+[[case]]
+name = "T1 tripped"
+[case.changes]
+"turbine.T1.mode" = "tripped"
+"""
+    m = loads_model(as_cases)
+    ev = evaluate(solve_cases(m, station_checks=True))
+    g = ev.findings[(ev.findings["check"] == "gain_spread_spray")
+                    & (ev.findings["item"] == "L1")].iloc[0]
+    assert g["status"] == row["status"]
+    assert g["value"] == pytest.approx(row["value"], rel=1e-12)

@@ -23,7 +23,7 @@ from .checks import POINT_CHECKS, check_across_cases, check_point
 from .rows import CHECK_COLUMNS, SEVERITY, CheckRow, Status
 
 __all__ = ["StationReport", "PointChecks", "station_points", "point_checks", "run_checks",
-           "not_assessed_rows", "DOES_NOT_BALANCE"]
+           "not_assessed_rows", "DOES_NOT_BALANCE", "across_checks"]
 
 #: The basis of a station check on a balance that does not close.
 DOES_NOT_BALANCE = "not assessed: the case does not balance"
@@ -209,6 +209,18 @@ def _run_checks(study, data) -> StationReport:
                                              columns=CHECK_COLUMNS),
                          envelopes=pd.DataFrame(envs),
                          gains=pd.DataFrame(gains, columns=GAIN_COLUMNS))
+
+
+def across_checks(data: dict[str, StationData], points) -> list[CheckRow]:
+    """The checks across operating points (control gain spread, relief cover at the
+    rated flow) of every station over ``points``: any mix of cases, hours and trips,
+    as a study's balances give them."""
+    per_station: dict[str, list] = {}
+    for p in points:
+        if p.station in data:
+            per_station.setdefault(p.station, []).append(p)
+    return [r for name, pts in per_station.items()
+            for r in check_across_cases(data[name], pts, verdicts=())[0]]
 
 
 #: Status (or its text: a str Enum member hashes and compares as its text) -> its text

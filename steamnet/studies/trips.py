@@ -13,6 +13,11 @@ the desuperheater's ``max_spray`` and ``rated_max_steam`` where given) and with 
 untripped case. Rows are sorted worst first: trips that leave the plant unable to
 balance, then by the largest use of any limit.
 
+Every tripped balance goes through the one evaluation (:func:`steamnet.evaluate.evaluate_one`),
+and the checks across cases run over every untripped and tripped balance of the screening
+together: a station that runs at a small flow normally and takes a turbine's steam after
+its trip shows the control gain spread between the two.
+
 A trip that leaves the plant infeasible is a finding row naming the header that runs
 short (or long) and by how much, taken from the balance's findings; the station rows of
 that trip show where the stations stood when the balance ran out.
@@ -32,7 +37,11 @@ from ..model.model import Model
 from ..model.cases import CaseSet
 from .common import Progress, resolve_cases
 from ..solver.limits import TH, running_units, station_loads
+from ..solver.results import letdown_points
 from ..evaluate import FINDING_COLUMNS, RANK, evaluate_one, sort_findings
+from ..stations.checks import ALL_CASES
+from ..stations.rows import Status
+from ..stations.run import across_checks
 from ..status import CaseStatus
 
 __all__ = ["trip_screening", "screen_trips", "TripScreening", "TRIP_COLUMNS",
@@ -209,13 +218,15 @@ def screen_trips(model: Model, cases: CaseSet | list[str] | str | None = None, *
         trips, done, (x for chunk in per_chunk for x in chunk))}
     rows: list[dict] = []
     found: list[tuple] = []
+    points = [p for x in info if x for p in x[2]]
+    points += [p for (_, _, _, pts) in after.values() for p in pts]
     for i, (name, r0) in enumerate(zip(cs.names, base)):
         if info[i] is None:
             rows.extend(_finding_rows(name, "", "", 0.0, r0))
             continue
-        before, units = info[i]
+        before, units, _ = info[i]
         for table, unit, flow in units:
-            r, loads, fnd = after[i, unit]
+            r, loads, fnd, _ = after[i, unit]
             verdict = _trip_verdict(fnd)
             found.extend((name, unit, table, *f[1:]) for f in fnd)
             if r.status == CaseStatus.ERROR and r.input_errors:
@@ -228,6 +239,7 @@ def screen_trips(model: Model, cases: CaseSet | list[str] | str | None = None, *
             if loads is not None:
                 rows.extend({**x, **verdict} for x in _station_rows(
                     name, unit, table, flow, r.status, before, loads))
+    found.extend(_across(model.stations, points))
     findings = sort_findings(pd.DataFrame(found, columns=TRIP_FINDING_COLUMNS),
                              ["trip", "item", "check"])
     df = pd.DataFrame(rows, columns=TRIP_COLUMNS)
@@ -251,24 +263,46 @@ def _trip_verdict(findings: list[tuple]) -> dict:
             "trip_worst_check": f"{worst[3]} ({worst[1]})" if worst[7] != "ok" else ""}
 
 
+#: The trip label of the checks across every case and trip of a screening.
+EVERY_TRIP = "every case and trip"
+
+
+def _across(data: dict, points) -> list[tuple]:
+    """The checks across the untripped and tripped balances of a screening (a station's
+    control gain spread between its normal and its post-trip flows, its relief cover at
+    the rated flow), as rows of :data:`TRIP_FINDING_COLUMNS`: those that are not ok."""
+    return [(ALL_CASES, EVERY_TRIP, "", r.station, "letdown", r.check, r.value, r.limit,
+             r.unit, Status(r.status).value, r.basis, r.source, r.advice)
+            for r in across_checks(data, points)
+            if r.status not in (Status.OK, Status.NOT_APPLICABLE)]
+
+
+def _solved_points(r) -> list:
+    return letdown_points(r.case, r.status, r.solution) \
+        if r.status == CaseStatus.SOLVED and r.solution is not None else []
+
+
 def _untripped(boilers: bool, results) -> list:
-    """Per untripped case of a solved chunk: (station loads, running units), or None
-    when the case did not balance (made where the chunk was solved)."""
-    return [(station_loads(r.solution), running_units(r.solution, boilers)) if r.ok else None
-            for r in results]
+    """Per untripped case of a solved chunk: (station loads, running units, station
+    operating points), or None when the case did not balance (made where the chunk was
+    solved)."""
+    return [(station_loads(r.solution), running_units(r.solution, boilers),
+             _solved_points(r)) if r.ok else None for r in results]
 
 
 def _tripped(data: dict, results) -> list:
     """Per trip of a solved chunk: the station loads after it (None when the balance
-    gave no flows to read) and every finding of the tripped balance (tuples in
-    :data:`~steamnet.evaluate.FINDING_COLUMNS` order), made where it was solved."""
+    gave no flows to read), every finding of the tripped balance that is not ok (tuples
+    in :data:`~steamnet.evaluate.FINDING_COLUMNS` order) and its station operating
+    points (for the checks across the screening), made where it was solved."""
     out = []
     for r in results:
         loads = station_loads(r.solution) if r.solution is not None and r.status in \
             (CaseStatus.SOLVED, CaseStatus.INFEASIBLE) else None
         f = evaluate_one(r, data)
         out.append((loads, list(f[f["status"] != "ok"].itertuples(index=False,
-                                                                    name=None))))
+                                                                    name=None)),
+                    _solved_points(r)))
     return out
 
 

@@ -2,8 +2,8 @@
 
 Not a test (pytest collects test_*.py only). Run:
 
-    .venv/bin/python tests/bench_model_size.py 10000 50000 100000          # check
-    .venv/bin/python tests/bench_model_size.py solve 10000 100000          # or solve, report
+    .venv/bin/python benchmarks/bench_model_size.py 10000 50000 100000          # check
+    .venv/bin/python benchmarks/bench_model_size.py solve 10000 100000          # or solve, report
 
 Each size runs in a fresh process: a one-header plant (tests/data/one_header.toml) with
 N users of 0.0005 t/h each (the boiler of 80 t/h serves 100,000) (synthetic data, not a plant), written to a temporary file and
@@ -24,7 +24,7 @@ import time
 from pathlib import Path
 
 HERE = Path(__file__).parent
-BASE = (HERE / "data" / "one_header.toml").read_text(encoding="utf-8")
+BASE = (HERE.parent / "tests" / "data" / "one_header.toml").read_text(encoding="utf-8")
 
 
 #: The command run in-process, printing its own peak resident set size (KiB) at exit.
