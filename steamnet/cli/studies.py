@@ -17,7 +17,7 @@ from ..model.load import load_model
 from ..studies import (case_results, header_headroom, marginal_steam_cost,
                        model_case_set, new_consumer_impact, read_case_table,
                        solve_case_set)
-from ..studies.trips import screen_trips
+from ..studies.trips import EVERY_TRIP, screen_trips
 from ..studies.progress import ProgressBar
 from . import EXIT_FAIL, EXIT_OK, main, parallel_options
 from ..evaluate import evaluate
@@ -234,8 +234,9 @@ def trips_command(ctx, model, cases, table, base, json_path, quiet, rows, boiler
             click.echo(f"  case '{r.case}', trip of {r.trip}: station {r.station} "
                        f"{r.worst_limit} at {r.worst_use_percent:.0f} %")
     if not quiet:
-        shown = trip_findings.assign(case=trip_findings["case"] + ", trip of " +
-                                     trip_findings["trip"])
+        across = trip_findings["trip"] == EVERY_TRIP
+        shown = trip_findings.assign(case=(trip_findings["case"] + ", trip of " +
+                                           trip_findings["trip"]).where(~across, EVERY_TRIP))
         click.echo("")
         print_findings(shown, limit=rows or 10**9, title="findings after the trips")
     _caution(quiet)

@@ -45,7 +45,7 @@ from ..stations.run import across_checks
 from ..status import CaseStatus
 
 __all__ = ["trip_screening", "screen_trips", "TripScreening", "TRIP_COLUMNS",
-           "TRIP_FINDING_COLUMNS"]
+           "TRIP_FINDING_COLUMNS", "EVERY_TRIP"]
 
 #: Columns of the trip screening table, in order (docs/studies.md).
 TRIP_COLUMNS = [
