@@ -153,3 +153,66 @@ def test_infeasible_cases_report_no_element_beyond_its_limits(seed, nh, extra, f
     assert r.status in ("solved", "infeasible"), r.message
     if r.status == "infeasible":
         assert beyond_own_limits(r) == [], r.message
+
+
+# HP is held by one boiler of 30 t/h; LP by a backpressure turbine first and a spray
+# let-down second. The least imbalance runs the let-down (its spray adds mass, so each
+# kilogram of LP steam needs less HP steam); the control sequence runs the turbine.
+SEQUENCE_PLANT = plant_head("sequence test plant (written for this test)", """
+[[header]]
+name = "LP"
+pressure = "3 bar(g)"
+""") + hp_boiler("B1", "30 t/h", 1) + """
+[[turbine]]
+name = "T1"
+inlet = "HP"
+outlet = "LP"
+isentropic_efficiency = "70 %"
+mode = "swing"
+priority = 1
+max_flow = "100 t/h"
+[[letdown]]
+name = "L1"
+inlet = "HP"
+outlet = "LP"
+mode = "auto"
+priority = 2
+[letdown.desuperheater]
+spray_supply = "BFW"
+approach = "10 K"
+[[user]]
+name = "U-HP"
+header = "HP"
+demand = "5 t/h"
+[[user]]
+name = "U-LP"
+header = "LP"
+demand = "40 t/h"
+"""
+
+
+def test_shortfall_under_the_control_sequence_is_given_beside_the_least_one():
+    r = solve(SEQUENCE_PLANT, expect="infeasible")
+    (f,) = [f for f in r.findings if f["side"] in ("short", "long")]
+    assert (f["header"], f["side"]) == ("HP", "short")
+    # Closed form of the least imbalance: the let-down carries LP, L (1 + r) = 40 t/h,
+    # r = (h_HP - h_set) / (h_set - h_w) (desuperheater energy balance, docs/method.md),
+    # h_HP = h(40 bar(g), 400 degC), h_set = h(3 bar(g), Tsat + 10 K), h_w = h(50 bar(g),
+    # 105 degC), all from CoolProp's IF97 backend; HP lacks 5 + L - 30 t/h.
+    h_hp = PropsSI("H", "P", P_HP, "T", degc(400.0), IF97)
+    t_set = PropsSI("T", "P", P_LP, "Q", 1, IF97) + 10.0
+    h_set = PropsSI("H", "P", P_LP, "T", t_set, IF97)
+    h_w = PropsSI("H", "P", barg(50.0), "T", degc(105.0), IF97)
+    ratio = (h_hp - h_set) / (h_set - h_w)
+    least = t_h(5.0) + t_h(40.0) / (1 + ratio) - t_h(30.0)
+    # two IF97 implementations agree to about 1e-6 relative in h (docs/method.md)
+    assert f["amount_kg_s"] == pytest.approx(least, rel=1e-5)
+    # Under the sequence the turbine carries all of LP: 5 + 40 - 30 = 15 t/h (mass
+    # balance alone), and that is what a swing import on HP takes in the same case.
+    assert f["amount_in_sequence_kg_s"] == pytest.approx(t_h(15.0), rel=1e-9)
+    assert "order of their control sequences" in f["message"]
+    assert "15.00 t/h" in f["message"]
+    ri = solve(SEQUENCE_PLANT + IMPORT.replace('header = "LP"', 'header = "HP"')
+               .replace('steam_temperature = "200 degC"', 'steam_temperature = "400 degC"'))
+    assert equip(ri, "IMP")["flow_t_h"] == pytest.approx(15.0, rel=1e-9)
+    assert beyond_own_limits(r) == []

@@ -37,7 +37,8 @@ from ..calc.desuperheater import mix
 from ..status import CaseStatus
 from . import reference as _reference
 from .assembly import Plan
-from .findings import cold_findings, derived_findings, exhausted_findings, slack_findings
+from .findings import (cold_findings, derived_findings, exhausted_findings, sequence_amounts,
+                       slack_findings)
 from .network import (INF, Coeffs, ItemPropertyError, Net, build, coefficients,
                       header_inflows)
 from .network import group_bounds as _group_bounds
@@ -428,6 +429,10 @@ def _least_slack(net: Net, co: Coeffs, h: list[float], x, scale: float, modes=No
         bal = min_slack(net, co, h, x, held)
         found = slack_findings(net, co, bal, tol) if bal is not None else []
         if found:
+            if held is None and modes is not None:
+                seq = min_slack(net, co, h, x, modes)
+                if seq is not None:
+                    found = sequence_amounts(net, found, seq, tol)
             return bal.x, found
     return None
 

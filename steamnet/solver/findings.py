@@ -13,7 +13,7 @@ from ..units import T_H
 from .network import INF, Coeffs, Net, group_bounds as _group_bounds, header_inflows
 from .reference import _header_terms
 
-__all__ = ["exhausted_findings", "slack_findings", "derived_findings", "cold_findings",
+__all__ = ["exhausted_findings", "slack_findings", "sequence_amounts", "derived_findings", "cold_findings",
            "fmt_th"]
 
 
@@ -112,6 +112,35 @@ def _bound_text(net: Net, bal, vi: int, upper: bool) -> str | None:
         word = "capacity" if net.vars[vi].kind == "vent" else "maximum"
         return f"{label} at its {word} {fmt_th(hi)}"
     return f"{label} at its minimum {fmt_th(lo)}" if _near(x, lo) else None
+
+
+def sequence_amounts(net: Net, found: list[dict], seq, tol: float) -> list[dict]:
+    """The findings of the least imbalance, each with the imbalance of its header when
+    the swing elements run in the order of their control sequences (``seq``, the
+    least-slack balance with the sequences held: :func:`steamnet.solver.slack.
+    min_slack` with ``modes``) where that is larger by more than ``tol`` [kg/s].
+
+    The least imbalance lets every element move within its limits in any order: it is
+    what must be found to balance the case if the operators re-distribute the load. The
+    sequence figure is what the controllers as configured would leave short (or long).
+    """
+    out = []
+    for f in found:
+        if f["side"] not in ("short", "long"):
+            out.append(f)
+            continue
+        hi = net.headers.index(f["header"])
+        amount = (seq.short if f["side"] == "short" else seq.long)[hi]
+        if amount <= f["amount_kg_s"] + tol:
+            out.append(f)
+            continue
+        word = "short" if f["side"] == "short" else "long"
+        out.append({**f, "amount_in_sequence_kg_s": amount,
+                    "message": f"{f['message']}; this is the least imbalance with the "
+                    f"elements re-distributed within their limits: with the swing "
+                    f"elements in the order of their control sequences the header is "
+                    f"{word} by {fmt_th(amount)}"})
+    return out
 
 
 def slack_findings(net: Net, co: Coeffs, bal, tol: float) -> list[dict]:
