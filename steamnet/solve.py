@@ -153,7 +153,8 @@ class StudyResult:
 
 def solve_case(model: Model, case: str | None = None, *, start: dict | None = None,
                tables: bool = True, streams: bool = True, max_iter: int = 200,
-               tol_h: float | None = None, reference: bool = False) -> CaseResult:
+               tol_h: float | None = None, reference: bool = False,
+               sequence_shortfall: bool = True) -> CaseResult:
     """Solve one case of ``model`` (the base model when ``case`` is None).
 
     Never raises for a case that cannot balance: the result's status says
@@ -173,19 +174,23 @@ def solve_case(model: Model, case: str | None = None, *, start: dict | None = No
     reference : bool
         Solve with the reference assembly of the balance system (the code path before
         the compiled assembly), to check that the fast one gives the same answers [-]
+    sequence_shortfall : bool
+        For a case that cannot balance, also give the imbalance under the control
+        sequences (:func:`steamnet.solver.balance.solve_net`) [-]
     """
     name = case or model.case_name or "base"
     m = model.for_case(case) if case is not None else model
     if case is not None:
         validate_model(m)
     return solve_model(m, name, start=start, tables=tables, streams=streams,
-                       max_iter=max_iter, tol_h=tol_h, reference=reference)
+                       max_iter=max_iter, tol_h=tol_h, reference=reference,
+                       sequence_shortfall=sequence_shortfall)
 
 
 def solve_model(m: Model, name: str, *, start: dict | None = None, tables: bool = True,
                 streams: bool = True, max_iter: int = 200,
                 tol_h: float | None = None, like=None,
-                reference: bool = False) -> CaseResult:
+                reference: bool = False, sequence_shortfall: bool = True) -> CaseResult:
     """Solve an already validated model (one case) under the case name ``name``.
 
     ``like`` is the Net of a similar case (the previous one of a sweep), from which the
@@ -196,7 +201,7 @@ def solve_model(m: Model, name: str, *, start: dict | None = None, tables: bool 
     try:
         net = build(m, like=None if reference else like)
         sol = solve_net(net, start=start, max_iter=max_iter, tol_h=tol_h,
-                        reference=reference)
+                        reference=reference, sequence_shortfall=sequence_shortfall)
     except ItemPropertyError as exc:
         return CaseResult.failed(name, CaseStatus.ERROR, f"outside IAPWS-IF97: {exc}")
     if sol.status in (CaseStatus.ERROR, CaseStatus.NOT_CONVERGED):

@@ -255,7 +255,7 @@ def _update_modes(net: Net, x: "np.ndarray | list[float]", modes, eff, tol: floa
 
 def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
               tol_x: float = 1e-9, start: dict | None = None,
-              reference: bool = False) -> Solution:
+              reference: bool = False, sequence_shortfall: bool = True) -> Solution:
     """Solve the balance of one case (see the module docstring).
 
     Parameters
@@ -275,6 +275,10 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
         Assemble the linear system with the reference code (:func:`steamnet.solver.reference.assemble`) instead
         of the compiled :class:`~steamnet.solver.assembly.Plan`; the systems, and so
         the answers, are the same [-]
+    sequence_shortfall : bool
+        For a case that cannot balance, also find the imbalance with the swing elements
+        in the order of their control sequences (one more linear programme); a study's
+        probes that only need to know whether a case balances leave it out [-]
     """
     t0 = time.perf_counter()
     n = len(net.vars)
@@ -383,7 +387,8 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
         if len(recent) == _PERSIST:
             keep = set.intersection(*recent)
             stuck = [e for e in exhausted if (e[0], e[1]) in keep]
-        least = _least_slack(net, co, h, x, scale, modes) if stuck else None
+        least = _least_slack(net, co, h, x, scale, modes, sequence_shortfall) \
+            if stuck else None
         if least is not None:
             x, found = least[0], least[1] + derived_findings(net, co, least[0], tol_mode)
             return Solution(net, x, h, co, modes, it, CaseStatus.INFEASIBLE, found,
@@ -401,7 +406,8 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
     x = np.where(np.abs(x) < 1e-12, 0.0, x)     # no -0.0 or 1e-16 flows in reports
     least = None
     if exhausted or beyond_limits(net, co, x, tol_mode):
-        least = _least_slack(net, co, h, x, scale, modes if exhausted else None)
+        least = _least_slack(net, co, h, x, scale, modes if exhausted else None,
+                             sequence_shortfall)
     if least is not None:
         # the case cannot balance: report the balance of least header slack, every
         # element within its limits (docs/method.md, infeasible cases)
@@ -416,7 +422,8 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
                     time.perf_counter() - t0)
 
 
-def _least_slack(net: Net, co: Coeffs, h: list[float], x, scale: float, modes=None):
+def _least_slack(net: Net, co: Coeffs, h: list[float], x, scale: float, modes=None,
+                 sequence_shortfall: bool = True):
     """The flows and findings of the balance of least header slack at the present
     coefficients (:mod:`steamnet.solver.slack`), or None when it needs no slack (the
     limits can all hold: the iteration's findings stand) or cannot be found.
@@ -429,7 +436,7 @@ def _least_slack(net: Net, co: Coeffs, h: list[float], x, scale: float, modes=No
         bal = min_slack(net, co, h, x, held)
         found = slack_findings(net, co, bal, tol) if bal is not None else []
         if found:
-            if held is None and modes is not None:
+            if held is None and modes is not None and sequence_shortfall:
                 seq = min_slack(net, co, h, x, modes)
                 if seq is not None:
                     found = sequence_amounts(net, found, seq, tol)

@@ -106,10 +106,14 @@ def with_user(model: Model, header: str, *, demand: float | None = None,
     return model.with_item("user", data, origin=origin)
 
 
-def solve(model: Model, start: dict | None = None) -> CaseResult:
+def solve(model: Model, start: dict | None = None, *, probe: bool = False) -> CaseResult:
     """One balance of ``model`` as it stands (already validated), without the stream
-    table; ``start`` is a warm start from :func:`warm`."""
-    return solve_case(model, start=start, streams=False)
+    table; ``start`` is a warm start from :func:`warm`. A ``probe`` of a search (it
+    only needs to know whether the case balances, and which header ends it) leaves out
+    the imbalance under the control sequences and the result tables (its findings are
+    read from the solution)."""
+    return solve_case(model, start=start, streams=False, tables=not probe,
+                      sequence_shortfall=not probe)
 
 
 def warm(result: CaseResult) -> dict | None:

@@ -199,32 +199,56 @@ def _limit_of(lo: _Point, hi: _Point) -> tuple[str, str, str, float, str]:
     return ("", "", r.status, math.nan, r.message)
 
 
+def _shortfall(result) -> float:
+    """Total steam a balance that does not close is short of on its headers [kg/s]."""
+    return sum(f.get("amount_kg_s") or 0.0 for f in result.findings or ()
+               if f.get("side") == "short")
+
+
 def _balance_limit(evaluate, lo: float, hi, cap: float, acc: float):
     """Largest added demand at which the case still balances (the next element of a
-    sequence taking over when one reaches its limit), by bisection from the first
-    binding limit ``lo`` up to the cap; returns (demand [kg/s], message of the
-    balance that fails just above it, solves)."""
+    sequence taking over when one reaches its limit), on the grid ``k * acc`` from the
+    first binding limit ``lo`` up to the cap; returns (demand [kg/s], message of the
+    balance that fails just above it, solves).
+
+    A balance that fails short of steam by s at an added demand b balances, to first
+    order, at b - s: that grid point is tried first, then the one above it; the
+    bracket then closes by bisection. Every probe narrows the same bracket, so the
+    answer is the bisection's, in fewer balances."""
     n = 0
     a = lo
-    b = None
     top = evaluate(cap)
     n += 1
     if top.result.status == CaseStatus.SOLVED:
         return cap, f"balances up to the cap {cap * TH:.1f} t/h", n
-    b, b_msg = cap, top.result.message
+    b, b_res = cap, top.result
+    guesses, step_up = 4, False
     while b - a > acc:
-        mid = math.floor((a + b) / 2 / acc) * acc
-        if mid <= a:
-            mid = a + acc
-        if mid >= b:
-            break
+        mid = None
+        if step_up:
+            mid, step_up = a + acc, False
+        elif guesses > 0:
+            guesses -= 1
+            s = _shortfall(b_res)
+            if s > 0:
+                mid = math.floor((b - s) / acc + 1e-9) * acc
+        if mid is None or not (a < mid < b):
+            mid = math.floor((a + b) / 2 / acc) * acc
+            if mid <= a:
+                mid = a + acc
+            if mid >= b:
+                break
+            guessed = False
+        else:
+            guessed = True
         p = evaluate(mid)
         n += 1
         if p.result.status == CaseStatus.SOLVED:
             a = mid
+            step_up = guessed
         else:
-            b, b_msg = mid, p.result.message
-    return a, f"with {b * TH:.1f} t/h added: {b_msg}", n
+            b, b_res = mid, p.result
+    return a, f"with {b * TH:.1f} t/h added: {b_res.message}", n
 
 
 def _sound_limit(point, lo: float, hi: float, acc: float):
@@ -344,7 +368,7 @@ def header_headroom(model: Model, cases: CaseSet | list[str] | str | None = None
                     mp = with_user(_m, _h, demand=d, condensate_return=ret,
                                    condensate_temperature=t_ret, name=probe,
                                    origin="added demand")
-                    p = _Point(d, solve(mp, start=start), base_checks, data,
+                    p = _Point(d, solve(mp, start=start, probe=True), base_checks, data,
                                base_findings)
                 seen[key] = p
                 return p
