@@ -16,7 +16,8 @@ outlets, spray water without a stream row):
 * the plant water balance (make-up, external water and imports in; vents, exports, lost
   condensate, blowdown not flashed and the deaerator vent out);
 * no negative flow, and every flow within the limits of its item (its minimum when it
-  swings, its maximum, its fixed value).
+  swings, its maximum, its fixed value); an item that does not run (its row's
+  ``service``) carries no flow.
 
 The equations are those of docs/method.md ("Equipment equations", "The balance"),
 written out again here; nothing of the solver (:mod:`steamnet.solver`) is used, so a
@@ -46,9 +47,14 @@ NEGATIVE_FLOW = 1e-9
 #: A flow is within its limit when it is within this of it, relative to the larger of
 #: 1 kg/s and the limit [-] (the solver's convergence, as above, with a margin).
 LIMIT_TOL = 1e-7
+#: The ``service`` of the equipment rows of running items (docs/results.md).
+_RUNS = "in service"
 #: The flow columns of the equipment table, none of which may be negative.
 _FLOW_COLUMNS = ("flow_t_h", "spray_t_h", "steam_out_t_h", "exhaust_t_h", "makeup_t_h",
                  "feedwater_t_h", "vent_t_h", "blowdown_t_h", "condensate_return_t_h")
+#: The power and duty columns, zero for an item that does not run.
+_POWER_COLUMNS = ("power_kw", "internal_power_kw", "shaft_power_kw", "duty_mw", "fuel_mw",
+                  "condenser_duty_mw")
 
 
 def check_study(study, *, rel: float = 1e-6) -> list[str]:
@@ -122,7 +128,11 @@ class _Check:
 
     def __init__(self, model, r, rel: float):
         self.m, self.rel, self.probs = model, rel, []
-        self.rows = r.equipment.to_dict(orient="records")
+        rows = r.equipment.to_dict(orient="records")
+        # an item that does not run in the case keeps its row, at zero flow
+        # (docs/results.md); the balances are those of the running items
+        self.idle = [row for row in rows if row.get("service", _RUNS) != _RUNS]
+        self.rows = [row for row in rows if row.get("service", _RUNS) == _RUNS]
         self.hdr = {h["header"]: h for h in r.headers.to_dict(orient="records")}
         self.H = {n: h["h_kj_kg"] * 1e3 for n, h in self.hdr.items()}
         self.P = {n: h.pressure for n, h in model.headers.items()}
@@ -166,6 +176,7 @@ class _Check:
 
     # ---------------------------------------------------------------- checks
     def run(self) -> list[str]:
+        self.idle_items()
         self.flows_not_negative()
         self.limits()
         self.headers()
@@ -173,6 +184,23 @@ class _Check:
         self.boilers_and_users()
         self.deaerator_and_water()
         return self.probs
+
+    def idle_items(self) -> None:
+        """An item that does not run carries no flow, and is idle in the model."""
+        for row in self.idle:
+            what = f"{row['type']} '{row['item']}'"
+            for col in ("flow_t_h",) + _FLOW_COLUMNS + _POWER_COLUMNS:
+                v = row.get(col)
+                if v is not None and not math.isnan(v) and v != 0:
+                    self.probs.append(f"{what} is {row['service']} but carries "
+                                      f"{col} {v:.9g}")
+            it = self.item(row) if row["type"] != "extraction" else \
+                self.m.table("extraction_turbine").get(row["from"])
+            idle = it is not None and (not getattr(it, "in_service", True) or getattr(
+                it, "mode", None) in ("off", "tripped", "closed"))
+            if not idle:
+                self.probs.append(f"{what} is {row['service']} in the table but runs "
+                                  "in the model")
 
     def flows_not_negative(self) -> None:
         for row in self.rows:
