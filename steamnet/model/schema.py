@@ -268,9 +268,21 @@ class WaterSupply(_Item):
     pump_efficiency: Fraction | None = Field(
         None, description="pump efficiency; when given, the pump work v dP / efficiency "
         "heats the water and is reported [-]")
+    pump_turbine: Name | None = Field(
+        None, description="the [[turbine]] (drive 'mechanical', mode 'pump') that drives "
+        "this supply's pump: its power follows the pumped flow, and the pump's power is "
+        "not charged as electricity; needs pump_efficiency. While that turbine is "
+        "tripped or out of service the pump counts as motor-driven")
 
     def check(self) -> None:
         _check_fraction(self.pump_efficiency, "pump_efficiency")
+        if self.pump_turbine is not None and self.source != "deaerator":
+            raise FieldError("pump_turbine", "a turbine-driven pump is a feedwater pump "
+                             "at the deaerator outlet: use source = 'deaerator'")
+        if self.pump_turbine is not None and self.pump_efficiency is None:
+            raise FieldError("pump_turbine", "a turbine-driven pump needs its "
+                             "pump_efficiency (the turbine's power is v dP / efficiency "
+                             "times the pumped flow)")
         if self.source == "external" and self.temperature is None:
             raise FieldError("temperature", "an external water supply needs its temperature")
         if self.source == "deaerator" and self.temperature is not None:
@@ -304,6 +316,11 @@ class Boiler(_Item):
                                            "[currency/J]")
     blowdown_flash_header: Name | None = Field(
         None, description="header receiving flash steam from the blowdown, if any")
+    drum_pressure: Pressure | None = Field(
+        None, description="pressure of the steam drum, where the blowdown leaves as "
+        "saturated water (its enthalpy and its flash follow from it); default the "
+        "header pressure (the drum runs above it by the superheater's and the line's "
+        "pressure drop) [Pa]")
     in_service: bool = True
 
     def check(self) -> None:
@@ -345,7 +362,7 @@ class SteamTransfer(_Item):
 
 
 # ------------------------------------------------------------------------- turbines
-_TURBINE_MODES = Literal["fixed_flow", "fixed_power", "swing", "tripped"]
+_TURBINE_MODES = Literal["fixed_flow", "fixed_power", "swing", "pump", "tripped"]
 
 
 class Turbine(_Item):
@@ -367,7 +384,8 @@ class Turbine(_Item):
     generator_efficiency: Fraction = 1.0
     mode: _TURBINE_MODES = Field(
         "fixed_flow", description="'fixed_flow', 'fixed_power', 'swing' (holds the "
-        "exhaust header) or 'tripped'")
+        "exhaust header), 'pump' (drives the pump of the water supply that names it in "
+        "'pump_turbine': its power is that pump's) or 'tripped'")
     flow: Flow | None = Field(None, description="steam flow in fixed_flow mode [kg/s]")
     power: Power | None = Field(None, description="output in fixed_power mode: electric "
                                 "for a generator, shaft for a mechanical drive [W]")
@@ -399,6 +417,12 @@ class Turbine(_Item):
             raise FieldError("flow", "mode 'fixed_flow' needs 'flow'")
         if self.mode == "fixed_power" and self.power is None:
             raise FieldError("power", "mode 'fixed_power' needs 'power'")
+        if self.mode == "pump" and self.drive != "mechanical":
+            raise FieldError("drive", "mode 'pump' is a mechanical drive: give drive = "
+                             "'mechanical'")
+        if self.mode == "pump" and self.power is not None:
+            raise FieldError("power", "mode 'pump' takes its power from the pump it "
+                             "drives: remove 'power'")
 
 
 class Extraction(_Item):

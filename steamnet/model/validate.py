@@ -143,6 +143,7 @@ def validate_model(model: Model) -> None:
                         "at the supply pressure")
             except PropertyRangeError as exc:
                 err("water_supply", n, "temperature", str(exc))
+    _check_pump_turbines(model, err)
     # -------------------------------------------------------------------- boilers
     for n, b in model.table("boiler").items():
         ok = need_header("boiler", n, "header", b.header)
@@ -159,6 +160,15 @@ def validate_model(model: Model) -> None:
         if ok:
             _check_superheated(err, "boiler", n, "steam_temperature", p(b.header),
                                b.steam_temperature)
+        if ok and b.drum_pressure is not None:
+            if b.drum_pressure < p(b.header):
+                err("boiler", n, "drum_pressure", "the drum pressure is below the header "
+                    "pressure: the steam flows from the drum through the superheater to "
+                    "the header")
+            elif not b.drum_pressure < props.P_CRIT:
+                err("boiler", n, "drum_pressure", f"{b.drum_pressure / 1e5:.4g} bar(a) "
+                    "is not below the critical pressure 220.64 bar(a): a drum holds "
+                    "water and steam at saturation (IAPWS-IF97)")
         if b.mode == "fixed" and b.max_steam is not None and b.steam > b.max_steam:
             err("boiler", n, "steam", "fixed steam is above max_steam")
     for n, t in model.table("steam_transfer").items():
@@ -253,6 +263,40 @@ def validate_model(model: Model) -> None:
     _check_reachability(model, errs, case)
     if errs:
         raise ModelErrors(errs)
+
+
+def _check_pump_turbines(model: Model, err) -> None:
+    """A water supply's ``pump_turbine`` names a mechanical-drive turbine in mode
+    'pump' (or tripped, or out of service: the pump then runs on its motor), and every
+    turbine in mode 'pump' drives exactly one supply's pump."""
+    turbines = model.table("turbine")
+    driven: dict[str, list[str]] = defaultdict(list)
+    for n, ws in model.table("water_supply").items():
+        tn = ws.pump_turbine
+        if tn is None:
+            continue
+        t = turbines.get(tn)
+        if t is None:
+            known = ", ".join(turbines) or "none"
+            err("water_supply", n, "pump_turbine", f"turbine '{tn}' does not exist "
+                f"(turbines: {known}); a pump is driven by a [[turbine]]")
+            continue
+        driven[tn].append(n)
+        if t.drive != "mechanical":
+            err("water_supply", n, "pump_turbine", f"turbine '{tn}' drives a "
+                "generator: a pump needs a turbine with drive = 'mechanical'")
+        elif t.mode not in ("pump", "tripped"):
+            err("water_supply", n, "pump_turbine", f"turbine '{tn}' is in mode "
+                f"'{t.mode}': a turbine driving a pump takes mode = 'pump' (its power "
+                "follows the pumped flow), or 'tripped'")
+    for tn, names in driven.items():
+        if len(names) > 1:
+            err("turbine", tn, "mode", "drives the pumps of water supplies "
+                f"{', '.join(repr(x) for x in names)}: one turbine drives one pump")
+    for tn, t in turbines.items():
+        if t.mode == "pump" and tn not in driven:
+            err("turbine", tn, "mode", "mode 'pump' but no water supply names this "
+                "turbine in its 'pump_turbine'")
 
 
 def _check_liquid_temperature(err, table, name, t) -> None:

@@ -194,7 +194,7 @@ class Plan:
         for k, t in enumerate(net.turbines):
             if t["var"] in self.grouped:
                 continue
-            if t["mode"] == "fixed_power":
+            if t["mode"] in ("fixed_power", "pump"):     # rhs: the flow its power needs
                 self.t_flow.append((len(rows), k))
                 rows.append([(t["var"], 1.0)])
                 rhs.append(0.0)

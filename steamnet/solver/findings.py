@@ -104,6 +104,8 @@ def _bound_text(net: Net, bal, vi: int, upper: bool) -> str | None:
             return f"{label} fixed at {fmt_th(lo)}"
         if any(t["var"] == vi and t["mode"] == "fixed_power" for t in net.turbines):
             return f"{label} at the flow its fixed power needs, {fmt_th(lo)}"
+        if any(t["var"] == vi and t["mode"] == "pump" for t in net.turbines):
+            return f"{label} at the flow its pump needs, {fmt_th(lo)}"
         # held by its header's sequence (slack.min_slack with modes); closed: no limit
         return f"{label} held by its sequence at {fmt_th(lo)}" if lo > 0 else None
     if upper:
@@ -185,14 +187,14 @@ def derived_findings(net: Net, co: Coeffs, x: np.ndarray, tol: float) -> list[di
                         f"({fmt_th(mu)}): more water returns than the plant uses"})
     for t, c in zip(net.turbines, co.turb):
         it = t["item"]
-        if t["mode"] == "fixed_power":
+        if t["mode"] in ("fixed_power", "pump"):
             m = c["flow"]       # what its power needs (the flow may be held in range)
             hi = INF if it.max_flow is None else it.max_flow
             if m > hi + tol or m < it.min_flow - tol:
                 out.append({"kind": "infeasible", "header": net.headers[t["inlet"]],
                             "side": "turbine", "amount_kg_s": m, "limits": [],
                             "message": f"turbine '{t['name']}' needs {fmt_th(m)} for its "
-                            f"fixed power, outside its range {fmt_th(it.min_flow)} to "
+                            f"{'pump' if t['mode'] == 'pump' else 'fixed power'}, outside its range {fmt_th(it.min_flow)} to "
                             f"{fmt_th(hi)}"})
     for t, c in zip(net.xturbines, co.xturb):
         it = t["item"]

@@ -159,6 +159,11 @@ def build(model, like: Net | None = None) -> Net:
                            "from_da": False, "pump_work": 0.0}
 
     makeup_h = _makeup_h(model, da)
+    for n, t in model.table("turbine").items():
+        if on(t) and t.mode == "pump":
+            for ws in model.table("water_supply").values():
+                if ws.pump_turbine == n:     # the turbine drives it: no motor power
+                    supplies[ws.name]["pump_turbine"] = n
 
     boilers = []
     for n, b in model.table("boiler").items():
@@ -170,13 +175,17 @@ def build(model, like: Net | None = None) -> Net:
         fixed = b.steam if b.mode == "fixed" else None
         vi = new_var("boiler", n, "boiler", b.min_steam if b.mode == "swing" else 0.0,
                      b.max_steam, fixed)
+        # the blowdown leaves saturated at the drum: the header's pressure unless given
+        drum = sat[hi] if b.drum_pressure is None else _prop(
+            f"boiler '{n}'", props.saturation, b.drum_pressure)
         flash = None
         if b.blowdown_flash_header:
             fh = hidx[b.blowdown_flash_header]
-            frac = max(0.0, (sat[hi].hf - sat[fh].hf) / sat[fh].hfg)
+            frac = max(0.0, (drum.hf - sat[fh].hf) / sat[fh].hfg)
             flash = {"header": fh, "fraction": frac}
         boilers.append({"name": n, "var": vi, "header": hi, "h": st.h, "t": st.t,
-                        "supply": ws, "bd": b.blowdown, "h_bd": sat[hi].hf,
+                        "supply": ws, "bd": b.blowdown, "h_bd": drum.hf,
+                        "p_drum": p[hi] if b.drum_pressure is None else b.drum_pressure,
                         "eff": b.efficiency, "kind": b.kind, "flash": flash,
                         "fuel_price": (b.fuel_price if b.fuel_price is not None
                                        else model.prices.fuel), "item": b})
@@ -215,6 +224,9 @@ def build(model, like: Net | None = None) -> Net:
         turbines.append({"name": n, "var": vi, "inlet": hidx[t.inlet],
                          "outlet": hidx[t.outlet], "mode": t.mode, "eta_mg": eta_mg,
                          "item": t})
+        if t.mode == "pump":
+            turbines[-1]["pump"] = next(s for s in supplies.values()
+                                        if s.get("pump_turbine") == n)
         if t.mode == "swing":
             swing_entries[hidx[t.outlet]].append((t.priority, vi, t.share))
 
@@ -413,18 +425,20 @@ def coefficients(net: Net, h: list[float], x: list[float] | None) -> Coeffs:
         pin, pout = net.p[t["inlet"]], net.p[t["outlet"]]
         h_in = h[t["inlet"]]
         name = f"turbine '{t['name']}'"
+        set_power = t["mode"] in ("fixed_power", "pump")
+        power = it.power if t["mode"] != "pump" else pump_power(net, t["pump"], h, x)
         if it.isentropic_efficiency is not None:
             ex = expansion(name, pin, h_in, pout, it.isentropic_efficiency)
             c = {"h_out": ex["h_out"], "dh": ex["dh"], "h_is": ex["h_is"], "willans": False}
-            if t["mode"] == "fixed_power":
-                c["flow"] = it.power / (t["eta_mg"] * ex["dh"])
+            if set_power:
+                c["flow"] = power / (t["eta_mg"] * ex["dh"])
         else:
             st_in = _prop(name, props.state_ph, pin, h_in)
             h_is = _prop(name, props.state_ps, pout, st_in.s).h
             m0, k = it.willans_no_load, it.willans_slope
             c = {"willans": True, "h_is": h_is, "m0": m0, "k": k}
-            if t["mode"] == "fixed_power":
-                m = m0 + k * it.power
+            if set_power:
+                m = m0 + k * power
                 c["flow"] = m
             else:
                 m = x[t["var"]] if x is not None else (it.flow or max(m0 * 2, 1.0))
@@ -471,6 +485,32 @@ def coefficients(net: Net, h: list[float], x: list[float] | None) -> Coeffs:
             uf.append(u["duty"] / max(dh, floor))
             starved.append(dh <= floor)
     return Coeffs(turb=turb, xturb=xturb, ld=ld, user_flow=uf, user_starved=starved)
+
+
+def supply_flow(net: Net, name: str, x, ratios) -> float:
+    """Water drawn from supply ``name`` at the flows ``x`` [kg/s]: the feedwater of the
+    boilers it feeds and the spray of the let-downs it feeds (``ratios``: every
+    let-down's spray per unit steam, r, in ``net.letdowns`` order)."""
+    m = sum(x[b["var"]] / (1 - b["bd"]) for b in net.boilers if b["supply"]["name"] == name)
+    m += sum(x[s["var"]] * r for s, r in zip(net.letdowns, ratios)
+             if s["ds"] is not None and s["ds"]["supply"]["name"] == name)
+    return m
+
+
+def pump_power(net: Net, supply: dict, h: list[float], x) -> float:
+    """Power of the pump of ``supply`` (a Net entry) at the header enthalpies ``h`` and
+    the flows ``x``: its pump work v dP / efficiency times the water it delivers [W];
+    0 before the first flows are known."""
+    if x is None:
+        return 0.0
+    ratios = []
+    for s in net.letdowns:
+        ds = s["ds"]
+        r = 0.0
+        if ds is not None and ds["supply"] is supply and h[s["inlet"]] > ds["h_set"]:
+            r = spray_ratio(h[s["inlet"]], ds["h_set"], supply["h"])
+        ratios.append(r)
+    return supply["pump_work"] * supply_flow(net, supply["name"], x, ratios)
 
 
 # ------------------------------------------------------------------ header inflows

@@ -92,7 +92,7 @@ def _status_rows(net: Net, co: Coeffs, modes, eff):
     for t, c in zip(net.turbines, co.turb):
         if t["var"] in grouped:
             continue
-        if t["mode"] == "fixed_power":
+        if t["mode"] in ("fixed_power", "pump"):
             rows.append(([(t["var"], 1.0)], c["flow"]))
         else:
             rows.append(([(t["var"], 1.0)], net.vars[t["var"]].fixed))

@@ -20,7 +20,7 @@ from ..model.stations import StationPoint
 from ..status import CaseStatus
 from ..units import C0, KJ, T_H as TH
 from .balance import IDLE_FLOW, Solution
-from .network import coefficients, header_inflows
+from .network import coefficients, header_inflows, supply_flow
 
 __all__ = ["residuals", "water_balance", "header_table", "equipment_table",
            "equipment_rows", "stream_table", "totals", "case_cost", "letdown_points",
@@ -246,6 +246,10 @@ def equipment_rows(sol: Solution, case: str) -> list[dict]:
                          it.mode, m, t_out_degc=b["t"] - C0, h_out_kj_kg=b["h"] * KJ,
                          feedwater_t_h=fw * TH, blowdown_t_h=bd * TH,
                          duty_mw=duty / 1e6, fuel_mw=fuel / 1e6,
+                         drum_p_barg=(b["p_drum"] - net.model.site.atmospheric_pressure)
+                         / 1e5, drum_pressure_from=("drum_pressure"
+                                                    if it.drum_pressure is not None
+                                                    else "header pressure"),
                          min_t_h=(it.min_steam if it.mode == "swing" else np.nan) * TH,
                          max_t_h=(it.max_steam if it.max_steam is not None else np.nan) * TH,
                          load_percent=(100 * m / it.max_steam if it.max_steam else np.nan),
@@ -553,8 +557,9 @@ def case_cost(model, water: dict, sol: Solution, tot: dict | None = None) -> dic
     imp = sum(sol.x[t["var"]] * t["price"] for t in net.transfers if t["dir"] == "import")
     exp = sum(sol.x[t["var"]] * t["price"] for t in net.transfers if t["dir"] == "export")
     gen = tot["power_generated"]
+    # a pump driven by a running turbine costs steam (in the balance), not electricity
     pump = sum(ws["pump_work"] * _supply_flow(sol, name)
-               for name, ws in net.supplies.items())
+               for name, ws in net.supplies.items() if "pump_turbine" not in ws)
     per_s = fuel + water_cost + imp - exp - gen * pr.electricity + pump * pr.electricity
     return {"cost_per_h": per_s * 3600, "fuel_cost_per_h": fuel * 3600,
             "water_cost_per_h": water_cost * 3600, "power_value_per_h": gen * pr.electricity
@@ -562,11 +567,7 @@ def case_cost(model, water: dict, sol: Solution, tot: dict | None = None) -> dic
 
 
 def _supply_flow(sol: Solution, name: str) -> float:
-    net, x, co = sol.net, sol.x, sol.co
-    m = sum(x[b["var"]] / (1 - b["bd"]) for b in net.boilers if b["supply"]["name"] == name)
-    m += sum(x[s["var"]] * c["r"] for s, c in zip(net.letdowns, co.ld)
-             if s["ds"] is not None and s["ds"]["supply"]["name"] == name)
-    return m
+    return supply_flow(sol.net, name, sol.x, [c["r"] for c in sol.co.ld])
 
 
 # ------------------------------------------------------------ let-down points

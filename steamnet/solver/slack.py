@@ -115,7 +115,7 @@ def _bounds(net: Net, co: Coeffs) -> tuple[np.ndarray, np.ndarray]:
         elif v.kind in ("boiler", "transfer", "letdown") and v.index not in held:
             lo[v.index] = hi[v.index] = 0.0
     for t, c in zip(net.turbines, co.turb):
-        if t["mode"] == "fixed_power" and t["var"] not in held:
+        if t["mode"] in ("fixed_power", "pump") and t["var"] not in held:
             it = t["item"]
             top = math.inf if it.max_flow is None else it.max_flow
             lo[t["var"]] = hi[t["var"]] = min(max(c["flow"], it.min_flow), top)

@@ -15,6 +15,8 @@ outlets, spray water without a stream row):
   supplies draw) and its vent;
 * the plant water balance (make-up, external water and imports in; vents, exports, lost
   condensate, blowdown not flashed and the deaerator vent out);
+* each turbine driving a pump: its power is the pump's (v dP / eta times the water the
+  supply delivers);
 * no negative flow, and every flow within the limits of its item (its minimum when it
   swings, its maximum, its fixed value); an item that does not run (its row's
   ``service``) carries no flow.
@@ -183,7 +185,27 @@ class _Check:
         self.letdowns()
         self.boilers_and_users()
         self.deaerator_and_water()
+        self.pump_drives()
         return self.probs
+
+    def pump_drives(self) -> None:
+        """A turbine driving a supply's pump delivers that pump's power: v dP / eta
+        times the feedwater and spray the supply delivers."""
+        turbines = {row["item"]: row for row in self.of("turbine")}
+        for n, ws in self.m.table("water_supply").items():
+            row = turbines.get(ws.pump_turbine)
+            if row is None:
+                continue
+            sd = props.saturation(self.da.pressure)
+            w = sd.vf * (ws.pressure - self.da.pressure) / ws.pump_efficiency
+            m = sum(r["feedwater_t_h"] for r in self.of("boiler")
+                    if self.item(r).feedwater == n) / TH
+            for r in self.of("letdown"):
+                d = self.item(r).desuperheater
+                if d is not None and d.spray_supply == n:
+                    m += r["spray_t_h"] / TH
+            self.close(row["power_kw"] * 1e3, w * m, w * m,
+                       f"turbine '{row['item']}' power against the pump it drives", "W")
 
     def idle_items(self) -> None:
         """An item that does not run carries no flow, and is idle in the model."""
@@ -223,7 +245,7 @@ class _Check:
                 self.limit(what, m, it.min_flow if it.mode == "swing" else 0.0,
                            it.max_flow, it.flow if it.mode == "fixed" else None)
             elif typ == "turbine":
-                self.limit(what, m, it.min_flow if it.mode in ("swing", "fixed_power")
+                self.limit(what, m, it.min_flow if it.mode in ("swing", "fixed_power", "pump")
                            else 0.0, it.max_flow,
                            it.flow if it.mode == "fixed_flow" else None)
             elif typ == "extraction_turbine":
@@ -297,7 +319,8 @@ class _Check:
 
     def flash(self, row) -> float:
         b = self.item(row)
-        return _flash_fraction(self.P[b.header], self.P[b.blowdown_flash_header])
+        drum = b.drum_pressure if b.drum_pressure is not None else self.P[b.header]
+        return _flash_fraction(drum, self.P[b.blowdown_flash_header])
 
     def headers(self) -> None:
         bal = self.header_flows()

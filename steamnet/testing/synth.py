@@ -331,8 +331,37 @@ def random_model(seed: int, n_headers: int = 4, n_items: int | None = None, *,
         for _ in range(n):
             _GENERATORS[kind](b)
     b.finish_shares()
+    _pump_drive(b, random.Random(seed * 1_000_003 + 17))
+    _drums(b, random.Random(seed * 1_000_003 + 29))
     _cases(b, rng.randint(0, 3) if n_cases is None else n_cases)
     return b.doc
+
+
+def _drums(b: _Builder, rng: random.Random) -> None:
+    """Now and then a boiler's drum pressure, some bar above its header (from its own
+    generator, like :func:`_pump_drive`)."""
+    for x in b.doc.get("boiler", []):
+        if rng.random() < 0.3:
+            p = b.by_name[x["header"]].p_barg
+            x["drum_pressure"] = _barg(round(min(p + rng.uniform(0.5, 8), 200.0), 2))
+
+
+def _pump_drive(b: _Builder, rng: random.Random) -> None:
+    """Now and then a mechanical-drive turbine at fixed power drives the pump of a
+    deaerator water supply instead (mode 'pump'). Drawn from its own generator, so the
+    rest of the model is the one the seed gave before this existed."""
+    if rng.random() < 0.5:
+        return
+    turbines = [t for t in b.doc.get("turbine", []) if t["drive"] == "mechanical"
+                and t["mode"] == "fixed_power"]
+    supplies = [w for w in b.doc.get("water_supply", []) if "pump_efficiency" in w]
+    if not turbines or not supplies:
+        return
+    t, w = rng.choice(turbines), rng.choice(supplies)
+    t["mode"] = "pump"
+    for k in ("power", "max_flow", "min_flow"):
+        t.pop(k, None)
+    w["pump_turbine"] = t["name"]
 
 
 def random_model_text(seed: int, n_headers: int = 4, n_items: int | None = None,

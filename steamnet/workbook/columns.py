@@ -177,6 +177,8 @@ KNOWN: dict[str, Column] = {c.key: c for c in [
     _k("h_out_kj_kg", "Outlet enthalpy [kJ/kg]"),
     _k("feedwater_t_h", "Feedwater [t/h]"),
     _k("blowdown_t_h", "Blowdown [t/h]"),
+    _k("drum_p_barg", "Drum pressure [bar(g)]"),
+    _k("drum_pressure_from", "Drum pressure from", "text"),
     _k("exhaust_quality", "Exhaust quality [-]", fmt="0.000"),
     _k("isentropic_efficiency", "Isentropic efficiency [-]", fmt="0.000"),
     _k("exhaust_t_h", "Exhaust flow [t/h]"),

@@ -29,7 +29,7 @@ EQUIPMENT_KEYS = ["item", "type", "from", "to", "mode", "service", "flow_t_h", "
                   "exhaust_quality", "quality_below_limit", "steam_out_t_h",
                   "shaft_power_kw", "internal_power_kw", "isentropic_efficiency",
                   "exhaust_t_h", "condenser_duty_mw", "h_out_kj_kg", "feedwater_t_h",
-                  "blowdown_t_h", "makeup_t_h", "vent_t_h", "condensate_return_t_h",
+                  "blowdown_t_h", "drum_p_barg", "drum_pressure_from", "makeup_t_h", "vent_t_h", "condensate_return_t_h",
                   "drive", "group"]
 
 STREAM_KEYS = ["stream", "from", "to", "medium", "flow_t_h", "p_bara", "t_degc",
