@@ -479,9 +479,18 @@ class ExtractionTurbine(_Item):
     condensate_temperature: Temperature | None = Field(
         None, description="temperature of the returned condensate; default saturation "
         "at the condenser pressure [K]")
+    moisture_correction: bool = Field(
+        False, description="lower each section's efficiency for the moisture of its "
+        "expansion, 1 % per 1 % of the mean of its inlet and outlet moisture (Baumann "
+        "rule, common practice; the maker's wet-stage data win); condensing turbines "
+        "only; off by default")
     in_service: bool = True
 
     def check(self) -> None:
+        if self.moisture_correction and self.condenser_pressure is None:
+            raise FieldError("moisture_correction", "the moisture correction is for a "
+                             "condensing turbine (give condenser_pressure), whose last "
+                             "sections expand into wet steam")
         for f in ("mechanical_efficiency", "generator_efficiency", "min_exhaust_quality"):
             _check_fraction(getattr(self, f), f)
         _check_fraction(self.condensate_return, "condensate_return", allow_zero=True)

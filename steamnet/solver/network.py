@@ -417,6 +417,28 @@ def expansion(item: str, p_in: float, h_in: float, p_out: float, eta: float) -> 
             "s_in": st_in.s}
 
 
+def wet_expansion(item: str, p_in: float, p_out: float, ex: dict, eta: float) -> dict:
+    """The section ``ex`` (from :func:`expansion` at efficiency ``eta``) with its
+    efficiency lowered by the Baumann rule: eta (1 - y_mean), y_mean the mean of the
+    inlet and outlet moisture (docs/method.md). The outlet moisture follows from the
+    outlet enthalpy, so the two are solved together: inside the dome y_out is linear
+    in h_out, and h_out = h_in - A (1 - (y_in + y_out) / 2), A = eta (h_in - h_is),
+    has the closed form below. A section that stays dry is unchanged."""
+    h_in, drop = ex["h_in"], ex["h_in"] - ex["h_is"]
+    s_in = _prop(item, props.saturation, p_in)
+    s_out = _prop(item, props.saturation, p_out)
+    y_in = max(0.0, (s_in.hg - h_in) / s_in.hfg) if p_in < props.P_CRIT else 0.0
+    if y_in == 0.0 and ex["h_out"] >= s_out.hg:
+        return {**ex, "eta": eta}
+    a = eta * drop
+    h_out = (h_in - a * (1 - y_in / 2) + a * s_out.hg / (2 * s_out.hfg)) \
+        / (1 + a / (2 * s_out.hfg))
+    if h_out >= s_out.hg:                       # the corrected outlet is dry: y_out 0
+        h_out = h_in - a * (1 - y_in / 2)
+    return {**ex, "h_out": h_out, "dh": h_in - h_out,
+            "eta": (h_in - h_out) / drop if drop > 0 else eta}
+
+
 def coefficients(net: Net, h: list[float], x: list[float] | None) -> Coeffs:
     """Per-iteration coefficients from header enthalpies ``h`` and the last flows ``x``."""
     turb = []
@@ -452,11 +474,16 @@ def coefficients(net: Net, h: list[float], x: list[float] | None) -> Coeffs:
         name = f"extraction turbine '{t['name']}'"
         hs = [h[t["inlet"]]]
         dhs = []
+        wet = t["item"].moisture_correction
+        used = []
         for j, eta in enumerate(t["etas"]):
             ex = expansion(name, t["pressures"][j], hs[-1], t["pressures"][j + 1], eta)
+            if wet:
+                ex = wet_expansion(name, t["pressures"][j], t["pressures"][j + 1], ex, eta)
+                used.append(ex["eta"])
             hs.append(ex["h_out"])
             dhs.append(ex["dh"])
-        xturb.append({"h": hs, "dh": dhs})
+        xturb.append({"h": hs, "dh": dhs, **({"eta": used} if wet else {})})
     ld = []
     for s in net.letdowns:
         h_in = h[s["inlet"]]

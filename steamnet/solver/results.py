@@ -303,7 +303,10 @@ def equipment_rows(sol: Solution, case: str) -> list[dict]:
                          max_t_h=(it.max_flow if it.max_flow is not None else np.nan) * TH,
                          load_percent=(100 * s / it.max_flow if it.max_flow else np.nan),
                          limit=_limit_state(s, it.min_flow, it.max_flow),
-                         quality_below_limit=bool(st_ex.is_wet and q < it.min_exhaust_quality)))
+                         quality_below_limit=bool(st_ex.is_wet and q < it.min_exhaust_quality),
+                         **({"section_efficiencies_used": ", ".join(
+                             f"{100 * e:.2f} %" for e in c["eta"])}
+                            if "eta" in c else {})))
         for j, e in enumerate(t["exts"]):
             rows.append(_row(case, f"{t['name']}/{H[e['header']]}", "extraction",
                              t["name"], H[e["header"]], e["mode"], x[e["var"]],

@@ -333,6 +333,10 @@ def random_model(seed: int, n_headers: int = 4, n_items: int | None = None, *,
     b.finish_shares()
     _pump_drive(b, random.Random(seed * 1_000_003 + 17))
     _drums(b, random.Random(seed * 1_000_003 + 29))
+    wet = random.Random(seed * 1_000_003 + 41)      # (a generator of its own again)
+    for x in b.doc.get("extraction_turbine", []):
+        if "condenser_pressure" in x and wet.random() < 0.3:
+            x["moisture_correction"] = True             # Baumann rule on its sections
     _cases(b, rng.randint(0, 3) if n_cases is None else n_cases)
     return b.doc
 

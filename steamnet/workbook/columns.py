@@ -168,6 +168,7 @@ KNOWN: dict[str, Column] = {c.key: c for c in [
     _k("power_kw", "Power [kW]"),
     _k("shaft_power_kw", "Shaft power [kW]"),
     _k("internal_power_kw", "Internal power [kW]"),
+    _k("section_efficiencies_used", "Section efficiencies used", "text"),
     _k("duty_mw", "Heat duty [MW]"),
     _k("fuel_mw", "Fuel duty [MW]"),
     _k("min_t_h", "Minimum flow [t/h]"),

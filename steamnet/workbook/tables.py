@@ -28,6 +28,7 @@ EQUIPMENT_KEYS = ["item", "type", "from", "to", "mode", "service", "flow_t_h", "
                   "limit", "t_out_degc", "t_set_degc", "setpoint_reachable",
                   "exhaust_quality", "quality_below_limit", "steam_out_t_h",
                   "shaft_power_kw", "internal_power_kw", "isentropic_efficiency",
+                  "section_efficiencies_used",
                   "exhaust_t_h", "condenser_duty_mw", "h_out_kj_kg", "feedwater_t_h",
                   "blowdown_t_h", "drum_p_barg", "drum_pressure_from", "makeup_t_h", "vent_t_h", "condensate_return_t_h",
                   "drive", "group"]
