@@ -280,7 +280,18 @@ def check_solved(model, result, *, rel: float = 1e-6) -> list[str]:
         pressures = [P[t.inlet]] + [P[e.header] for e in t.extractions]
         pressures.append(P[t.exhaust] if t.exhaust is not None else t.condenser_pressure)
         hs = [H[t.inlet]]
-        for j, eta in enumerate(t.section_efficiencies):
+        eta_mg = t.mechanical_efficiency * (t.generator_efficiency
+                                            if t.drive == "generator" else 1.0)
+        if t.section_willans_no_load is not None:
+            # Willans lines: section output (m_j - m0_j) / k_j, none below no-load
+            flows = [s1] + [s1 - sum(eq[("extraction", f"{n}/{e.header}")]["flow_t_h"]
+                                     / TH for e in t.extractions[:i + 1])
+                            for i in range(len(t.extractions))]
+            for m_j, m0, k in zip(flows, t.section_willans_no_load,
+                                  t.section_willans_slope):
+                w = max(0.0, (m_j - m0) / k) if m_j > 0 else 0.0
+                hs.append(hs[-1] - (w / (eta_mg * m_j) if m_j > 0 else 0.0))
+        for j, eta in enumerate(t.section_efficiencies or ()):
             if t.moisture_correction:
                 hs.append(expand_wet(pressures[j], hs[-1], pressures[j + 1], eta))
             else:

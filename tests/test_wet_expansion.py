@@ -12,13 +12,10 @@ from __future__ import annotations
 
 import math
 
-import pytest
-from click.testing import CliRunner
 from scipy.optimize import brentq
 
 import if97_ref as ref
-from helpers import barg, degc, equip, j_kg, kg_s, solve, t_h
-from steamnet.cli import main
+from helpers import barg, check_refuses, degc, equip, j_kg, kg_s, solve, t_h
 from test_equipment_balances import xturbine_net
 
 REL = 1e-9
@@ -77,10 +74,5 @@ def test_moisture_correction_needs_a_condenser(tmp_path):
         '[[extraction_turbine.extractions]]\nheader = "MP"\nmode = "swing"\n', '').replace(
         'section_efficiencies = ["78 %", "72 %"]',
         'section_efficiencies = ["78 %"]\nextractions = []')
-    path = tmp_path / "wet.toml"
-    path.write_text(text, encoding="utf-8")
-    result = CliRunner().invoke(main, ["check", str(path)])
-    assert result.exit_code == 2, result.output
-    where = f"error: {path}: extraction turbine 'TX': field 'moisture_correction'"
-    assert any(ln.startswith(where) and "condensing" in ln
-               for ln in result.stderr.splitlines()), result.stderr
+    check_refuses(tmp_path, text, "extraction turbine 'TX'", "moisture_correction",
+                  "condensing")

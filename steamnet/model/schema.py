@@ -456,9 +456,16 @@ class ExtractionTurbine(_Item):
                                  "exhaust); or give condenser_pressure")
     condenser_pressure: Pressure | None = Field(None, description="condenser pressure "
                                                 "[Pa]")
-    section_efficiencies: list[Fraction] = Field(
-        description="isentropic efficiency of each section, inlet section first; one "
-        "more than there are extractions [-]")
+    section_efficiencies: list[Fraction] | None = Field(
+        None, description="isentropic efficiency of each section, inlet section first; "
+        "one more than there are extractions; or give the sections' Willans lines [-]")
+    section_willans_no_load: list[Flow] | None = Field(
+        None, description="Willans line of each section, inlet section first: steam "
+        "through the section at zero output [kg/s]")
+    section_willans_slope: list[SteamRate] | None = Field(
+        None, description="Willans line of each section: extra steam through the "
+        "section per unit of its output (electric for a generator, shaft for a "
+        "mechanical drive) [kg/J]")
     drive: Literal["generator", "mechanical"] = "generator"
     mechanical_efficiency: Fraction = 1.0
     generator_efficiency: Fraction = 1.0
@@ -494,12 +501,34 @@ class ExtractionTurbine(_Item):
         for f in ("mechanical_efficiency", "generator_efficiency", "min_exhaust_quality"):
             _check_fraction(getattr(self, f), f)
         _check_fraction(self.condensate_return, "condensate_return", allow_zero=True)
-        for e in self.section_efficiencies:
+        lines = (self.section_willans_no_load, self.section_willans_slope)
+        if any(v is not None for v in lines) and not all(v is not None for v in lines):
+            raise FieldError("section_willans_slope", "the sections' Willans lines need "
+                             "both section_willans_no_load and section_willans_slope")
+        willans = lines[0] is not None
+        if willans == (self.section_efficiencies is not None):
+            raise FieldError("section_efficiencies", "give section_efficiencies, or the "
+                             "sections' Willans lines (section_willans_no_load and "
+                             "section_willans_slope), one of the two")
+        for e in self.section_efficiencies or ():
             _check_fraction(e, "section_efficiencies")
-        if len(self.section_efficiencies) != len(self.extractions) + 1:
-            raise FieldError("section_efficiencies", f"{len(self.extractions)} extraction(s) need "
-                             f"{len(self.extractions) + 1} section_efficiencies, got "
-                             f"{len(self.section_efficiencies)}")
+        for f in (("section_willans_no_load", "section_willans_slope") if willans
+                  else ("section_efficiencies",)):
+            got = len(getattr(self, f))
+            if got != len(self.extractions) + 1:
+                raise FieldError(f, f"{len(self.extractions)} extraction(s) need "
+                                 f"{len(self.extractions) + 1} {f}, got {got}")
+        if willans:
+            if any(not v >= 0 for v in self.section_willans_no_load):
+                raise FieldError("section_willans_no_load", "section_willans_no_load "
+                                 "must not be negative")
+            if any(not v > 0 for v in self.section_willans_slope):
+                raise FieldError("section_willans_slope", "section_willans_slope must "
+                                 "be positive")
+            if self.moisture_correction:
+                raise FieldError("moisture_correction", "a Willans line is the "
+                                 "section's measured steam use, wet stages included: no "
+                                 "moisture correction on top of it")
         if (self.exhaust is None) == (self.condenser_pressure is None):
             raise FieldError("exhaust", "give exactly one of 'exhaust' (a header) and "
                              "'condenser_pressure'")

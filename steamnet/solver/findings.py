@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from ..calc.turbine import section_flows
 from ..units import T_H
 from .network import INF, Coeffs, Net, group_bounds as _group_bounds, header_inflows
 from .reference import _header_terms
@@ -194,8 +195,8 @@ def derived_findings(net: Net, co: Coeffs, x: np.ndarray, tol: float) -> list[di
                 out.append({"kind": "infeasible", "header": net.headers[t["inlet"]],
                             "side": "turbine", "amount_kg_s": m, "limits": [],
                             "message": f"turbine '{t['name']}' needs {fmt_th(m)} for its "
-                            f"{'pump' if t['mode'] == 'pump' else 'fixed power'}, outside its range {fmt_th(it.min_flow)} to "
-                            f"{fmt_th(hi)}"})
+                            f"{'pump' if t['mode'] == 'pump' else 'fixed power'}, outside "
+                            f"its range {fmt_th(it.min_flow)} to {fmt_th(hi)}"})
     for t, c in zip(net.xturbines, co.xturb):
         it = t["item"]
         s1 = x[t["in_var"]]
@@ -212,6 +213,15 @@ def derived_findings(net: Net, co: Coeffs, x: np.ndarray, tol: float) -> list[di
         for e in t["exts"]:
             if x[e["var"]] < -tol:
                 bad.append(f"extraction to '{net.headers[e['header']]}' negative")
+        wl = t["willans"]
+        if wl is not None and t["mode"] == "fixed_power":
+            # the fixed-power row follows the lines linearly, below no-load too
+            flows = section_flows(s1, [x[e["var"]] for e in t["exts"]])
+            for j, (m, m0) in enumerate(zip(flows, wl["m0"])):
+                if m < m0 - tol:
+                    bad.append(f"section {j + 1} carries {fmt_th(m)}, below its Willans "
+                               f"no-load flow {fmt_th(m0)}: its line would give negative "
+                               "power")
         if bad:
             out.append({"kind": "infeasible", "header": net.headers[t["inlet"]],
                         "side": "turbine", "amount_kg_s": 0.0, "limits": bad,

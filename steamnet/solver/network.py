@@ -17,6 +17,7 @@ from dataclasses import dataclass, field, replace
 from .. import properties as props
 from ..calc.desuperheater import spray_ratio
 from ..calc.pump import pump_work
+from ..calc.turbine import section_flows
 from ..errors import ItemPropertyError, PropertyRangeError  # noqa: F401 (re-exported)
 from ..model.schema import VENT_RANK
 
@@ -262,9 +263,18 @@ def build(model, like: Net | None = None) -> Net:
             else:
                 cond_h = _prop(f"extraction turbine '{n}'", props.saturation,
                                t.condenser_pressure).hf
+        willans = None
+        if t.section_willans_no_load is not None:
+            # section output (m_j - m0_j) / k_j: its internal power times eta_mg
+            m0s, ks = list(t.section_willans_no_load), list(t.section_willans_slope)
+            willans = {"m0": m0s, "k": ks, "coef": [1.0 / (k * eta_mg) for k in ks],
+                       "rhs": sum(m0 / (k * eta_mg) for m0, k in zip(m0s, ks))}
         xturbines.append({"name": n, "in_var": vin, "inlet": hidx[t.inlet], "exts": exts,
                           "exhaust": None if t.exhaust is None else hidx[t.exhaust],
-                          "pressures": pressures, "etas": list(t.section_efficiencies),
+                          "pressures": pressures,
+                          "etas": (list(t.section_efficiencies)
+                                   if t.section_efficiencies is not None else None),
+                          "willans": willans,
                           "eta_mg": eta_mg, "mode": t.mode, "item": t,
                           "ret": t.condensate_return if t.exhaust is None else 0.0,
                           "cond_h": cond_h})
@@ -417,6 +427,36 @@ def expansion(item: str, p_in: float, h_in: float, p_out: float, eta: float) -> 
             "s_in": st_in.s}
 
 
+def _willans_sections(t: dict, h: list[float], x) -> dict:
+    """Section drops of an extraction turbine whose sections follow Willans lines: the
+    section's output (m_j - m0_j) / k_j (none below its no-load flow) over eta_mg is
+    its internal power, m_j dh_j; section flows from the last flows ``x`` (before the
+    first, the fixed throttle flow or twice the largest no-load flow, no extraction)."""
+    wl, it = t["willans"], t["item"]
+    if x is not None:
+        flows = section_flows(x[t["in_var"]], [x[e["var"]] for e in t["exts"]])
+    else:
+        flows = [it.flow if it.flow else max(2 * max(wl["m0"]), 1.0)] * len(wl["k"])
+    hs, dhs = [h[t["inlet"]]], []
+    for m, m0, k in zip(flows, wl["m0"], wl["k"]):
+        dh = max(0.0, (m - m0) / k) / (t["eta_mg"] * m) if m > 0 else 0.0
+        hs.append(hs[-1] - dh)
+        dhs.append(dh)
+    return {"h": hs, "dh": dhs, "flows": flows}
+
+
+def power_row(t: dict, c: dict) -> tuple[list[float], float]:
+    """The equation of a fixed-power extraction turbine ``t`` (a Net entry) at its
+    coefficients ``c``: sum over its sections of coef_j x section flow_j = rhs. With
+    efficiencies, coef_j is the section's drop and rhs the internal power; with
+    Willans lines, sum_j (m_j - m0_j) / (k_j eta_mg) = power / eta_mg, linear in the
+    flows with constant coefficients."""
+    wl = t["willans"]
+    if wl is None:
+        return c["dh"], t["item"].power / t["eta_mg"]
+    return wl["coef"], t["item"].power / t["eta_mg"] + wl["rhs"]
+
+
 def wet_expansion(item: str, p_in: float, p_out: float, ex: dict, eta: float) -> dict:
     """The section ``ex`` (from :func:`expansion` at efficiency ``eta``) with its
     efficiency lowered by the Baumann rule: eta (1 - y_mean), y_mean the mean of the
@@ -474,6 +514,9 @@ def coefficients(net: Net, h: list[float], x: list[float] | None) -> Coeffs:
         name = f"extraction turbine '{t['name']}'"
         hs = [h[t["inlet"]]]
         dhs = []
+        if t["willans"] is not None:
+            xturb.append(_willans_sections(t, h, x))
+            continue
         wet = t["item"].moisture_correction
         used = []
         for j, eta in enumerate(t["etas"]):

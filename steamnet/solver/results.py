@@ -219,6 +219,22 @@ def _power_columns(internal: float, item) -> dict:
             "shaft_power_kw": internal * item.mechanical_efficiency / 1e3}
 
 
+def _sections_used(t: dict, c: dict) -> dict:
+    """The efficiency each section of an extraction turbine ran at, when it is not
+    simply the model's: after the moisture correction, or implied by the sections'
+    Willans lines (drop over isentropic drop); nothing otherwise."""
+    etas = c.get("eta")
+    if t["willans"] is not None:
+        etas = []
+        for j, dh in enumerate(c["dh"]):
+            p0, p1, h0 = t["pressures"][j], t["pressures"][j + 1], c["h"][j]
+            drop_is = h0 - props.state_ps(p1, props.state_ph(p0, h0).s).h
+            etas.append(dh / drop_is if drop_is > 0 else math.nan)
+    if etas is None:
+        return {}
+    return {"section_efficiencies_used": ", ".join(f"{100 * e:.2f} %" for e in etas)}
+
+
 def _limit_state(value, lo, hi, tol=1e-7):
     if hi is not None and math.isfinite(hi) and value >= hi - tol * max(1, hi):
         return "at maximum"
@@ -304,9 +320,7 @@ def equipment_rows(sol: Solution, case: str) -> list[dict]:
                          load_percent=(100 * s / it.max_flow if it.max_flow else np.nan),
                          limit=_limit_state(s, it.min_flow, it.max_flow),
                          quality_below_limit=bool(st_ex.is_wet and q < it.min_exhaust_quality),
-                         **({"section_efficiencies_used": ", ".join(
-                             f"{100 * e:.2f} %" for e in c["eta"])}
-                            if "eta" in c else {})))
+                         **_sections_used(t, c)))
         for j, e in enumerate(t["exts"]):
             rows.append(_row(case, f"{t['name']}/{H[e['header']]}", "extraction",
                              t["name"], H[e["header"]], e["mode"], x[e["var"]],
