@@ -206,3 +206,20 @@ blowdown = "0 %"
 max_steam = "{max_steam}"
 priority = {priority}
 """
+
+
+def check_refuses(tmp_path, text: str, item: str, field: str, words: str) -> None:
+    """``steamnet check`` of the model ``text`` exits 2, without a traceback, with an
+    error line naming the file, ``item`` (e.g. "boiler 'B1'") and ``field`` and
+    containing ``words``."""
+    from click.testing import CliRunner
+
+    from steamnet.cli import main
+    path = tmp_path / "refused.toml"
+    path.write_text(text, encoding="utf-8")
+    result = CliRunner().invoke(main, ["check", str(path)])
+    assert result.exit_code == 2, result.output
+    assert "Traceback" not in result.output
+    where = f"error: {path}: {item}: field '{field}'"
+    assert any(ln.startswith(where) and words in ln
+               for ln in result.stderr.splitlines()), result.stderr

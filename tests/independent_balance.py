@@ -7,14 +7,16 @@ equations, accurate to about 10 mK (about 1e-3 of an isentropic drop), so the
 temperature they give is refined here by Newton steps on the forward h(P, T) or s(P, T)
 until it matches to about 1e-12. The equipment equations are those of
 docs/method.md, "Equipment equations" (throttling, spray desuperheater, isentropic
-expansion, Willans line, boiler blowdown and flash, deaerator), written out again here.
+expansion with or without the moisture correction, Willans line, boiler blowdown and
+flash at the drum pressure, turbine-driven pump, deaerator), written out again here.
 
 What is checked, for one case:
 
 * every header's mass and energy balance, from the flows in the equipment table and
   enthalpies recomputed from the inputs (boiler outlets, imports, turbine expansion
   lines, desuperheater outlets, blowdown flash), to ``rel`` of the header's throughput;
-* spray flows, duty-based user flows, fixed-power turbine outputs against the tables;
+* spray flows, duty-based user flows, fixed-power turbine outputs against the tables,
+  a pump turbine's output against the pump it drives;
 * the deaerator's mass and energy balances and the plant water balance;
 * no negative flow, and every flow within the limits of its item.
 
@@ -100,6 +102,44 @@ def expand(p_in: float, h_in: float, p_out: float, eta: float) -> float:
     return h_in - eta * (h_in - h_is)
 
 
+def _moisture(p: float, h: float) -> float:
+    s = sat(p)
+    return max(0.0, (s["hg"] - h) / (s["hg"] - s["hf"]))
+
+
+def expand_wet(p_in: float, h_in: float, p_out: float, eta: float) -> float:
+    """Outlet enthalpy of an expansion whose efficiency is eta (1 - mean moisture),
+    the mean of inlet and outlet moisture (Baumann rule, common practice, no source),
+    found by a root search on the implicit outlet state."""
+    from scipy.optimize import brentq
+    h_is = h_ps(p_out, s_ph(p_in, h_in))
+    y_in = _moisture(p_in, h_in)
+
+    def gap(h_out):
+        return h_in - eta * (1 - (y_in + _moisture(p_out, h_out)) / 2) * (h_in - h_is) \
+            - h_out
+    return brentq(gap, h_is, h_in, xtol=1e-9, rtol=1e-15)
+
+
+def _pump_power(model, eq, turbine: str) -> float:
+    """Power [W] of the pump ``turbine`` drives: v dP / eta times the feedwater and
+    spray its supply delivers, read from the equipment table."""
+    ws = next(w for w in model.table("water_supply").values()
+              if w.pump_turbine == turbine)
+    da = next(iter(model.table("deaerator").values()))
+    s = sat(da.pressure)
+    w = s["vf"] * (ws.pressure - da.pressure) / ws.pump_efficiency
+    m = 0.0
+    for (typ, name), r in eq.items():
+        if typ == "boiler" and model.table("boiler")[name].feedwater == ws.name:
+            m += r["feedwater_t_h"] / TH
+        elif typ == "letdown":
+            d = model.table("letdown")[name].desuperheater
+            if d is not None and d.spray_supply == ws.name:
+                m += r["spray_t_h"] / TH
+    return w * m
+
+
 def liquid_h(t: float, p_da: float) -> float:
     """Returned condensate at ``t`` as the model defines it: liquid at the deaerator
     pressure, or just above its own saturation pressure when it is hotter than
@@ -179,7 +219,8 @@ def check_solved(model, result, *, rel: float = 1e-6) -> list[str]:
         close(eq[("boiler", n)]["feedwater_t_h"] / TH, fw, fw, f"boiler '{n}' feedwater")
         flash = 0.0
         if b.blowdown_flash_header is not None:
-            sb, sf = sat(P[b.header]), sat(P[b.blowdown_flash_header])
+            drum = b.drum_pressure if b.drum_pressure is not None else P[b.header]
+            sb, sf = sat(drum), sat(P[b.blowdown_flash_header])
             frac = max(0.0, (sb["hf"] - sf["hf"]) / (sf["hg"] - sf["hf"]))
             flash = bd * frac
             bal.into(b.blowdown_flash_header, flash, sf["hg"])
@@ -223,9 +264,12 @@ def check_solved(model, result, *, rel: float = 1e-6) -> list[str]:
         power = m * (h_in - h_out) * eta_mg
         if t.mode == "fixed_power":
             close(power, t.power, t.power, f"turbine '{n}' power")
+        if t.mode == "pump":      # the power of the pump it drives, from the tables
+            pump = _pump_power(model, eq, n)
+            close(power, pump, max(pump, 1e3), f"turbine '{n}' power against its pump")
         close(eq[("turbine", n)]["power_kw"] * 1e3, power, max(power, 1e3),
               f"turbine '{n}' reported power")
-        lo = t.min_flow if t.mode in ("swing", "fixed_power") else 0.0
+        lo = t.min_flow if t.mode in ("swing", "fixed_power", "pump") else 0.0
         _limit(probs, f"turbine '{n}'", m, lo, t.max_flow,
                fixed=t.flow if t.mode == "fixed_flow" else None)
 
@@ -236,8 +280,22 @@ def check_solved(model, result, *, rel: float = 1e-6) -> list[str]:
         pressures = [P[t.inlet]] + [P[e.header] for e in t.extractions]
         pressures.append(P[t.exhaust] if t.exhaust is not None else t.condenser_pressure)
         hs = [H[t.inlet]]
-        for j, eta in enumerate(t.section_efficiencies):
-            hs.append(expand(pressures[j], hs[-1], pressures[j + 1], eta))
+        eta_mg = t.mechanical_efficiency * (t.generator_efficiency
+                                            if t.drive == "generator" else 1.0)
+        if t.section_willans_no_load is not None:
+            # Willans lines: section output (m_j - m0_j) / k_j, none below no-load
+            flows = [s1] + [s1 - sum(eq[("extraction", f"{n}/{e.header}")]["flow_t_h"]
+                                     / TH for e in t.extractions[:i + 1])
+                            for i in range(len(t.extractions))]
+            for m_j, m0, k in zip(flows, t.section_willans_no_load,
+                                  t.section_willans_slope):
+                w = max(0.0, (m_j - m0) / k) if m_j > 0 else 0.0
+                hs.append(hs[-1] - (w / (eta_mg * m_j) if m_j > 0 else 0.0))
+        for j, eta in enumerate(t.section_efficiencies or ()):
+            if t.moisture_correction:
+                hs.append(expand_wet(pressures[j], hs[-1], pressures[j + 1], eta))
+            else:
+                hs.append(expand(pressures[j], hs[-1], pressures[j + 1], eta))
         bal.out(t.inlet, s1)
         section, shaft = s1, 0.0
         for j, e in enumerate(t.extractions):

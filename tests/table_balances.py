@@ -12,7 +12,10 @@ from helpers import j_kg, kg_s
 
 
 def _rows(eq: pd.DataFrame, types, column, value) -> pd.DataFrame:
-    return eq[eq["type"].isin(types) & (eq[column] == value)]
+    """The rows of running items (an idle one keeps its row at zero flow, without a
+    state: docs/results.md) of ``types`` whose ``column`` is ``value``."""
+    return eq[eq["type"].isin(types) & (eq[column] == value)
+              & (eq["service"] == "in service")]
 
 
 def _flash(m, eq):
@@ -23,7 +26,8 @@ def _flash(m, eq):
         if b.blowdown_flash_header is None or name not in set(eq["item"]):
             continue
         bd = kg_s(equip_row(eq, name).blowdown_t_h)
-        hi = ref.sat(m.headers[b.header].pressure)
+        hi = ref.sat(b.drum_pressure if b.drum_pressure is not None
+                     else m.headers[b.header].pressure)        # the drum's water
         lo = ref.sat(m.headers[b.blowdown_flash_header].pressure)
         out.append((b.blowdown_flash_header, bd * (hi.hf - lo.hf) / lo.hfg))
     return out

@@ -119,8 +119,8 @@ def test_every_limit_respected(solved, path, case):
     for n, t in m.table("turbine").items():
         if t.in_service and t.mode != "tripped":
             _check_range(n, kg_s(eq.loc[n, "flow_t_h"]), t.min_flow, t.max_flow)
-        else:
-            assert n not in eq.index            # a tripped turbine passes nothing
+        else:                                   # a tripped turbine passes nothing
+            assert eq.loc[n, "flow_t_h"] == 0.0 and eq.loc[n, "service"] != "in service"
     for n, t in m.table("extraction_turbine").items():
         if not t.in_service or t.mode == "tripped":
             continue

@@ -86,7 +86,8 @@ def test_cap_and_accuracy_are_respected():
 def limit_values(model, result) -> list[tuple[str, float, float, bool]]:
     """(name, value, limit, upper) of every limit of the demo's moving elements, read
     from the items and the equipment table (t/h)."""
-    eq = result.equipment.set_index("item")
+    eq = result.equipment
+    eq = eq[eq["service"] == "in service"].set_index("item")   # idle items move nothing
     out = []
 
     def add(name, value, limit, upper=True):
@@ -96,7 +97,7 @@ def limit_values(model, result) -> list[tuple[str, float, float, bool]]:
         if b.mode == "swing" and n in eq.index:
             add(f"boiler.{n}.max_steam", eq.at[n, "flow_t_h"], b.max_steam)
     for n, t in model.table("turbine").items():
-        if t.mode in ("swing", "fixed_power") and n in eq.index:
+        if t.mode in ("swing", "fixed_power", "pump") and n in eq.index:
             add(f"turbine.{n}.max_flow", eq.at[n, "flow_t_h"], t.max_flow)
             if t.min_flow > 0:
                 add(f"turbine.{n}.min_flow", eq.at[n, "flow_t_h"], t.min_flow, False)

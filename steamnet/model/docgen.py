@@ -70,6 +70,18 @@ def _kind_of(info: FieldInfo) -> Kind | None:
     return None
 
 
+def _list_item_kind(ann) -> Kind | None:
+    """The quantity kind of the items of a list annotation (``list[Flow] | None``)."""
+    for arg in (ann, *typing.get_args(ann)):
+        if typing.get_origin(arg) is list:
+            for meta in getattr(typing.get_args(arg)[0], "__metadata__", ()):
+                func = getattr(meta, "func", None)
+                for cell in (func.__closure__ or ()) if func is not None else ():
+                    if isinstance(cell.cell_contents, Kind):
+                        return cell.cell_contents
+    return None
+
+
 def _type_text(info: FieldInfo) -> str:
     kind = _kind_of(info)
     if kind is not None:
@@ -91,7 +103,12 @@ def _type_text(info: FieldInfo) -> str:
     name = getattr(ann, "__name__", str(ann))
     if "list" in str(ann):
         see_below = any(k in str(ann) for k in ("Extraction", "Relief"))
-        return "list (see below)" if see_below else "list of fractions"
+        item = _list_item_kind(ann)
+        if see_below:
+            return "list (see below)"
+        if item is None or item is Kind.FRACTION:
+            return "list of fractions"
+        return "list, each a " + _KIND_UNITS[item]
     if "dict" in str(ann):
         return "table"
     return name.replace("NoneType", "").strip("| ")

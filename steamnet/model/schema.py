@@ -268,9 +268,21 @@ class WaterSupply(_Item):
     pump_efficiency: Fraction | None = Field(
         None, description="pump efficiency; when given, the pump work v dP / efficiency "
         "heats the water and is reported [-]")
+    pump_turbine: Name | None = Field(
+        None, description="the [[turbine]] (drive 'mechanical', mode 'pump') that drives "
+        "this supply's pump: its power follows the pumped flow, and the pump's power is "
+        "not charged as electricity; needs pump_efficiency. While that turbine is "
+        "tripped or out of service the pump counts as motor-driven")
 
     def check(self) -> None:
         _check_fraction(self.pump_efficiency, "pump_efficiency")
+        if self.pump_turbine is not None and self.source != "deaerator":
+            raise FieldError("pump_turbine", "a turbine-driven pump is a feedwater pump "
+                             "at the deaerator outlet: use source = 'deaerator'")
+        if self.pump_turbine is not None and self.pump_efficiency is None:
+            raise FieldError("pump_turbine", "a turbine-driven pump needs its "
+                             "pump_efficiency (the turbine's power is v dP / efficiency "
+                             "times the pumped flow)")
         if self.source == "external" and self.temperature is None:
             raise FieldError("temperature", "an external water supply needs its temperature")
         if self.source == "deaerator" and self.temperature is not None:
@@ -304,6 +316,11 @@ class Boiler(_Item):
                                            "[currency/J]")
     blowdown_flash_header: Name | None = Field(
         None, description="header receiving flash steam from the blowdown, if any")
+    drum_pressure: Pressure | None = Field(
+        None, description="pressure of the steam drum, where the blowdown leaves as "
+        "saturated water (its enthalpy and its flash follow from it); default the "
+        "header pressure (the drum runs above it by the superheater's and the line's "
+        "pressure drop) [Pa]")
     in_service: bool = True
 
     def check(self) -> None:
@@ -345,7 +362,7 @@ class SteamTransfer(_Item):
 
 
 # ------------------------------------------------------------------------- turbines
-_TURBINE_MODES = Literal["fixed_flow", "fixed_power", "swing", "tripped"]
+_TURBINE_MODES = Literal["fixed_flow", "fixed_power", "swing", "pump", "tripped"]
 
 
 class Turbine(_Item):
@@ -367,7 +384,8 @@ class Turbine(_Item):
     generator_efficiency: Fraction = 1.0
     mode: _TURBINE_MODES = Field(
         "fixed_flow", description="'fixed_flow', 'fixed_power', 'swing' (holds the "
-        "exhaust header) or 'tripped'")
+        "exhaust header), 'pump' (drives the pump of the water supply that names it in "
+        "'pump_turbine': its power is that pump's) or 'tripped'")
     flow: Flow | None = Field(None, description="steam flow in fixed_flow mode [kg/s]")
     power: Power | None = Field(None, description="output in fixed_power mode: electric "
                                 "for a generator, shaft for a mechanical drive [W]")
@@ -399,6 +417,12 @@ class Turbine(_Item):
             raise FieldError("flow", "mode 'fixed_flow' needs 'flow'")
         if self.mode == "fixed_power" and self.power is None:
             raise FieldError("power", "mode 'fixed_power' needs 'power'")
+        if self.mode == "pump" and self.drive != "mechanical":
+            raise FieldError("drive", "mode 'pump' is a mechanical drive: give drive = "
+                             "'mechanical'")
+        if self.mode == "pump" and self.power is not None:
+            raise FieldError("power", "mode 'pump' takes its power from the pump it "
+                             "drives: remove 'power'")
 
 
 class Extraction(_Item):
@@ -432,9 +456,16 @@ class ExtractionTurbine(_Item):
                                  "exhaust); or give condenser_pressure")
     condenser_pressure: Pressure | None = Field(None, description="condenser pressure "
                                                 "[Pa]")
-    section_efficiencies: list[Fraction] = Field(
-        description="isentropic efficiency of each section, inlet section first; one "
-        "more than there are extractions [-]")
+    section_efficiencies: list[Fraction] | None = Field(
+        None, description="isentropic efficiency of each section, inlet section first; "
+        "one more than there are extractions; or give the sections' Willans lines [-]")
+    section_willans_no_load: list[Flow] | None = Field(
+        None, description="Willans line of each section, inlet section first: steam "
+        "through the section at zero output [kg/s]")
+    section_willans_slope: list[SteamRate] | None = Field(
+        None, description="Willans line of each section: extra steam through the "
+        "section per unit of its output (electric for a generator, shaft for a "
+        "mechanical drive) [kg/J]")
     drive: Literal["generator", "mechanical"] = "generator"
     mechanical_efficiency: Fraction = 1.0
     generator_efficiency: Fraction = 1.0
@@ -455,18 +486,49 @@ class ExtractionTurbine(_Item):
     condensate_temperature: Temperature | None = Field(
         None, description="temperature of the returned condensate; default saturation "
         "at the condenser pressure [K]")
+    moisture_correction: bool = Field(
+        False, description="lower each section's efficiency for the moisture of its "
+        "expansion, 1 % per 1 % of the mean of its inlet and outlet moisture (Baumann "
+        "rule, common practice; the maker's wet-stage data win); condensing turbines "
+        "only; off by default")
     in_service: bool = True
 
     def check(self) -> None:
+        if self.moisture_correction and self.condenser_pressure is None:
+            raise FieldError("moisture_correction", "the moisture correction is for a "
+                             "condensing turbine (give condenser_pressure), whose last "
+                             "sections expand into wet steam")
         for f in ("mechanical_efficiency", "generator_efficiency", "min_exhaust_quality"):
             _check_fraction(getattr(self, f), f)
         _check_fraction(self.condensate_return, "condensate_return", allow_zero=True)
-        for e in self.section_efficiencies:
+        lines = (self.section_willans_no_load, self.section_willans_slope)
+        if any(v is not None for v in lines) and not all(v is not None for v in lines):
+            raise FieldError("section_willans_slope", "the sections' Willans lines need "
+                             "both section_willans_no_load and section_willans_slope")
+        willans = lines[0] is not None
+        if willans == (self.section_efficiencies is not None):
+            raise FieldError("section_efficiencies", "give section_efficiencies, or the "
+                             "sections' Willans lines (section_willans_no_load and "
+                             "section_willans_slope), one of the two")
+        for e in self.section_efficiencies or ():
             _check_fraction(e, "section_efficiencies")
-        if len(self.section_efficiencies) != len(self.extractions) + 1:
-            raise FieldError("section_efficiencies", f"{len(self.extractions)} extraction(s) need "
-                             f"{len(self.extractions) + 1} section_efficiencies, got "
-                             f"{len(self.section_efficiencies)}")
+        for f in (("section_willans_no_load", "section_willans_slope") if willans
+                  else ("section_efficiencies",)):
+            got = len(getattr(self, f))
+            if got != len(self.extractions) + 1:
+                raise FieldError(f, f"{len(self.extractions)} extraction(s) need "
+                                 f"{len(self.extractions) + 1} {f}, got {got}")
+        if willans:
+            if any(not v >= 0 for v in self.section_willans_no_load):
+                raise FieldError("section_willans_no_load", "section_willans_no_load "
+                                 "must not be negative")
+            if any(not v > 0 for v in self.section_willans_slope):
+                raise FieldError("section_willans_slope", "section_willans_slope must "
+                                 "be positive")
+            if self.moisture_correction:
+                raise FieldError("moisture_correction", "a Willans line is the "
+                                 "section's measured steam use, wet stages included: no "
+                                 "moisture correction on top of it")
         if (self.exhaust is None) == (self.condenser_pressure is None):
             raise FieldError("exhaust", "give exactly one of 'exhaust' (a header) and "
                              "'condenser_pressure'")

@@ -18,7 +18,7 @@ from ..graph import steam_reach
 from .model import Model
 from .schema import ITEM_LABELS, VENT_RANK
 
-__all__ = ["validate_model", "swing_elements"]
+__all__ = ["validate_model", "swing_elements", "willans_max_efficiency"]
 
 
 def _on(item) -> bool:
@@ -143,6 +143,7 @@ def validate_model(model: Model) -> None:
                         "at the supply pressure")
             except PropertyRangeError as exc:
                 err("water_supply", n, "temperature", str(exc))
+    _check_pump_turbines(model, err)
     # -------------------------------------------------------------------- boilers
     for n, b in model.table("boiler").items():
         ok = need_header("boiler", n, "header", b.header)
@@ -159,6 +160,15 @@ def validate_model(model: Model) -> None:
         if ok:
             _check_superheated(err, "boiler", n, "steam_temperature", p(b.header),
                                b.steam_temperature)
+        if ok and b.drum_pressure is not None:
+            if b.drum_pressure < p(b.header):
+                err("boiler", n, "drum_pressure", "the drum pressure is below the header "
+                    "pressure: the steam flows from the drum through the superheater to "
+                    "the header")
+            elif not b.drum_pressure < props.P_CRIT:
+                err("boiler", n, "drum_pressure", f"{b.drum_pressure / 1e5:.4g} bar(a) "
+                    "is not below the critical pressure 220.64 bar(a): a drum holds "
+                    "water and steam at saturation (IAPWS-IF97)")
         if b.mode == "fixed" and b.max_steam is not None and b.steam > b.max_steam:
             err("boiler", n, "steam", "fixed steam is above max_steam")
     for n, t in model.table("steam_transfer").items():
@@ -207,6 +217,7 @@ def validate_model(model: Model) -> None:
             # goes to its header as steam)
             err("extraction_turbine", n, "condensate_return", "condensate is returned "
                 "but the model has no deaerator")
+    _check_section_willans(model, err)
     # ------------------------------------------------------------------- let-downs
     for n, s in model.table("letdown").items():
         a = need_header("letdown", n, "inlet", s.inlet)
@@ -253,6 +264,137 @@ def validate_model(model: Model) -> None:
     _check_reachability(model, errs, case)
     if errs:
         raise ModelErrors(errs)
+
+
+def willans_max_efficiency(no_load: float, slope: float, eta_mg: float,
+                           max_flow: float | None, dh_is: float) -> float:
+    """The largest isentropic efficiency a Willans line implies over its range [-].
+
+    The line m = m0 + k W gives the internal power W / eta_mg = (m - m0) / (k eta_mg),
+    so the implied efficiency (m - m0) / (k eta_mg m dh_is) rises with the flow m: its
+    largest value is at ``max_flow``, or 1 / (k eta_mg dh_is) without a maximum.
+
+    Parameters
+    ----------
+    no_load : float
+        Steam at zero output, m0 [kg/s]
+    slope : float
+        Extra steam per unit output, k [kg/J]
+    eta_mg : float
+        Mechanical (times generator) efficiency between internal power and output [-]
+    max_flow : float or None
+        Largest flow of the range [kg/s]
+    dh_is : float
+        Isentropic enthalpy drop of the expansion [J/kg]
+
+    Examples
+    --------
+    2 t/h no-load, 3 t/MWh, 110 t/h at most: 36 MW from a 400 kJ/kg drop
+
+    >>> round(willans_max_efficiency(2 / 3.6, 3e3 / 3.6e9, 1.0, 110 / 3.6, 400e3), 3)
+    2.945
+    """
+    if max_flow is None or not math.isfinite(max_flow):
+        return 1.0 / (slope * eta_mg * dh_is)
+    if max_flow <= no_load:
+        return 0.0
+    return (max_flow - no_load) / (slope * eta_mg * max_flow * dh_is)
+
+
+def _hottest_steam(model: Model) -> float | None:
+    """The hottest steam any boiler raises or any import brings [K], or None."""
+    ts = [b.steam_temperature for b in model.table("boiler").values()]
+    ts += [t.steam_temperature for t in model.table("steam_transfer").values()
+           if t.direction == "import" and t.steam_temperature is not None]
+    return max(ts, default=None)
+
+
+def _largest_drop(p_in: float, t_in: float, p_out: float) -> float | None:
+    """Isentropic drop from (p_in, t_in) to p_out [J/kg]: at a given inlet pressure it
+    grows with the inlet temperature, so from the hottest steam of the plant it bounds
+    every real one from above; None outside IAPWS-IF97 or when that steam is not
+    superheated at p_in."""
+    try:
+        if t_in <= props.t_sat(p_in):
+            return None
+        st = props.state_pt(p_in, t_in)
+        return st.h - props.state_ps(p_out, st.s).h
+    except PropertyRangeError:
+        return None
+
+
+def _check_section_willans(model: Model, err) -> None:
+    """The Willans line of an extraction turbine's section must not imply an
+    isentropic efficiency above 1 anywhere in its range, even from the hottest steam
+    the plant raises (docs/method.md, "extraction turbine")."""
+    t_max = _hottest_steam(model)
+    if t_max is None:
+        return
+    for n, t in model.table("extraction_turbine").items():
+        if t.section_willans_no_load is None:
+            continue
+        hdr = model.headers
+        ps = [hdr[t.inlet].pressure] + [hdr[e.header].pressure for e in t.extractions
+                                        if e.header in hdr]
+        if t.inlet not in hdr or len(ps) != len(t.extractions) + 1:
+            continue                       # a missing header is reported already
+        ps.append(t.condenser_pressure if t.exhaust is None
+                  else hdr[t.exhaust].pressure if t.exhaust in hdr else None)
+        if ps[-1] is None:
+            continue
+        eta_mg = t.mechanical_efficiency * (t.generator_efficiency
+                                            if t.drive == "generator" else 1.0)
+        for j, (m0, k) in enumerate(zip(t.section_willans_no_load,
+                                        t.section_willans_slope)):
+            top = t.max_flow
+            if j == len(t.extractions) and t.max_exhaust_flow is not None:
+                top = t.max_exhaust_flow if top is None else min(top, t.max_exhaust_flow)
+            drop = _largest_drop(ps[j], t_max, ps[j + 1])
+            if drop is None or not drop > 0:
+                continue
+            eta = willans_max_efficiency(m0, k, eta_mg, top, drop)
+            if eta > 1.0:
+                at = ("without a maximum flow" if top is None
+                      else f"at its maximum {top * T_H:.4g} t/h")
+                err("extraction_turbine", n, "section_willans_slope", f"section {j + 1}: "
+                    f"the Willans line implies an isentropic efficiency of {eta:.3g} "
+                    f"{at}, above 1 even from the hottest steam of the plant "
+                    f"({t_max - 273.15:.0f} degC): raise the slope or the no-load flow "
+                    "(the maker's data)")
+
+
+def _check_pump_turbines(model: Model, err) -> None:
+    """A water supply's ``pump_turbine`` names a mechanical-drive turbine in mode
+    'pump' (or tripped, or out of service: the pump then runs on its motor), and every
+    turbine in mode 'pump' drives exactly one supply's pump."""
+    turbines = model.table("turbine")
+    driven: dict[str, list[str]] = defaultdict(list)
+    for n, ws in model.table("water_supply").items():
+        tn = ws.pump_turbine
+        if tn is None:
+            continue
+        t = turbines.get(tn)
+        if t is None:
+            known = ", ".join(turbines) or "none"
+            err("water_supply", n, "pump_turbine", f"turbine '{tn}' does not exist "
+                f"(turbines: {known}); a pump is driven by a [[turbine]]")
+            continue
+        driven[tn].append(n)
+        if t.drive != "mechanical":
+            err("water_supply", n, "pump_turbine", f"turbine '{tn}' drives a "
+                "generator: a pump needs a turbine with drive = 'mechanical'")
+        elif t.mode not in ("pump", "tripped"):
+            err("water_supply", n, "pump_turbine", f"turbine '{tn}' is in mode "
+                f"'{t.mode}': a turbine driving a pump takes mode = 'pump' (its power "
+                "follows the pumped flow), or 'tripped'")
+    for tn, names in driven.items():
+        if len(names) > 1:
+            err("turbine", tn, "mode", "drives the pumps of water supplies "
+                f"{', '.join(repr(x) for x in names)}: one turbine drives one pump")
+    for tn, t in turbines.items():
+        if t.mode == "pump" and tn not in driven:
+            err("turbine", tn, "mode", "mode 'pump' but no water supply names this "
+                "turbine in its 'pump_turbine'")
 
 
 def _check_liquid_temperature(err, table, name, t) -> None:

@@ -20,7 +20,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .network import group_bounds
+from .network import group_bounds, power_row
 
 __all__ = ["Plan", "header_entries", "da_entries"]
 
@@ -194,7 +194,7 @@ class Plan:
         for k, t in enumerate(net.turbines):
             if t["var"] in self.grouped:
                 continue
-            if t["mode"] == "fixed_power":
+            if t["mode"] in ("fixed_power", "pump"):     # rhs: the flow its power needs
                 self.t_flow.append((len(rows), k))
                 rows.append([(t["var"], 1.0)])
                 rhs.append(0.0)
@@ -206,6 +206,13 @@ class Plan:
             if t["mode"] == "fixed_flow":
                 rows.append([(t["in_var"], 1.0)])
                 rhs.append(it.flow)
+            elif t["willans"] is not None:     # constant coefficients (power_row)
+                coef, row_rhs = power_row(t, None)
+                terms = [(t["in_var"], sum(coef))]
+                for i, e in enumerate(t["exts"]):
+                    terms.append((e["var"], -sum(coef[i + 1:])))
+                rows.append(terms)
+                rhs.append(row_rhs)
             else:
                 terms = [(t["in_var"], ("dh", k, 0))]
                 for i, e in enumerate(t["exts"]):

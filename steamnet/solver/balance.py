@@ -41,7 +41,7 @@ from .findings import (cold_findings, derived_findings, exhausted_findings, sequ
                        slack_findings)
 from .network import (INF, Coeffs, ItemPropertyError, Net, build, coefficients,
                       header_inflows)
-from .network import group_bounds as _group_bounds
+from .network import group_bounds as _group_bounds, power_row
 from .slack import beyond_limits, min_slack, slack_tolerance
 
 __all__ = ["solve_net", "Solution", "build"]
@@ -171,7 +171,7 @@ def _extraction_bounds(net: Net, co: Coeffs, x: "np.ndarray | list[float] | None
         return eff
     for t, c in zip(net.xturbines, co.xturb):
         it = t["item"]
-        dh = c["dh"]
+        dh, row_rhs = power_row(t, c) if t["mode"] == "fixed_power" else (c["dh"], 0.0)
         tot = sum(dh)
         for i, e in enumerate(t["exts"]):
             if e["mode"] != "swing":
@@ -182,7 +182,7 @@ def _extraction_bounds(net: Net, co: Coeffs, x: "np.ndarray | list[float] | None
             lo, hi = e["lo"], e["hi"]
             after_i = sum(dh[i + 1:])
             if t["mode"] == "fixed_power":
-                base = it.power / t["eta_mg"] + sum(val[j] * sum(dh[j + 1:])
+                base = row_rhs + sum(val[j] * sum(dh[j + 1:])
                                                     for j, o in others)
                 # throttle s1 = (base + e after_i) / tot ; exhaust = s1 - e - sum others
                 a_s1, b_s1 = after_i / tot, base / tot

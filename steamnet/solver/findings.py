@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from ..calc.turbine import section_flows
 from ..units import T_H
 from .network import INF, Coeffs, Net, group_bounds as _group_bounds, header_inflows
 from .reference import _header_terms
@@ -104,6 +105,8 @@ def _bound_text(net: Net, bal, vi: int, upper: bool) -> str | None:
             return f"{label} fixed at {fmt_th(lo)}"
         if any(t["var"] == vi and t["mode"] == "fixed_power" for t in net.turbines):
             return f"{label} at the flow its fixed power needs, {fmt_th(lo)}"
+        if any(t["var"] == vi and t["mode"] == "pump" for t in net.turbines):
+            return f"{label} at the flow its pump needs, {fmt_th(lo)}"
         # held by its header's sequence (slack.min_slack with modes); closed: no limit
         return f"{label} held by its sequence at {fmt_th(lo)}" if lo > 0 else None
     if upper:
@@ -214,15 +217,15 @@ def derived_findings(net: Net, co: Coeffs, x: np.ndarray, tol: float) -> list[di
                         f"({fmt_th(mu)}): more water returns than the plant uses"})
     for t, c in zip(net.turbines, co.turb):
         it = t["item"]
-        if t["mode"] == "fixed_power":
+        if t["mode"] in ("fixed_power", "pump"):
             m = c["flow"]       # what its power needs (the flow may be held in range)
             hi = INF if it.max_flow is None else it.max_flow
             if m > hi + tol or m < it.min_flow - tol:
                 out.append({"kind": "infeasible", "header": net.headers[t["inlet"]],
                             "side": "turbine", "amount_kg_s": m, "limits": [],
                             "message": f"turbine '{t['name']}' needs {fmt_th(m)} for its "
-                            f"fixed power, outside its range {fmt_th(it.min_flow)} to "
-                            f"{fmt_th(hi)}"})
+                            f"{'pump' if t['mode'] == 'pump' else 'fixed power'}, outside "
+                            f"its range {fmt_th(it.min_flow)} to {fmt_th(hi)}"})
     for t, c in zip(net.xturbines, co.xturb):
         it = t["item"]
         s1 = x[t["in_var"]]
@@ -239,6 +242,15 @@ def derived_findings(net: Net, co: Coeffs, x: np.ndarray, tol: float) -> list[di
         for e in t["exts"]:
             if x[e["var"]] < -tol:
                 bad.append(f"extraction to '{net.headers[e['header']]}' negative")
+        wl = t["willans"]
+        if wl is not None and t["mode"] == "fixed_power":
+            # the fixed-power row follows the lines linearly, below no-load too
+            flows = section_flows(s1, [x[e["var"]] for e in t["exts"]])
+            for j, (m, m0) in enumerate(zip(flows, wl["m0"])):
+                if m < m0 - tol:
+                    bad.append(f"section {j + 1} carries {fmt_th(m)}, below its Willans "
+                               f"no-load flow {fmt_th(m0)}: its line would give negative "
+                               "power")
         if bad:
             out.append({"kind": "infeasible", "header": net.headers[t["inlet"]],
                         "side": "turbine", "amount_kg_s": 0.0, "limits": bad,

@@ -159,7 +159,7 @@ def limit_checks(result) -> list[Check]:
                    it.max_flow, lo_kind="min_flow", hi_kind="max_flow")
     for t in net.turbines:
         it = t["item"]
-        if it.mode in ("swing", "fixed_power"):
+        if it.mode in ("swing", "fixed_power", "pump"):
             _range(out, "turbine", t["name"], x[t["var"]], it.min_flow, it.max_flow,
                    lo_kind="min_flow", hi_kind="max_flow", enforced=it.mode == "swing")
     for t in net.xturbines:

@@ -17,6 +17,7 @@ from dataclasses import dataclass, field, replace
 from .. import properties as props
 from ..calc.desuperheater import spray_ratio
 from ..calc.pump import pump_work
+from ..calc.turbine import section_flows
 from ..errors import ItemPropertyError, PropertyRangeError  # noqa: F401 (re-exported)
 from ..model.schema import VENT_RANK
 
@@ -159,6 +160,11 @@ def build(model, like: Net | None = None) -> Net:
                            "from_da": False, "pump_work": 0.0}
 
     makeup_h = _makeup_h(model, da)
+    for n, t in model.table("turbine").items():
+        if on(t) and t.mode == "pump":
+            for ws in model.table("water_supply").values():
+                if ws.pump_turbine == n:     # the turbine drives it: no motor power
+                    supplies[ws.name]["pump_turbine"] = n
 
     boilers = []
     for n, b in model.table("boiler").items():
@@ -170,13 +176,17 @@ def build(model, like: Net | None = None) -> Net:
         fixed = b.steam if b.mode == "fixed" else None
         vi = new_var("boiler", n, "boiler", b.min_steam if b.mode == "swing" else 0.0,
                      b.max_steam, fixed)
+        # the blowdown leaves saturated at the drum: the header's pressure unless given
+        drum = sat[hi] if b.drum_pressure is None else _prop(
+            f"boiler '{n}'", props.saturation, b.drum_pressure)
         flash = None
         if b.blowdown_flash_header:
             fh = hidx[b.blowdown_flash_header]
-            frac = max(0.0, (sat[hi].hf - sat[fh].hf) / sat[fh].hfg)
+            frac = max(0.0, (drum.hf - sat[fh].hf) / sat[fh].hfg)
             flash = {"header": fh, "fraction": frac}
         boilers.append({"name": n, "var": vi, "header": hi, "h": st.h, "t": st.t,
-                        "supply": ws, "bd": b.blowdown, "h_bd": sat[hi].hf,
+                        "supply": ws, "bd": b.blowdown, "h_bd": drum.hf,
+                        "p_drum": p[hi] if b.drum_pressure is None else b.drum_pressure,
                         "eff": b.efficiency, "kind": b.kind, "flash": flash,
                         "fuel_price": (b.fuel_price if b.fuel_price is not None
                                        else model.prices.fuel), "item": b})
@@ -215,6 +225,9 @@ def build(model, like: Net | None = None) -> Net:
         turbines.append({"name": n, "var": vi, "inlet": hidx[t.inlet],
                          "outlet": hidx[t.outlet], "mode": t.mode, "eta_mg": eta_mg,
                          "item": t})
+        if t.mode == "pump":
+            turbines[-1]["pump"] = next(s for s in supplies.values()
+                                        if s.get("pump_turbine") == n)
         if t.mode == "swing":
             swing_entries[hidx[t.outlet]].append((t.priority, vi, t.share))
 
@@ -250,9 +263,18 @@ def build(model, like: Net | None = None) -> Net:
             else:
                 cond_h = _prop(f"extraction turbine '{n}'", props.saturation,
                                t.condenser_pressure).hf
+        willans = None
+        if t.section_willans_no_load is not None:
+            # section output (m_j - m0_j) / k_j: its internal power times eta_mg
+            m0s, ks = list(t.section_willans_no_load), list(t.section_willans_slope)
+            willans = {"m0": m0s, "k": ks, "coef": [1.0 / (k * eta_mg) for k in ks],
+                       "rhs": sum(m0 / (k * eta_mg) for m0, k in zip(m0s, ks))}
         xturbines.append({"name": n, "in_var": vin, "inlet": hidx[t.inlet], "exts": exts,
                           "exhaust": None if t.exhaust is None else hidx[t.exhaust],
-                          "pressures": pressures, "etas": list(t.section_efficiencies),
+                          "pressures": pressures,
+                          "etas": (list(t.section_efficiencies)
+                                   if t.section_efficiencies is not None else None),
+                          "willans": willans,
                           "eta_mg": eta_mg, "mode": t.mode, "item": t,
                           "ret": t.condensate_return if t.exhaust is None else 0.0,
                           "cond_h": cond_h})
@@ -405,6 +427,58 @@ def expansion(item: str, p_in: float, h_in: float, p_out: float, eta: float) -> 
             "s_in": st_in.s}
 
 
+def _willans_sections(t: dict, h: list[float], x) -> dict:
+    """Section drops of an extraction turbine whose sections follow Willans lines: the
+    section's output (m_j - m0_j) / k_j (none below its no-load flow) over eta_mg is
+    its internal power, m_j dh_j; section flows from the last flows ``x`` (before the
+    first, the fixed throttle flow or twice the largest no-load flow, no extraction)."""
+    wl, it = t["willans"], t["item"]
+    if x is not None:
+        flows = section_flows(x[t["in_var"]], [x[e["var"]] for e in t["exts"]])
+    else:
+        flows = [it.flow if it.flow else max(2 * max(wl["m0"]), 1.0)] * len(wl["k"])
+    hs, dhs = [h[t["inlet"]]], []
+    for m, m0, k in zip(flows, wl["m0"], wl["k"]):
+        dh = max(0.0, (m - m0) / k) / (t["eta_mg"] * m) if m > 0 else 0.0
+        hs.append(hs[-1] - dh)
+        dhs.append(dh)
+    return {"h": hs, "dh": dhs, "flows": flows}
+
+
+def power_row(t: dict, c: dict) -> tuple[list[float], float]:
+    """The equation of a fixed-power extraction turbine ``t`` (a Net entry) at its
+    coefficients ``c``: sum over its sections of coef_j x section flow_j = rhs. With
+    efficiencies, coef_j is the section's drop and rhs the internal power; with
+    Willans lines, sum_j (m_j - m0_j) / (k_j eta_mg) = power / eta_mg, linear in the
+    flows with constant coefficients."""
+    wl = t["willans"]
+    if wl is None:
+        return c["dh"], t["item"].power / t["eta_mg"]
+    return wl["coef"], t["item"].power / t["eta_mg"] + wl["rhs"]
+
+
+def wet_expansion(item: str, p_in: float, p_out: float, ex: dict, eta: float) -> dict:
+    """The section ``ex`` (from :func:`expansion` at efficiency ``eta``) with its
+    efficiency lowered by the Baumann rule: eta (1 - y_mean), y_mean the mean of the
+    inlet and outlet moisture (docs/method.md). The outlet moisture follows from the
+    outlet enthalpy, so the two are solved together: inside the dome y_out is linear
+    in h_out, and h_out = h_in - A (1 - (y_in + y_out) / 2), A = eta (h_in - h_is),
+    has the closed form below. A section that stays dry is unchanged."""
+    h_in, drop = ex["h_in"], ex["h_in"] - ex["h_is"]
+    s_in = _prop(item, props.saturation, p_in)
+    s_out = _prop(item, props.saturation, p_out)
+    y_in = max(0.0, (s_in.hg - h_in) / s_in.hfg) if p_in < props.P_CRIT else 0.0
+    if y_in == 0.0 and ex["h_out"] >= s_out.hg:
+        return {**ex, "eta": eta}
+    a = eta * drop
+    h_out = (h_in - a * (1 - y_in / 2) + a * s_out.hg / (2 * s_out.hfg)) \
+        / (1 + a / (2 * s_out.hfg))
+    if h_out >= s_out.hg:                       # the corrected outlet is dry: y_out 0
+        h_out = h_in - a * (1 - y_in / 2)
+    return {**ex, "h_out": h_out, "dh": h_in - h_out,
+            "eta": (h_in - h_out) / drop if drop > 0 else eta}
+
+
 def coefficients(net: Net, h: list[float], x: list[float] | None) -> Coeffs:
     """Per-iteration coefficients from header enthalpies ``h`` and the last flows ``x``."""
     turb = []
@@ -413,18 +487,20 @@ def coefficients(net: Net, h: list[float], x: list[float] | None) -> Coeffs:
         pin, pout = net.p[t["inlet"]], net.p[t["outlet"]]
         h_in = h[t["inlet"]]
         name = f"turbine '{t['name']}'"
+        set_power = t["mode"] in ("fixed_power", "pump")
+        power = it.power if t["mode"] != "pump" else pump_power(net, t["pump"], h, x)
         if it.isentropic_efficiency is not None:
             ex = expansion(name, pin, h_in, pout, it.isentropic_efficiency)
             c = {"h_out": ex["h_out"], "dh": ex["dh"], "h_is": ex["h_is"], "willans": False}
-            if t["mode"] == "fixed_power":
-                c["flow"] = it.power / (t["eta_mg"] * ex["dh"])
+            if set_power:
+                c["flow"] = power / (t["eta_mg"] * ex["dh"])
         else:
             st_in = _prop(name, props.state_ph, pin, h_in)
             h_is = _prop(name, props.state_ps, pout, st_in.s).h
             m0, k = it.willans_no_load, it.willans_slope
             c = {"willans": True, "h_is": h_is, "m0": m0, "k": k}
-            if t["mode"] == "fixed_power":
-                m = m0 + k * it.power
+            if set_power:
+                m = m0 + k * power
                 c["flow"] = m
             else:
                 m = x[t["var"]] if x is not None else (it.flow or max(m0 * 2, 1.0))
@@ -438,11 +514,19 @@ def coefficients(net: Net, h: list[float], x: list[float] | None) -> Coeffs:
         name = f"extraction turbine '{t['name']}'"
         hs = [h[t["inlet"]]]
         dhs = []
+        if t["willans"] is not None:
+            xturb.append(_willans_sections(t, h, x))
+            continue
+        wet = t["item"].moisture_correction
+        used = []
         for j, eta in enumerate(t["etas"]):
             ex = expansion(name, t["pressures"][j], hs[-1], t["pressures"][j + 1], eta)
+            if wet:
+                ex = wet_expansion(name, t["pressures"][j], t["pressures"][j + 1], ex, eta)
+                used.append(ex["eta"])
             hs.append(ex["h_out"])
             dhs.append(ex["dh"])
-        xturb.append({"h": hs, "dh": dhs})
+        xturb.append({"h": hs, "dh": dhs, **({"eta": used} if wet else {})})
     ld = []
     for s in net.letdowns:
         h_in = h[s["inlet"]]
@@ -471,6 +555,32 @@ def coefficients(net: Net, h: list[float], x: list[float] | None) -> Coeffs:
             uf.append(u["duty"] / max(dh, floor))
             starved.append(dh <= floor)
     return Coeffs(turb=turb, xturb=xturb, ld=ld, user_flow=uf, user_starved=starved)
+
+
+def supply_flow(net: Net, name: str, x, ratios) -> float:
+    """Water drawn from supply ``name`` at the flows ``x`` [kg/s]: the feedwater of the
+    boilers it feeds and the spray of the let-downs it feeds (``ratios``: every
+    let-down's spray per unit steam, r, in ``net.letdowns`` order)."""
+    m = sum(x[b["var"]] / (1 - b["bd"]) for b in net.boilers if b["supply"]["name"] == name)
+    m += sum(x[s["var"]] * r for s, r in zip(net.letdowns, ratios)
+             if s["ds"] is not None and s["ds"]["supply"]["name"] == name)
+    return m
+
+
+def pump_power(net: Net, supply: dict, h: list[float], x) -> float:
+    """Power of the pump of ``supply`` (a Net entry) at the header enthalpies ``h`` and
+    the flows ``x``: its pump work v dP / efficiency times the water it delivers [W];
+    0 before the first flows are known."""
+    if x is None:
+        return 0.0
+    ratios = []
+    for s in net.letdowns:
+        ds = s["ds"]
+        r = 0.0
+        if ds is not None and ds["supply"] is supply and h[s["inlet"]] > ds["h_set"]:
+            r = spray_ratio(h[s["inlet"]], ds["h_set"], supply["h"])
+        ratios.append(r)
+    return supply["pump_work"] * supply_flow(net, supply["name"], x, ratios)
 
 
 # ------------------------------------------------------------------ header inflows

@@ -12,7 +12,7 @@ from __future__ import annotations
 import numpy as np
 
 from .assembly import da_entries, header_entries
-from .network import Coeffs, Net, group_bounds as _group_bounds
+from .network import Coeffs, Net, group_bounds as _group_bounds, power_row
 
 __all__ = ["assemble"]
 
@@ -92,7 +92,7 @@ def _status_rows(net: Net, co: Coeffs, modes, eff):
     for t, c in zip(net.turbines, co.turb):
         if t["var"] in grouped:
             continue
-        if t["mode"] == "fixed_power":
+        if t["mode"] in ("fixed_power", "pump"):
             rows.append(([(t["var"], 1.0)], c["flow"]))
         else:
             rows.append(([(t["var"], 1.0)], net.vars[t["var"]].fixed))
@@ -100,12 +100,12 @@ def _status_rows(net: Net, co: Coeffs, modes, eff):
         it = t["item"]
         if t["mode"] == "fixed_flow":
             rows.append(([(t["in_var"], 1.0)], it.flow))
-        else:  # fixed power: sum_k sigma_k dh_k = shaft power
-            dh = c["dh"]
+        else:  # fixed power: sum_k sigma_k dh_k = internal power (power_row)
+            dh, rhs = power_row(t, c)
             terms = [(t["in_var"], sum(dh))]
             for i, e in enumerate(t["exts"]):
                 terms.append((e["var"], -sum(dh[i + 1:])))
-            rows.append((terms, it.power / t["eta_mg"]))
+            rows.append((terms, rhs))
         for e in t["exts"]:
             if e["mode"] == "fixed":
                 rows.append(([(e["var"], 1.0)], net.vars[e["var"]].fixed))

@@ -20,7 +20,7 @@ from ..model.stations import StationPoint
 from ..status import CaseStatus
 from ..units import C0, KJ, T_H as TH
 from .balance import IDLE_FLOW, Solution
-from .network import coefficients, header_inflows
+from .network import coefficients, header_inflows, supply_flow
 
 __all__ = ["residuals", "water_balance", "header_table", "equipment_table",
            "equipment_rows", "stream_table", "totals", "case_cost", "letdown_points",
@@ -212,6 +212,29 @@ def _row(case, item, typ, frm, to, mode, flow, **kw):
     return d
 
 
+def _power_columns(internal: float, item) -> dict:
+    """A turbine's internal power (the steam's, m dh, before mechanical losses) and its
+    shaft power (after them) [kW]."""
+    return {"internal_power_kw": internal / 1e3,
+            "shaft_power_kw": internal * item.mechanical_efficiency / 1e3}
+
+
+def _sections_used(t: dict, c: dict) -> dict:
+    """The efficiency each section of an extraction turbine ran at, when it is not
+    simply the model's: after the moisture correction, or implied by the sections'
+    Willans lines (drop over isentropic drop); nothing otherwise."""
+    etas = c.get("eta")
+    if t["willans"] is not None:
+        etas = []
+        for j, dh in enumerate(c["dh"]):
+            p0, p1, h0 = t["pressures"][j], t["pressures"][j + 1], c["h"][j]
+            drop_is = h0 - props.state_ps(p1, props.state_ph(p0, h0).s).h
+            etas.append(dh / drop_is if drop_is > 0 else math.nan)
+    if etas is None:
+        return {}
+    return {"section_efficiencies_used": ", ".join(f"{100 * e:.2f} %" for e in etas)}
+
+
 def _limit_state(value, lo, hi, tol=1e-7):
     if hi is not None and math.isfinite(hi) and value >= hi - tol * max(1, hi):
         return "at maximum"
@@ -239,6 +262,10 @@ def equipment_rows(sol: Solution, case: str) -> list[dict]:
                          it.mode, m, t_out_degc=b["t"] - C0, h_out_kj_kg=b["h"] * KJ,
                          feedwater_t_h=fw * TH, blowdown_t_h=bd * TH,
                          duty_mw=duty / 1e6, fuel_mw=fuel / 1e6,
+                         drum_p_barg=(b["p_drum"] - net.model.site.atmospheric_pressure)
+                         / 1e5, drum_pressure_from=("drum_pressure"
+                                                    if it.drum_pressure is not None
+                                                    else "header pressure"),
                          min_t_h=(it.min_steam if it.mode == "swing" else np.nan) * TH,
                          max_t_h=(it.max_steam if it.max_steam is not None else np.nan) * TH,
                          load_percent=(100 * m / it.max_steam if it.max_steam else np.nan),
@@ -256,12 +283,12 @@ def equipment_rows(sol: Solution, case: str) -> list[dict]:
     for t, c in zip(net.turbines, co.turb):
         it = t["item"]
         m = x[t["var"]]
-        shaft = m * c["dh"]
+        internal = m * c["dh"]
         st_out = props.state_ph(net.p[t["outlet"]], c["h_out"])
         eta_is = c["dh"] / (c["h_out"] + c["dh"] - c["h_is"]) if c["dh"] > 0 else np.nan
         rows.append(_row(case, t["name"], "turbine", H[t["inlet"]], H[t["outlet"]],
-                         it.mode, m, power_kw=shaft * t["eta_mg"] / 1e3,
-                         shaft_power_kw=shaft / 1e3, drive=it.drive,
+                         it.mode, m, power_kw=internal * t["eta_mg"] / 1e3,
+                         **_power_columns(internal, it), drive=it.drive,
                          h_out_kj_kg=c["h_out"] * KJ, t_out_degc=st_out.t - C0,
                          exhaust_quality=st_out.x if st_out.is_wet else np.nan,
                          isentropic_efficiency=eta_is,
@@ -274,7 +301,7 @@ def equipment_rows(sol: Solution, case: str) -> list[dict]:
         it = t["item"]
         s = x[t["in_var"]]
         flows = section_flows(s, [x[e["var"]] for e in t["exts"]])
-        shaft = internal_power(flows, c["dh"])
+        internal = internal_power(flows, c["dh"])
         p_ex = t["pressures"][-1]
         st_ex = props.state_ph(p_ex, c["h"][-1])
         q = st_ex.x if st_ex.is_wet else np.nan
@@ -283,8 +310,8 @@ def equipment_rows(sol: Solution, case: str) -> list[dict]:
         if t["exhaust"] is None:
             cond_duty = flows[-1] * (c["h"][-1] - props.saturation(p_ex).hf)
         rows.append(_row(case, t["name"], "extraction_turbine", H[t["inlet"]], to,
-                         it.mode, s, power_kw=shaft * t["eta_mg"] / 1e3,
-                         shaft_power_kw=shaft / 1e3, drive=it.drive,
+                         it.mode, s, power_kw=internal * t["eta_mg"] / 1e3,
+                         **_power_columns(internal, it), drive=it.drive,
                          exhaust_t_h=flows[-1] * TH, h_out_kj_kg=c["h"][-1] * KJ,
                          t_out_degc=st_ex.t - C0, exhaust_quality=q,
                          condenser_duty_mw=cond_duty / 1e6,
@@ -292,7 +319,8 @@ def equipment_rows(sol: Solution, case: str) -> list[dict]:
                          max_t_h=(it.max_flow if it.max_flow is not None else np.nan) * TH,
                          load_percent=(100 * s / it.max_flow if it.max_flow else np.nan),
                          limit=_limit_state(s, it.min_flow, it.max_flow),
-                         quality_below_limit=bool(st_ex.is_wet and q < it.min_exhaust_quality)))
+                         quality_below_limit=bool(st_ex.is_wet and q < it.min_exhaust_quality),
+                         **_sections_used(t, c)))
         for j, e in enumerate(t["exts"]):
             rows.append(_row(case, f"{t['name']}/{H[e['header']]}", "extraction",
                              t["name"], H[e["header"]], e["mode"], x[e["var"]],
@@ -337,7 +365,99 @@ def equipment_rows(sol: Solution, case: str) -> list[dict]:
                          feedwater_t_h=wb["feedwater_from_da_kg_s"] * TH,
                          vent_t_h=wb["da_vent_kg_s"] * TH,
                          t_out_degc=da["sat"].t - C0))
+    for r in rows:
+        r["service"] = IN_SERVICE
+    return _with_idle_rows(rows, net.model, case)
+
+
+#: The ``service`` of a row whose item runs in the case (docs/results.md).
+IN_SERVICE = "in service"
+
+#: Row types of the equipment table -> the model table of their items, in the order
+#: the table lists them.
+_ROW_TABLES = {"boiler": "boiler", "import": "steam_transfer", "export": "steam_transfer",
+               "turbine": "turbine", "extraction_turbine": "extraction_turbine",
+               "extraction": "extraction_turbine", "letdown": "letdown", "vent": "vent",
+               "user": "user", "deaerator": "deaerator"}
+_TABLE_ORDER = {t: i for i, t in enumerate(dict.fromkeys(_ROW_TABLES.values()))}
+#: Modes in which an item is idle, by table, and what its row's ``service`` says.
+_IDLE_MODES = {"boiler": "off", "steam_transfer": "off", "turbine": "tripped",
+               "extraction_turbine": "tripped", "letdown": "closed"}
+#: Flow and power columns an idle item's row carries as zero, by row type.
+_IDLE_ZEROS = {"boiler": ("feedwater_t_h", "blowdown_t_h", "duty_mw", "fuel_mw"),
+               "turbine": ("power_kw", "internal_power_kw", "shaft_power_kw"),
+               "extraction_turbine": ("power_kw", "internal_power_kw", "shaft_power_kw",
+                                      "exhaust_t_h", "condenser_duty_mw"),
+               "letdown": ("spray_t_h", "steam_out_t_h"),
+               "user": ("duty_mw", "condensate_return_t_h")}
+
+
+def idle_service(table: str, item) -> str | None:
+    """Why ``item`` of ``table`` passes no flow in its case ("out of service",
+    "tripped", "off", "closed"), or None when it runs."""
+    if not getattr(item, "in_service", True):
+        return "out of service"
+    mode = _IDLE_MODES.get(table)
+    if mode is not None and getattr(item, "mode", None) == mode:
+        return mode
+    return None
+
+
+def _idle_rows(model, case: str) -> list[dict]:
+    """A row, at zero flow, for every item that does not run in the case."""
+    rows = []
+    for table in _TABLE_ORDER:
+        for n, it in model.table(table).items():
+            why = idle_service(table, it)
+            if why is None:
+                continue
+            if table == "boiler":
+                typ, frm, to = "boiler", it.feedwater, it.header
+            elif table == "steam_transfer":
+                typ = it.direction
+                frm, to = (("outside", it.header) if typ == "import"
+                           else (it.header, "outside"))
+            elif table in ("turbine", "letdown"):
+                typ, frm, to = table, it.inlet, it.outlet
+            elif table == "extraction_turbine":
+                typ, frm = table, it.inlet
+                to = it.exhaust if it.exhaust is not None else "condenser"
+            elif table == "vent":
+                typ, frm, to = "vent", it.header, "atmosphere"
+            else:
+                typ, frm, to = "user", it.header, "process"
+            mode = it.mode if hasattr(it, "mode") else ""
+            if table == "user":
+                mode = "duty" if it.duty is not None else "demand"
+            elif table == "vent":
+                mode = "excess"
+            extra = {k: 0.0 for k in _IDLE_ZEROS.get(typ, ())}
+            if hasattr(it, "drive"):
+                extra["drive"] = it.drive
+            if table == "user":
+                extra["group"] = it.group
+            rows.append(_row(case, n, typ, frm, to, mode, 0.0, **extra, limit="",
+                             service=why))
+            if table == "extraction_turbine":
+                for e in it.extractions:
+                    rows.append(_row(case, f"{n}/{e.header}", "extraction", n, e.header,
+                                     e.mode, 0.0, limit="", service=why))
     return rows
+
+
+def _with_idle_rows(rows: list[dict], model, case: str) -> list[dict]:
+    """``rows`` (of the running items) with the rows of the idle items, every item at
+    its place: by table, then in the order of the model file."""
+    idle = _idle_rows(model, case)
+    if not idle:
+        return rows
+    place = {t: {n: i for i, n in enumerate(model.table(t))} for t in _TABLE_ORDER}
+
+    def key(r):
+        table = _ROW_TABLES[r["type"]]
+        name = r["item"] if r["type"] != "extraction" else r["from"]
+        return _TABLE_ORDER[table], place[table].get(name, -1), r["type"] == "extraction"
+    return sorted(rows + idle, key=key)
 
 
 def stream_table(sol: Solution, case: str) -> pd.DataFrame:
@@ -366,7 +486,50 @@ def stream_table(sol: Solution, case: str) -> pd.DataFrame:
                 x[s["var"]] * c["r"], s["ds"]["supply"]["p"], s["ds"]["supply"]["h"])
         add(f"{s['name']} outlet", s["name"], H[s["outlet"]], "steam",
             x[s["var"]] * (1 + c["r"]), net.p[s["outlet"]], c["h_out"])
-    return pd.DataFrame(rows)
+    for r in rows:
+        r["service"] = IN_SERVICE
+    return pd.DataFrame(_with_idle_streams(rows, net.model, case))
+
+
+def _with_idle_streams(rows: list[dict], model, case: str) -> list[dict]:
+    """``rows`` (the streams of the running items) with those of the idle items at zero
+    flow and without a state, every stream at its item's place."""
+    idle, owner = [], {}
+    supplies = model.table("water_supply")
+    for table in ("boiler", "turbine", "letdown"):
+        for n, it in model.table(table).items():
+            why = idle_service(table, it)
+            if why is None:
+                continue
+            if table == "boiler":
+                ws = supplies[it.feedwater]
+                streams = [(f"{n} steam", n, it.header, "steam", model.headers[it.header]),
+                           (f"{n} feedwater", it.feedwater, n, "water", ws)]
+            elif table == "turbine":
+                streams = [(f"{n} exhaust", n, it.outlet, "steam", model.headers[it.outlet])]
+            else:
+                streams = []
+                if it.desuperheater is not None:
+                    ws = supplies[it.desuperheater.spray_supply]
+                    streams.append((f"{n} spray", ws.name, n, "water", ws))
+                streams.append((f"{n} outlet", n, it.outlet, "steam",
+                                model.headers[it.outlet]))
+            for name, frm, to, medium, at in streams:
+                idle.append({"case": case, "stream": name, "from": frm, "to": to,
+                             "medium": medium, "flow_t_h": 0.0,
+                             "p_bara": at.pressure / 1e5, "t_degc": np.nan,
+                             "h_kj_kg": np.nan, "quality": np.nan, "service": why})
+    if not idle:
+        return rows
+    order = {"boiler": 0, "turbine": 1, "letdown": 2}
+    for table in order:
+        for i, n in enumerate(model.table(table)):
+            owner[n] = (order[table], i)
+
+    def key(r):
+        item = r["to"] if r["stream"].endswith((" feedwater", " spray")) else r["from"]
+        return owner.get(item, (3, 0))
+    return sorted(rows + idle, key=key)
 
 
 # ------------------------------------------------------------- totals and cost
@@ -411,8 +574,9 @@ def case_cost(model, water: dict, sol: Solution, tot: dict | None = None) -> dic
     imp = sum(sol.x[t["var"]] * t["price"] for t in net.transfers if t["dir"] == "import")
     exp = sum(sol.x[t["var"]] * t["price"] for t in net.transfers if t["dir"] == "export")
     gen = tot["power_generated"]
+    # a pump driven by a running turbine costs steam (in the balance), not electricity
     pump = sum(ws["pump_work"] * _supply_flow(sol, name)
-               for name, ws in net.supplies.items())
+               for name, ws in net.supplies.items() if "pump_turbine" not in ws)
     per_s = fuel + water_cost + imp - exp - gen * pr.electricity + pump * pr.electricity
     return {"cost_per_h": per_s * 3600, "fuel_cost_per_h": fuel * 3600,
             "water_cost_per_h": water_cost * 3600, "power_value_per_h": gen * pr.electricity
@@ -420,11 +584,7 @@ def case_cost(model, water: dict, sol: Solution, tot: dict | None = None) -> dic
 
 
 def _supply_flow(sol: Solution, name: str) -> float:
-    net, x, co = sol.net, sol.x, sol.co
-    m = sum(x[b["var"]] / (1 - b["bd"]) for b in net.boilers if b["supply"]["name"] == name)
-    m += sum(x[s["var"]] * c["r"] for s, c in zip(net.letdowns, co.ld)
-             if s["ds"] is not None and s["ds"]["supply"]["name"] == name)
-    return m
+    return supply_flow(sol.net, name, sol.x, [c["r"] for c in sol.co.ld])
 
 
 # ------------------------------------------------------------ let-down points

@@ -42,7 +42,7 @@ import numpy as np
 import scipy.sparse as sp
 from scipy.optimize import linprog
 
-from .network import Coeffs, Net, group_bounds
+from .network import Coeffs, Net, group_bounds, power_row
 from .reference import _da_rows, _header_terms
 
 __all__ = ["SlackBalance", "min_slack", "slack_tolerance", "beyond_limits"]
@@ -115,7 +115,7 @@ def _bounds(net: Net, co: Coeffs) -> tuple[np.ndarray, np.ndarray]:
         elif v.kind in ("boiler", "transfer", "letdown") and v.index not in held:
             lo[v.index] = hi[v.index] = 0.0
     for t, c in zip(net.turbines, co.turb):
-        if t["mode"] == "fixed_power" and t["var"] not in held:
+        if t["mode"] in ("fixed_power", "pump") and t["var"] not in held:
             it = t["item"]
             top = math.inf if it.max_flow is None else it.max_flow
             lo[t["var"]] = hi[t["var"]] = min(max(c["flow"], it.min_flow), top)
@@ -143,10 +143,10 @@ def _rows(net: Net, co: Coeffs, h: list[float]):
                 eq.append(([(vi, 1.0), (first, -w / g.weights[0])], 0.0))
     for t, c in zip(net.xturbines, co.xturb):
         if t["mode"] == "fixed_power":
-            dh = c["dh"]
+            dh, rhs = power_row(t, c)
             terms = [(t["in_var"], sum(dh))]
             terms += [(e["var"], -sum(dh[i + 1:])) for i, e in enumerate(t["exts"])]
-            eq.append((terms, t["item"].power / t["eta_mg"]))
+            eq.append((terms, rhs))
     return eq
 
 

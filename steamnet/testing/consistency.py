@@ -15,8 +15,11 @@ outlets, spray water without a stream row):
   supplies draw) and its vent;
 * the plant water balance (make-up, external water and imports in; vents, exports, lost
   condensate, blowdown not flashed and the deaerator vent out);
+* each turbine driving a pump: its power is the pump's (v dP / eta times the water the
+  supply delivers);
 * no negative flow, and every flow within the limits of its item (its minimum when it
-  swings, its maximum, its fixed value).
+  swings, its maximum, its fixed value); an item that does not run (its row's
+  ``service``) carries no flow.
 
 The equations are those of docs/method.md ("Equipment equations", "The balance"),
 written out again here; nothing of the solver (:mod:`steamnet.solver`) is used, so a
@@ -46,9 +49,14 @@ NEGATIVE_FLOW = 1e-9
 #: A flow is within its limit when it is within this of it, relative to the larger of
 #: 1 kg/s and the limit [-] (the solver's convergence, as above, with a margin).
 LIMIT_TOL = 1e-7
+#: The ``service`` of the equipment rows of running items (docs/results.md).
+_RUNS = "in service"
 #: The flow columns of the equipment table, none of which may be negative.
 _FLOW_COLUMNS = ("flow_t_h", "spray_t_h", "steam_out_t_h", "exhaust_t_h", "makeup_t_h",
                  "feedwater_t_h", "vent_t_h", "blowdown_t_h", "condensate_return_t_h")
+#: The power and duty columns, zero for an item that does not run.
+_POWER_COLUMNS = ("power_kw", "internal_power_kw", "shaft_power_kw", "duty_mw", "fuel_mw",
+                  "condenser_duty_mw")
 
 
 def check_study(study, *, rel: float = 1e-6) -> list[str]:
@@ -122,7 +130,11 @@ class _Check:
 
     def __init__(self, model, r, rel: float):
         self.m, self.rel, self.probs = model, rel, []
-        self.rows = r.equipment.to_dict(orient="records")
+        rows = r.equipment.to_dict(orient="records")
+        # an item that does not run in the case keeps its row, at zero flow
+        # (docs/results.md); the balances are those of the running items
+        self.idle = [row for row in rows if row.get("service", _RUNS) != _RUNS]
+        self.rows = [row for row in rows if row.get("service", _RUNS) == _RUNS]
         self.hdr = {h["header"]: h for h in r.headers.to_dict(orient="records")}
         self.H = {n: h["h_kj_kg"] * 1e3 for n, h in self.hdr.items()}
         self.P = {n: h.pressure for n, h in model.headers.items()}
@@ -166,13 +178,51 @@ class _Check:
 
     # ---------------------------------------------------------------- checks
     def run(self) -> list[str]:
+        self.idle_items()
         self.flows_not_negative()
         self.limits()
         self.headers()
         self.letdowns()
         self.boilers_and_users()
         self.deaerator_and_water()
+        self.pump_drives()
         return self.probs
+
+    def pump_drives(self) -> None:
+        """A turbine driving a supply's pump delivers that pump's power: v dP / eta
+        times the feedwater and spray the supply delivers."""
+        turbines = {row["item"]: row for row in self.of("turbine")}
+        for n, ws in self.m.table("water_supply").items():
+            row = turbines.get(ws.pump_turbine)
+            if row is None:
+                continue
+            sd = props.saturation(self.da.pressure)
+            w = sd.vf * (ws.pressure - self.da.pressure) / ws.pump_efficiency
+            m = sum(r["feedwater_t_h"] for r in self.of("boiler")
+                    if self.item(r).feedwater == n) / TH
+            for r in self.of("letdown"):
+                d = self.item(r).desuperheater
+                if d is not None and d.spray_supply == n:
+                    m += r["spray_t_h"] / TH
+            self.close(row["power_kw"] * 1e3, w * m, w * m,
+                       f"turbine '{row['item']}' power against the pump it drives", "W")
+
+    def idle_items(self) -> None:
+        """An item that does not run carries no flow, and is idle in the model."""
+        for row in self.idle:
+            what = f"{row['type']} '{row['item']}'"
+            for col in ("flow_t_h",) + _FLOW_COLUMNS + _POWER_COLUMNS:
+                v = row.get(col)
+                if v is not None and not math.isnan(v) and v != 0:
+                    self.probs.append(f"{what} is {row['service']} but carries "
+                                      f"{col} {v:.9g}")
+            it = self.item(row) if row["type"] != "extraction" else \
+                self.m.table("extraction_turbine").get(row["from"])
+            idle = it is not None and (not getattr(it, "in_service", True) or getattr(
+                it, "mode", None) in ("off", "tripped", "closed"))
+            if not idle:
+                self.probs.append(f"{what} is {row['service']} in the table but runs "
+                                  "in the model")
 
     def flows_not_negative(self) -> None:
         for row in self.rows:
@@ -195,7 +245,7 @@ class _Check:
                 self.limit(what, m, it.min_flow if it.mode == "swing" else 0.0,
                            it.max_flow, it.flow if it.mode == "fixed" else None)
             elif typ == "turbine":
-                self.limit(what, m, it.min_flow if it.mode in ("swing", "fixed_power")
+                self.limit(what, m, it.min_flow if it.mode in ("swing", "fixed_power", "pump")
                            else 0.0, it.max_flow,
                            it.flow if it.mode == "fixed_flow" else None)
             elif typ == "extraction_turbine":
@@ -269,7 +319,8 @@ class _Check:
 
     def flash(self, row) -> float:
         b = self.item(row)
-        return _flash_fraction(self.P[b.header], self.P[b.blowdown_flash_header])
+        drum = b.drum_pressure if b.drum_pressure is not None else self.P[b.header]
+        return _flash_fraction(drum, self.P[b.blowdown_flash_header])
 
     def headers(self) -> None:
         bal = self.header_flows()

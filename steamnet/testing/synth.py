@@ -331,8 +331,75 @@ def random_model(seed: int, n_headers: int = 4, n_items: int | None = None, *,
         for _ in range(n):
             _GENERATORS[kind](b)
     b.finish_shares()
+    _pump_drive(b, random.Random(seed * 1_000_003 + 17))
+    _drums(b, random.Random(seed * 1_000_003 + 29))
+    _section_lines(b, random.Random(seed * 1_000_003 + 53))
+    wet = random.Random(seed * 1_000_003 + 41)      # (a generator of its own again)
+    for x in b.doc.get("extraction_turbine", []):
+        if "condenser_pressure" in x and wet.random() < 0.3 \
+                and "section_efficiencies" in x:
+            x["moisture_correction"] = True             # Baumann rule on its sections
     _cases(b, rng.randint(0, 3) if n_cases is None else n_cases)
     return b.doc
+
+
+def _section_lines(b: _Builder, rng: random.Random) -> None:
+    """Now and then an extraction turbine's sections follow Willans lines instead of
+    efficiencies: each line's slope 1 / (0.8 eta dh_is eta_mg), dh_is from the hottest
+    steam of the plant at the section's inlet pressure (so that the line implies at
+    most 0.8 eta, below 1, as validation asks), its no-load flow 1 to 4 % of the
+    turbine's flow (from its own generator, like :func:`_pump_drive`)."""
+    temps = [float(x["steam_temperature"].split()[0]) for x in b.doc.get("boiler", [])]
+    temps += [float(x["steam_temperature"].split()[0])
+              for x in b.doc.get("steam_transfer", []) if "steam_temperature" in x]
+    for x in b.doc.get("extraction_turbine", []):
+        if not temps or rng.random() >= 0.25:
+            continue
+        ps = [b.by_name[x["inlet"]].p_abs] + [b.by_name[e["header"]].p_abs
+                                               for e in x["extractions"]]
+        ps.append(float(x["condenser_pressure"].split()[0]) * _BAR
+                  if "condenser_pressure" in x else b.by_name[x["exhaust"]].p_abs)
+        etas = [float(e.split()[0]) / 100 for e in x["section_efficiencies"]]
+        eta_mg = float(x["mechanical_efficiency"].split()[0]) / 100
+        flow = _t_h(x.get("flow") or x.get("max_flow"), 20.0)
+        m0s, ks = [], []
+        for j, eta in enumerate(etas):
+            t_in = max(max(temps) + _C0, props.t_sat(ps[j]) + 5)
+            st = props.state_pt(ps[j], t_in)
+            dh_is = st.h - props.state_ps(ps[j + 1], st.s).h
+            ks.append(1.0 / (0.8 * eta * dh_is * eta_mg))
+            m0s.append(flow * rng.uniform(0.01, 0.04))
+        del x["section_efficiencies"]
+        x.pop("moisture_correction", None)
+        x["section_willans_no_load"] = [_th(m / 3.6) for m in m0s]
+        x["section_willans_slope"] = [f"{_g(k * 3.6e6)} t/MWh" for k in ks]
+
+
+def _drums(b: _Builder, rng: random.Random) -> None:
+    """Now and then a boiler's drum pressure, some bar above its header (from its own
+    generator, like :func:`_pump_drive`)."""
+    for x in b.doc.get("boiler", []):
+        if rng.random() < 0.3:
+            p = b.by_name[x["header"]].p_barg
+            x["drum_pressure"] = _barg(round(min(p + rng.uniform(0.5, 8), 200.0), 2))
+
+
+def _pump_drive(b: _Builder, rng: random.Random) -> None:
+    """Now and then a mechanical-drive turbine at fixed power drives the pump of a
+    deaerator water supply instead (mode 'pump'). Drawn from its own generator, so the
+    rest of the model is the one the seed gave before this existed."""
+    if rng.random() < 0.5:
+        return
+    turbines = [t for t in b.doc.get("turbine", []) if t["drive"] == "mechanical"
+                and t["mode"] == "fixed_power"]
+    supplies = [w for w in b.doc.get("water_supply", []) if "pump_efficiency" in w]
+    if not turbines or not supplies:
+        return
+    t, w = rng.choice(turbines), rng.choice(supplies)
+    t["mode"] = "pump"
+    for k in ("power", "max_flow", "min_flow"):
+        t.pop(k, None)
+    w["pump_turbine"] = t["name"]
 
 
 def random_model_text(seed: int, n_headers: int = 4, n_items: int | None = None,

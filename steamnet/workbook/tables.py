@@ -23,16 +23,18 @@ HEADER_KEYS = ["header", "p_barg", "p_bara", "t_degc", "t_sat_degc", "superheat_
                "mass_residual_t_h", "energy_residual_kw"]
 
 #: Column order of the equipment sheet: identity, the main quantities, then details.
-EQUIPMENT_KEYS = ["item", "type", "from", "to", "mode", "flow_t_h", "power_kw",
+EQUIPMENT_KEYS = ["item", "type", "from", "to", "mode", "service", "flow_t_h", "power_kw",
                   "duty_mw", "fuel_mw", "spray_t_h", "min_t_h", "max_t_h", "load_percent",
                   "limit", "t_out_degc", "t_set_degc", "setpoint_reachable",
                   "exhaust_quality", "quality_below_limit", "steam_out_t_h",
-                  "shaft_power_kw", "isentropic_efficiency", "exhaust_t_h",
-                  "condenser_duty_mw", "h_out_kj_kg", "feedwater_t_h", "blowdown_t_h",
-                  "makeup_t_h", "vent_t_h", "condensate_return_t_h", "drive", "group"]
+                  "shaft_power_kw", "internal_power_kw", "isentropic_efficiency",
+                  "section_efficiencies_used",
+                  "exhaust_t_h", "condenser_duty_mw", "h_out_kj_kg", "feedwater_t_h",
+                  "blowdown_t_h", "drum_p_barg", "drum_pressure_from", "makeup_t_h", "vent_t_h", "condensate_return_t_h",
+                  "drive", "group"]
 
 STREAM_KEYS = ["stream", "from", "to", "medium", "flow_t_h", "p_bara", "t_degc",
-               "h_kj_kg", "quality"]
+               "h_kj_kg", "quality", "service"]
 
 
 def _present(frames: Iterable[pd.DataFrame], keys: list[str]) -> list[str]:
