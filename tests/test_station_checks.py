@@ -4,7 +4,7 @@ Station data are invented for the demo plant "Orlewick Board Mill"; they only pl
 operating point on one side or the other of each limit. The references are:
 
 * default limits and their source labels: docs/checks/index.md;
-* saturation temperatures: IAPWS R7-97(2012), Table 35;
+* saturation temperatures: IAPWS R7-97(2012), Table 36;
 * velocities and spray flows recomputed from CoolProp's IF97 backend;
 * Kv by IEC 60534-2-1 through steamnet.calc.valve (itself checked against the
   standard's examples in test_calc_valve.py);
@@ -110,12 +110,12 @@ def test_data_validation():
 
 
 # ----------------------------------------------------------- approach to saturation
-# IAPWS R7-97(2012), Table 35: Tsat at 0.1, 1 and 10 MPa.
+# IAPWS R7-97(2012), Table 36: Tsat at 0.1, 1 and 10 MPa.
 @pytest.mark.parametrize("p, t_sat_table", [(0.1e6, 372.755919), (1e6, 453.035632),
                                             (10e6, 584.149488)])
 @pytest.mark.parametrize("margin, status", [(12.0, Status.OK), (9.0, Status.WARN),
                                             (7.0, Status.FAIL)])
-def test_approach_against_iapws_table_35(p, t_sat_table, margin, status):
+def test_approach_against_iapws_table_36(p, t_sat_table, margin, status):
     pt = _point(p_in=max(P_IN, 2 * p), h_in=props.h_pt(max(P_IN, 2 * p), 873.15),
                 p_out=p, h_out=props.h_pt(p, t_sat_table + margin))
     row = check_approach_to_saturation(_station(), pt)
