@@ -227,3 +227,15 @@ def test_report_new_user_options_are_validated_before_anything_is_written(tmp_pa
     assert r.exit_code == 2, r.output
     assert "error: option --new-user-return-temperature: -300 degC" in r.stderr
     assert not out.exists()
+
+
+def test_checking_an_added_user_leaves_the_model_as_it_was():
+    """The options of an added user are checked on a copy of the model: the model (and
+    so every balance of the report) does not gain the user."""
+    from steamnet.model.schema import SI
+    model = loads_model(BASE, source="bench.toml")
+    users = dict(model.table("user"))
+    added = model.with_item("user", {"name": "extra", "header": "LP",
+                                     "demand": SI(t_h(5))})
+    assert set(added.table("user")) == set(users) | {"extra"}
+    assert model.table("user") == users

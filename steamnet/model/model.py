@@ -216,7 +216,7 @@ class Model:
         raw = {t: dict(v) for t, v in self.raw.items()}
         raw.setdefault(table, {})[name] = copy.deepcopy(data)
         items = dict(self.items)
-        items.setdefault(table, {})[name] = item
+        items[table] = {**items.get(table, {}), name: item}   # this model's table stays
         return replace(self, items=items, raw=raw)
 
 
