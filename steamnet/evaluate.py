@@ -26,14 +26,16 @@ from itertools import chain
 
 import pandas as pd
 
-from .solver.limits import vent_flows
-from .solver.results import operating_flags
+from .errors import ModelError
+from .solver.limits import vent_flows, willans_efficiencies
+from .solver.results import operating_flags, wet_text
+from .stations.checks import ALL_CASES
 from .stations.rows import SEVERITY, Status
 from .stations.run import PointChecks, StationReport, point_checks, run_checks
-from .status import CaseStatus
+from .status import CaseStatus, beyond
 from .units import C0, T_H
 
-__all__ = ["FINDING_COLUMNS", "CASE_CHECKS", "RANK", "sort_findings", "Evaluation", "ChunkFindings", "case_rows",
+__all__ = ["FINDING_COLUMNS", "CASE_CHECKS", "INPUT_CHECKS", "input_rows", "case_input_warnings", "RANK", "sort_findings", "Evaluation", "ChunkFindings", "case_rows",
            "chunk_findings", "evaluate", "evaluate_one", "new_fails", "compare_findings"]
 
 #: Columns of the findings table (docs/results.md).
@@ -42,7 +44,14 @@ FINDING_COLUMNS = ("case", "item", "type", "check", "value", "limit", "unit", "s
 
 #: The checks of a balance beyond the station checks, with their docs pages.
 CASE_CHECKS = ("balance", "header_wet", "exhaust_quality", "outlet_setpoint",
-               "steam_vented", "at_limit")
+               "steam_vented", "at_limit", "turbine_efficiency")
+
+#: The checks of the input (warnings of ``steamnet.model.validate.input_warnings``).
+INPUT_CHECKS = ("condenser_pressure", "spray_supply_margin")
+
+#: Implied isentropic efficiency of a Willans line above which it is flagged (common
+#: practice, no source); above 1 it fails (more than an ideal expansion).
+WILLANS_ETA_WARN = 0.9
 
 
 _BALANCE_SOURCE = "steady-state mass and energy balance (docs/method.md)"
@@ -98,6 +107,8 @@ def _flag_rows(case: str, flags, sol) -> list[tuple]:
     out = []
     for f in flags:
         out.append(_flag(case, f.item, f.type, f.kind, f.value, f.limit))
+    for name, eta, m in willans_efficiencies(sol):
+        out.append(_willans_row(case, name, eta, m))
     # vents that pass steam (a loss, always reported)
     for name, m, cap in vent_flows(sol):
         if m > 1e-6:
@@ -105,11 +116,28 @@ def _flag_rows(case: str, flags, sol) -> list[tuple]:
     return out
 
 
+def _willans_row(case: str, item: str, eta: float, m: float) -> tuple:
+    """The implied isentropic efficiency of a turbine's Willans line in one balance."""
+    status = (Status.FAIL if beyond(eta, 1.0, above=True) else
+              Status.WARN if beyond(eta, WILLANS_ETA_WARN, above=True) else Status.OK)
+    limit = 1.0 if status is Status.FAIL else WILLANS_ETA_WARN
+    advice = {
+        Status.FAIL: "the Willans line gives more power than an ideal expansion of this "
+                     "steam: check willans_no_load, willans_slope and their units",
+        Status.WARN: "the Willans line implies an efficiency few turbines reach: check "
+                     "it against the maker's data",
+        Status.OK: "",
+    }[status]
+    return (case, item, "turbine", "turbine_efficiency", eta, limit, "-", status.value,
+            f"Willans line: implied isentropic efficiency {eta:.3f} at {m * T_H:.4g} t/h "
+            "from the inlet header's state", "common practice, no source", advice)
+
+
 def _flag(case, item, typ, kind, value, limit) -> tuple:
     """One flag as a finding row (value and limit from SI into the row's unit)."""
     if kind == "header_wet":
         return (case, item, typ, "header_wet", value, 1.0, "-", Status.FAIL.value,
-                f"wet, quality {value:.4f}: header enthalpy below saturated vapour",
+                f"{wet_text(value)}: header enthalpy below saturated vapour",
                 "IAPWS-IF97 saturation at the header pressure",
                 "condensate forms in the header and its users: check heat loss, "
                 "desuperheater setpoints and drainage")
@@ -119,7 +147,7 @@ def _flag(case, item, typ, kind, value, limit) -> tuple:
                 "lowest acceptable quality", "no limit in the model file",
                 "give the maker's lowest exhaust quality to have it checked")
     if kind == "exhaust_quality":
-        low = value < limit * (1 - 1e-9)
+        low = beyond(value, limit, above=False)
         return (case, item, typ, "exhaust_quality", value, limit, "-",
                 (Status.FAIL if low else Status.OK).value,
                 f"wet exhaust, quality {value:.4f} against the lowest acceptable "
@@ -175,6 +203,12 @@ def _table_flag_rows(result, model=None) -> list[tuple]:
             out.append(_flag(result.case, r["item"], "vent", "steam_vented",
                              r["flow_t_h"] / T_H, None if cap is None or
                              (isinstance(cap, float) and math.isnan(cap)) else cap / T_H))
+        it = (model.table(r["type"]).get(r["item"])
+              if model is not None and r["type"] == "turbine" else None)
+        eta = r.get("isentropic_efficiency")
+        if getattr(it, "willans_slope", None) is not None and r.get("flow_t_h", 0) > \
+                1e-6 * T_H and eta is not None and math.isfinite(eta):
+            out.append(_willans_row(result.case, r["item"], eta, r["flow_t_h"] / T_H))
         lim = r.get("limit") or ""
         if lim in ("at maximum", "at minimum"):
             key = "max_t_h" if lim == "at maximum" else "min_t_h"
@@ -270,7 +304,34 @@ def evaluate(study, *, data: dict | None = None, results=None,
         rows = list(chain.from_iterable(case_rows(r, study.model) for r in cases))
         points = [point_checks(data, cases)]
     report = run_checks(_Study(study.model, cases, points), data=data)
+    rows.extend(input_rows(study.model, [c.case for c in cases]))
     return Evaluation(findings=_table(rows, report), stations=report)
+
+
+def case_input_warnings(model, cases=()) -> list[tuple[str, object]]:
+    """(case, warning) of the input warnings
+    (:func:`steamnet.model.validate.input_warnings`): those of the base model for
+    ``"all cases"``, and those that only a case of the model file among ``cases`` has,
+    for that case."""
+    from .model.validate import input_warnings
+    base = input_warnings(model)
+    out = [(ALL_CASES, w) for w in base]
+    named = {c.name for c in getattr(model, "cases", ())}
+    for case in dict.fromkeys(cases):
+        if case in named:
+            try:
+                m = model.for_case(case)
+            except ModelError:
+                continue        # the case's result says why it could not be solved
+            out.extend((case, w) for w in input_warnings(m) if w not in base)
+    return out
+
+
+def input_rows(model, cases=()) -> list[tuple]:
+    """The input warnings as finding rows (:func:`case_input_warnings`)."""
+    return [(case, w.item, w.type, w.check, w.value, w.limit, w.unit, Status.WARN.value,
+             f"{w.message} (field '{w.field}')", w.source, w.advice)
+            for case, w in case_input_warnings(model, cases)]
 
 
 @dataclass(frozen=True)

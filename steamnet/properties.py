@@ -272,7 +272,7 @@ def _sat(p: float) -> Saturation:
 def saturation(p: float) -> Saturation:
     """Saturated liquid and vapour at pressure ``p`` [Pa].
 
-    >>> round(saturation(1e5).t - 273.15, 2)   # IAPWS R7-97(2012), Table 35: 372.755919 K
+    >>> round(saturation(1e5).t - 273.15, 2)   # IAPWS R7-97(2012), Table 36: 372.755919 K
     99.61
     """
     _check_p(p)

@@ -180,7 +180,12 @@ def unit_factor(unit: str, kind: Kind) -> tuple[float, float, bool]:
         u, gauge = _split_pressure_unit(u)
     if kind is Kind.TEMPERATURE_DIFFERENCE:
         low = u.lower()
-        u = {"k": "K", "degc": "delta_degC", "°c": "delta_degC", "degf": "delta_degF",
+        if low in ("degc", "°c", "celsius", "degree_celsius", "c"):
+            # '160 degC' is a temperature on the Celsius scale; as a difference it is
+            # ambiguous (docs/model-file.md): refuse it rather than read it as 160 K
+            raise _err(f"'{unit}' is a temperature, not a temperature difference: write "
+                       "K or delta_degC (e.g. '15 K')")
+        u = {"k": "K", "delta_degc": "delta_degC", "degf": "delta_degF",
              "°f": "delta_degF", "r": "degR", "degr": "degR"}.get(low, u)
     if kind is Kind.TEMPERATURE and u.upper() in ("C", "F"):
         raise _err(f"write 'degC' or 'degF', not '{unit}'")

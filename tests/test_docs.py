@@ -6,6 +6,8 @@ import re
 import subprocess
 import sys
 
+import pytest
+
 from steamnet.model import docgen
 import steamnet
 from conftest import ROOT
@@ -110,3 +112,40 @@ def test_no_help_text_cites_notes_outside_the_repository_or_issue_numbers():
     assert len(texts) > 5 and all("Usage:" in t for _, t in texts)
     hits = [h for where, text in texts for h in _hits(where, text)]
     assert not hits, "\n".join(hits)
+
+
+def test_method_states_the_stopping_tolerances_the_solver_uses():
+    """docs/method.md gives the enthalpy and flow tolerances at which the balance stops,
+    and they are the defaults of the solver."""
+    import inspect
+    from steamnet.solver import balance
+    text = " ".join((ROOT / "docs" / "method.md").read_text(encoding="utf-8").split())
+    m = re.search(r"no header enthalpy moves by more than (\S+) of the largest "
+                  r"saturated-vapour enthalpy of the headers \(about (\S+) J/kg\) and no "
+                  r"flow by more than (\S+) kg/s \((\d+) iterations at most", text)
+    assert m, "docs/method.md no longer states the stopping rule in the expected words"
+    rel, about, tol_x, max_iter = float(m[1]), float(m[2]), float(m[3]), int(m[4])
+    sig = inspect.signature(balance.solve_net).parameters
+    assert rel == balance.TOL_H_REL
+    assert tol_x == sig["tol_x"].default
+    assert max_iter == sig["max_iter"].default
+    # the largest saturated-vapour enthalpy is about 2.80e6 J/kg (IAPWS R7-97(2012),
+    # saturated vapour near 30 bar, from memory): the "about" figure follows from it
+    assert about == pytest.approx(rel * 2.80e6, rel=0.1)
+
+
+def test_iapws_saturation_table_citations_name_the_right_table():
+    """IAPWS R7-97(2012) gives psat(T) in Table 35 and Tsat(p) in Table 36: every
+    citation of either table beside a saturation check names the one that holds it."""
+    bad = []
+    for path in [*(ROOT / "tests").glob("*.py"), *(ROOT / "steamnet").rglob("*.py"),
+                 *(ROOT / "docs").glob("*.md")]:
+        if path.name == "test_docs.py":
+            continue
+        lines = path.read_text(encoding="utf-8").splitlines()
+        for i, line in enumerate(lines):
+            near = " ".join(lines[max(0, i - 1):i + 3]).lower()
+            if "table 35" in line.lower() and re.search(
+                    r"t_?sat|saturation temp|saturation\(.*\)\.t\b", near):
+                bad.append(f"{path.relative_to(ROOT)}:{i + 1}")
+    assert not bad, "Tsat(p) is IAPWS R7-97(2012) Table 36: " + ", ".join(bad)

@@ -114,10 +114,19 @@ def test_temperatures(text, k):
     assert same(q(text, Kind.TEMPERATURE), k)
 
 
-@pytest.mark.parametrize("text,k", [("10 K", 10.0), ("18 degF", 10.0), ("10 degC", 10.0)])
+@pytest.mark.parametrize("text,k", [("10 K", 10.0), ("18 degF", 10.0),
+                                    ("10 delta_degC", 10.0)])
 def test_temperature_differences(text, k):
     # a difference of 1 degF is 1/1.8 K; a difference of 1 degC is 1 K
     assert same(q(text, Kind.TEMPERATURE_DIFFERENCE), k)
+
+
+@pytest.mark.parametrize("text", ["160 degC", "10 °C"])
+def test_a_celsius_temperature_is_not_taken_for_a_difference(text):
+    """A difference written as a Celsius temperature is refused with the fix, never
+    read as that many kelvin (docs/model-file.md: differences are in K)."""
+    with pytest.raises(ModelError, match="write K or delta_degC"):
+        q(text, Kind.TEMPERATURE_DIFFERENCE)
 
 
 def test_bare_c_and_f_are_refused():

@@ -108,6 +108,9 @@ class ValveNoise:
         Liquid only: pressure ratio xF = dP / (p1 - pv) [-]
     x_fz : float or None
         Liquid only: characteristic pressure ratio xFz at the inlet pressure [-]
+    dp_choked : float or None
+        Liquid only: the pressure drop at which the flow chokes, FL^2 (p1 - FF pv)
+        (IEC 60534-2-1) [Pa]
     """
 
     level: float
@@ -116,6 +119,7 @@ class ValveNoise:
     basis: str
     x_f: float | None = None
     x_fz: float | None = None
+    dp_choked: float | None = None
 
 
 def piping_factors(kv: float, fl: float, d_valve: float, d_pipe_in: float,
@@ -299,9 +303,10 @@ def liquid_valve_noise(m: float, p_in: float, p_out: float, *, p_sat: float,
     x_fz *= (6e5 / p_in) ** 0.125
     x_f = (p_in - p_out) / (p_in - p_sat)
     ff = _cv.FF_critical_pressure_ratio_l(p_sat, p_crit)
-    choked = (p_in - p_out) >= fl * fl * (p_in - ff * p_sat)
+    dp_choked = fl * fl * (p_in - ff * p_sat)
+    choked = (p_in - p_out) >= dp_choked
     return ValveNoise(level=float(level), cavitating=bool(x_f > x_fz),
-                      choked=bool(choked),
+                      choked=bool(choked), dp_choked=float(dp_choked),
                       basis=f"IEC 60534-8-4:2015 via fluids, Kv {kv:.4g} m3/h, xF "
                             f"{x_f:.3f} against xFz {x_fz:.3f}, pipe ID "
                             f"{pipe.diameter * 1e3:.0f} mm x {pipe.wall * 1e3:.1f} mm",

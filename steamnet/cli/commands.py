@@ -6,6 +6,7 @@ import click
 
 from ..io.textsafe import escape_controls
 from ..model.load import load_model
+from ..stations import ALL_CASES
 from ..sweep import solve_cases
 from . import EXIT_FAIL, EXIT_OK, main, parallel_options
 from ..status import CaseStatus
@@ -41,7 +42,7 @@ def print_summary(study) -> None:
         if len(c.headers):
             for _, h in c.headers.iterrows():
                 click.echo(f"    {h['header']:<12} {h['p_barg']:7.2f} bar(g) "
-                           f"{h['t_degc']:7.1f} degC  superheat {h['superheat_k']:6.1f} K  "
+                           f"{h['t_degc']:7.1f} degC  {h['state']:<20}  "
                            f"throughput {h['inflow_t_h']:8.1f} t/h")
         if c.status == CaseStatus.SOLVED:
             click.echo(f"  balance closes: mass {s['mass_residual_rel']:.1e}, energy "
@@ -53,10 +54,14 @@ def print_summary(study) -> None:
 @click.argument("model", type=click.Path(dir_okay=False))
 def check(model: str) -> None:
     """Validate MODEL (the base and every case) without solving."""
+    from ..evaluate import case_input_warnings
     m = load_model(model)
     n_items = sum(len(v) for v in m.items.values())
     click.echo(f"{escape_controls(model)}: valid ({len(m.headers)} headers, {n_items} items, "
                f"{len(m.cases)} cases)")
+    for case, w in case_input_warnings(m, [c.name for c in m.cases]):
+        click.echo("warning: " + w.line(escape_controls(model),
+                                        "" if case == ALL_CASES else case))
 
 
 @main.command()

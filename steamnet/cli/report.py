@@ -55,6 +55,8 @@ def report(ctx, model: str, out: str, csv_folder: str | None, cases: tuple[str, 
     data = m.stations
     for name in cases:
         m.case(name)
+    if new_user:
+        _new_user(m, new_user, new_user_return, new_user_return_temperature)
     study = solve_cases(m, list(cases) if cases else None, station_checks=data)
     names = [c.case for c in study.cases]
     if network_case is not None and network_case not in names:
@@ -86,6 +88,36 @@ def report(ctx, model: str, out: str, csv_folder: str | None, cases: tuple[str, 
     finish_evaluation(ctx, study, ev)
 
 
+#: The options of ``report`` that give the new user's fields.
+_NEW_USER_OPTIONS = {"header": "option --new-user", "demand": "option --new-user",
+                     "duty": "option --new-user",
+                     "condensate_return": "option --new-user-return",
+                     "condensate_temperature": "option --new-user-return-temperature"}
+
+
+def _new_user(m, new_user: str, ret, ret_t) -> tuple[str, str, str]:
+    """(header, 'demand' or 'duty', amount) of ``--new-user``, checked as a user of the
+    model file would be (before any case is solved)."""
+    from ..studies.common import condensate, free_name, quantity, with_user
+    from ..units import Kind, parse_quantity
+    if "=" not in new_user:
+        raise ModelError("write the new user as 'HEADER=DEMAND', e.g. 'LP=12 t/h'",
+                         item="option --new-user")
+    header, amount = (p.strip() for p in new_user.split("=", 1))
+    try:
+        parse_quantity(amount, Kind.MASS_FLOW)
+        kind = "demand"
+    except ModelError:
+        kind = "duty"           # a heat duty ('8 MW'); its own errors name the unit
+    value = quantity(amount, Kind.MASS_FLOW if kind == "demand" else Kind.POWER, m,
+                     "option --new-user")
+    r, t = condensate(m, ret, ret_t, _NEW_USER_OPTIONS)
+    with_user(m, header, **{kind: value}, condensate_return=r, condensate_temperature=t,
+              name=free_name(m, "new consumer"), origin="option --new-user",
+              options=_NEW_USER_OPTIONS)
+    return header, kind, amount
+
+
 #: Above this many cases, --studies auto skips the studies (each needs several balances
 #: per case and header).
 STUDY_CASES_AUTO = 60
@@ -114,16 +146,7 @@ def _run_studies(m, cases, n_cases, mode, new_user, ret, ret_t, quiet,
                                                              solved=solved)
     if new_user:
         from ..studies.consumer import new_consumer_impact
-        if "=" not in new_user:
-            raise ModelError("write the new user as 'HEADER=DEMAND', e.g. 'LP=12 t/h'",
-                             item="option --new-user")
-        header, amount = (p.strip() for p in new_user.split("=", 1))
-        from ..units import Kind, parse_quantity
-        try:
-            parse_quantity(amount, Kind.MASS_FLOW)
-            kind = "demand"
-        except ModelError:
-            kind = "duty"           # a heat duty ('8 MW'); its own errors name the unit
+        header, kind, amount = _new_user(m, new_user, ret, ret_t)
         with ProgressBar("new consumer", quiet=quiet) as bar:
             out["New consumer"] = new_consumer_impact(
                 m, header, **{kind: amount}, condensate_return=ret,

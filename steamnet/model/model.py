@@ -139,6 +139,12 @@ class Model:
                                  f"(tables: {', '.join(EQUIPMENT_TABLES)}, site, prices)",
                                  file=self.source, item=origin, field=str(key))
             table, item, path = parts[0], parts[1], parts[2:]
+            if path == ["name"]:
+                raise ModelError(f"change '{key}': a case cannot rename an item (the "
+                                 "case changes and the results refer to items by "
+                                 "name); add an item instead, and put the other out "
+                                 "of service", file=self.source, item=origin,
+                                 field=str(key))
             if item not in raw.get(table, {}):
                 known = ", ".join(raw.get(table, {})) or "none"
                 raise ModelError(f"change '{key}': no {ITEM_LABELS[table]} named '{item}' "
@@ -210,7 +216,7 @@ class Model:
         raw = {t: dict(v) for t, v in self.raw.items()}
         raw.setdefault(table, {})[name] = copy.deepcopy(data)
         items = dict(self.items)
-        items.setdefault(table, {})[name] = item
+        items[table] = {**items.get(table, {}), name: item}   # this model's table stays
         return replace(self, items=items, raw=raw)
 
 

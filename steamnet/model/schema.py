@@ -266,8 +266,9 @@ class WaterSupply(_Item):
         None, description="required for an external supply; for a deaerator supply the "
         "temperature follows from the deaerator and the pump [K]")
     pump_efficiency: Fraction | None = Field(
-        None, description="pump efficiency; when given, the pump work v dP / efficiency "
-        "heats the water and is reported [-]")
+        None, description="pump efficiency of a deaerator supply; when given, the pump "
+        "work v dP / efficiency heats the water and is reported (refused on an external "
+        "supply) [-]")
     pump_turbine: Name | None = Field(
         None, description="the [[turbine]] (drive 'mechanical', mode 'pump') that drives "
         "this supply's pump: its power follows the pumped flow, and the pump's power is "
@@ -288,6 +289,11 @@ class WaterSupply(_Item):
         if self.source == "deaerator" and self.temperature is not None:
             raise FieldError("temperature", "a deaerator supply takes its temperature from the "
                              "deaerator; remove 'temperature' or use source = 'external'")
+        if self.source == "external" and self.pump_efficiency is not None:
+            raise FieldError("pump_efficiency", "an external supply is given at its "
+                             "pressure and temperature at the user, so no pump is "
+                             "modelled: remove 'pump_efficiency' (or pump from the "
+                             "deaerator with source = 'deaerator')")
 
 
 # --------------------------------------------------------------------------- boiler

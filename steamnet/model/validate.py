@@ -8,17 +8,20 @@ from __future__ import annotations
 
 import math
 from collections import defaultdict
+from typing import NamedTuple
 
 
 from .. import properties as props
 from ..calc.pump import pump_work
+from ..status import beyond
 from ..units import T_H
 from ..errors import ModelError, ModelErrors, PropertyRangeError
 from ..graph import steam_reach
 from .model import Model
 from .schema import ITEM_LABELS, VENT_RANK
 
-__all__ = ["validate_model", "swing_elements", "willans_max_efficiency"]
+__all__ = ["validate_model", "swing_elements", "willans_efficiency", "willans_max_efficiency",
+           "InputWarning", "input_warnings", "user_errors"]
 
 
 def _on(item) -> bool:
@@ -185,6 +188,8 @@ def validate_model(model: Model) -> None:
                 f"inlet header '{t.inlet}'")
         if t.mode == "fixed_flow" and t.max_flow is not None and t.flow > t.max_flow:
             err("turbine", n, "flow", "fixed flow is above max_flow")
+        if a and b and t.willans_slope is not None and p(t.outlet) < p(t.inlet):
+            _check_willans(err, model, n, t, p(t.inlet), p(t.outlet))
     for n, t in model.table("extraction_turbine").items():
         if not need_header("extraction_turbine", n, "inlet", t.inlet):
             continue
@@ -212,6 +217,11 @@ def validate_model(model: Model) -> None:
             if not props.P_MIN < t.condenser_pressure < props.P_CRIT:
                 err("extraction_turbine", n, "condenser_pressure", "outside IAPWS-IF97")
         _check_liquid_temperature(err, "extraction_turbine", n, t.condensate_temperature)
+        if t.condenser_pressure is not None and \
+                props.P_MIN < t.condenser_pressure < props.P_CRIT:
+            _check_not_above_saturation(err, "extraction_turbine", n,
+                                        t.condensate_temperature, t.condenser_pressure,
+                                        "the condenser")
         if t.exhaust is None and t.condensate_return > 0 and not deaerators:
             # only a condensing exhaust returns condensate (a backpressure exhaust
             # goes to its header as steam)
@@ -230,6 +240,13 @@ def validate_model(model: Model) -> None:
             if d.spray_supply not in supplies:
                 err("letdown", n, "desuperheater.spray_supply",
                     f"water supply '{d.spray_supply}' does not exist")
+            elif b and _on(s) and supplies[d.spray_supply].pressure <= p(s.outlet):
+                ws_p = supplies[d.spray_supply].pressure
+                err("letdown", n, "desuperheater.spray_supply",
+                    f"spray water supply '{d.spray_supply}' at {ws_p / 1e5:.4g} bar(a) "
+                    f"is not above the outlet header '{s.outlet}' at "
+                    f"{p(s.outlet) / 1e5:.4g} bar(a): no spray can flow; raise the "
+                    "supply pressure or feed the spray from another supply")
             if b and d.outlet_temperature is not None:
                 try:
                     ts = props.t_sat(p(s.outlet))
@@ -252,10 +269,7 @@ def validate_model(model: Model) -> None:
     # ---------------------------------------------------------------- users, vents
     for n, u in model.table("user").items():
         need_header("user", n, "header", u.header)
-        if u.condensate_return > 0 and not deaerators:
-            err("user", n, "condensate_return", "condensate is returned but the model "
-                "has no deaerator")
-        _check_liquid_temperature(err, "user", n, u.condensate_temperature)
+        _user_checks(err, model, n, u)
     for n, v in model.table("vent").items():
         need_header("vent", n, "header", v.header)
     if errs:
@@ -294,31 +308,23 @@ def willans_max_efficiency(no_load: float, slope: float, eta_mg: float,
     >>> round(willans_max_efficiency(2 / 3.6, 3e3 / 3.6e9, 1.0, 110 / 3.6, 400e3), 3)
     2.945
     """
-    if max_flow is None or not math.isfinite(max_flow):
-        return 1.0 / (slope * eta_mg * dh_is)
-    if max_flow <= no_load:
-        return 0.0
-    return (max_flow - no_load) / (slope * eta_mg * max_flow * dh_is)
+    m = math.inf if max_flow is None or not math.isfinite(max_flow) else max_flow
+    share = 1.0 if math.isinf(m) else max(0.0, (m - no_load) / m)
+    return share / (slope * eta_mg * dh_is)
 
 
-def _hottest_steam(model: Model) -> float | None:
-    """The hottest steam any boiler raises or any import brings [K], or None."""
-    ts = [b.steam_temperature for b in model.table("boiler").values()]
-    ts += [t.steam_temperature for t in model.table("steam_transfer").values()
-           if t.direction == "import" and t.steam_temperature is not None]
-    return max(ts, default=None)
+def isentropic_drop(p_in: float, h_in: float, p_out: float) -> float:
+    """h_in - h(p_out, s(p_in, h_in)), the isentropic enthalpy drop [J/kg]."""
+    return h_in - props.state_ps(p_out, props.state_ph(p_in, h_in).s).h
 
 
-def _largest_drop(p_in: float, t_in: float, p_out: float) -> float | None:
-    """Isentropic drop from (p_in, t_in) to p_out [J/kg]: at a given inlet pressure it
-    grows with the inlet temperature, so from the hottest steam of the plant it bounds
-    every real one from above; None outside IAPWS-IF97 or when that steam is not
-    superheated at p_in."""
+def _largest_drop(p_in: float, h_in: float, p_out: float) -> float | None:
+    """Isentropic drop from (p_in, h_in) to p_out [J/kg]: at a given inlet pressure it
+    grows with the inlet enthalpy, so from the hottest steam of the plant
+    (:func:`_hottest_steam`) it bounds every real one from above; None outside
+    IAPWS-IF97."""
     try:
-        if t_in <= props.t_sat(p_in):
-            return None
-        st = props.state_pt(p_in, t_in)
-        return st.h - props.state_ps(p_out, st.s).h
+        return isentropic_drop(p_in, h_in, p_out)
     except PropertyRangeError:
         return None
 
@@ -327,8 +333,8 @@ def _check_section_willans(model: Model, err) -> None:
     """The Willans line of an extraction turbine's section must not imply an
     isentropic efficiency above 1 anywhere in its range, even from the hottest steam
     the plant raises (docs/method.md, "extraction turbine")."""
-    t_max = _hottest_steam(model)
-    if t_max is None:
+    h_max = _hottest_steam(model)
+    if h_max is None:
         return
     for n, t in model.table("extraction_turbine").items():
         if t.section_willans_no_load is None:
@@ -349,7 +355,7 @@ def _check_section_willans(model: Model, err) -> None:
             top = t.max_flow
             if j == len(t.extractions) and t.max_exhaust_flow is not None:
                 top = t.max_exhaust_flow if top is None else min(top, t.max_exhaust_flow)
-            drop = _largest_drop(ps[j], t_max, ps[j + 1])
+            drop = _largest_drop(ps[j], h_max, ps[j + 1])
             if drop is None or not drop > 0:
                 continue
             eta = willans_max_efficiency(m0, k, eta_mg, top, drop)
@@ -359,7 +365,7 @@ def _check_section_willans(model: Model, err) -> None:
                 err("extraction_turbine", n, "section_willans_slope", f"section {j + 1}: "
                     f"the Willans line implies an isentropic efficiency of {eta:.3g} "
                     f"{at}, above 1 even from the hottest steam of the plant "
-                    f"({t_max - 273.15:.0f} degC): raise the slope or the no-load flow "
+                    f"({h_max / 1e3:.0f} kJ/kg): raise the slope or the no-load flow "
                     "(the maker's data)")
 
 
@@ -395,6 +401,106 @@ def _check_pump_turbines(model: Model, err) -> None:
         if t.mode == "pump" and tn not in driven:
             err("turbine", tn, "mode", "mode 'pump' but no water supply names this "
                 "turbine in its 'pump_turbine'")
+def _user_checks(err, model: Model, n: str, u) -> None:
+    """The checks of one user beyond its own fields (its header is checked apart)."""
+    if u.condensate_return > 0 and not model.table("deaerator"):
+        err("user", n, "condensate_return", "condensate is returned but the model "
+            "has no deaerator")
+    _check_liquid_temperature(err, "user", n, u.condensate_temperature)
+    if u.header in model.headers:
+        _check_not_above_saturation(err, "user", n, u.condensate_temperature,
+                                    model.headers[u.header].pressure,
+                                    f"its header '{u.header}'")
+
+
+def user_errors(model: Model, name: str) -> list[tuple[str | None, str]]:
+    """(field, message) of every problem of user ``name`` of ``model`` that
+    :func:`validate_model` would report (an added user of a study is checked as a user
+    of the model file is)."""
+    found: list[tuple[str | None, str]] = []
+    u = model.table("user")[name]
+    if u.header not in model.headers:
+        found.append(("header", f"header '{u.header}' does not exist (headers: "
+                      f"{', '.join(model.headers) or 'none'})"))
+    _user_checks(lambda table, n, field, msg: found.append((field, msg)), model, name, u)
+    return found
+
+
+def _check_not_above_saturation(err, table, name, t, p, where: str) -> None:
+    """Returned condensate is liquid where it leaves: not hotter than saturation at
+    the pressure it condenses at (a header, the condenser)."""
+    if t is None or not (props.T_MIN < t < props.T_CRIT - 1):
+        return          # reported by _check_liquid_temperature
+    try:
+        ts = props.t_sat(p)
+    except PropertyRangeError:
+        return          # the pressure is reported where it is read
+    if beyond(t, ts, above=True):
+        err(table, name, "condensate_temperature", f"{t - 273.15:.6g} degC is above "
+            f"saturation at {where} ({ts - 273.15:.1f} degC at {p / 1e5:.4g} bar(a)): "
+            "condensate cannot be hotter than the steam it condenses from")
+
+
+def willans_efficiency(t, p_in: float, p_out: float, h_in: float,
+                       m: float) -> float:
+    """Isentropic efficiency that turbine ``t``'s Willans line implies at flow ``m``
+    from inlet enthalpy ``h_in`` (the expansion of docs/method.md, "Equipment
+    equations"): output (m - m0) / k, internal power output / (eta_mech eta_gen),
+    divided by m (h_in - h_is) [-]; ``m`` may be ``inf`` (the line's limit 1 / (k eta
+    dh_is))."""
+    eta_mg = t.mechanical_efficiency * (t.generator_efficiency
+                                        if t.drive == "generator" else 1.0)
+    return willans_max_efficiency(t.willans_no_load, t.willans_slope, eta_mg, m,
+                                  isentropic_drop(p_in, h_in, p_out))
+
+
+def _hottest_steam(model: Model) -> float | None:
+    """The largest enthalpy of steam entering the plant (boilers and imports) [J/kg]:
+    no header's steam can be hotter (throttling, mixing, expansion and heat loss never
+    add enthalpy)."""
+    hs = []
+    for b in model.table("boiler").values():
+        if b.header in model.headers:
+            hs.append((model.headers[b.header].pressure, b.steam_temperature))
+    for t in model.table("steam_transfer").values():
+        if t.direction == "import" and t.header in model.headers:
+            hs.append((model.headers[t.header].pressure, t.steam_temperature))
+    out = []
+    for p, t in hs:
+        try:
+            out.append(props.h_pt(p, t))
+        except PropertyRangeError:
+            pass        # reported by _check_superheated
+    return max(out) if out else None
+
+
+def _check_willans(err, model: Model, name: str, t, p_in: float, p_out: float) -> None:
+    """A Willans line may not imply an isentropic efficiency above 1 anywhere in the
+    turbine's range. The efficiency rises with the flow, so it is checked at the top of
+    the range (max_flow, the fixed flow or power, or the line's limit), and from the
+    hottest inlet steam the plant can have, where it is lowest: a line refused here
+    implies more than 1 in every case."""
+    h_max = _hottest_steam(model)
+    if h_max is None:
+        return
+    if t.max_flow is not None:
+        m, where = t.max_flow, f"at max_flow {t.max_flow * T_H:.4g} t/h"
+    elif t.mode == "fixed_flow" and t.flow:
+        m, where = t.flow, f"at the fixed flow {t.flow * T_H:.4g} t/h"
+    elif t.mode == "fixed_power" and t.power is not None:
+        m = t.willans_no_load + t.willans_slope * t.power
+        where = f"at the fixed power ({m * T_H:.4g} t/h)"
+    else:
+        m, where = math.inf, "at high flow (no max_flow given)"
+    try:
+        eta = willans_efficiency(t, p_in, p_out, h_max, m)
+    except PropertyRangeError:
+        return
+    if beyond(eta, 1.0, above=True):
+        err("turbine", name, "willans_slope", f"the Willans line implies an isentropic "
+            f"efficiency of {eta:.3g} {where}, even from the hottest steam of the plant: "
+            "more power than an ideal expansion gives; check willans_no_load, "
+            "willans_slope and their units (e.g. t/MWh)")
 
 
 def _check_liquid_temperature(err, table, name, t) -> None:
@@ -552,3 +658,69 @@ def _check_reachability(model: Model, errs: list, case: str) -> None:
             errs.append(ModelError(f"user on header '{u.header}' has no path from any "
                                    "boiler or steam import", file=model.source,
                                    item=f"{case}user '{n}'", field="header"))
+
+
+# ------------------------------------------------------------------ input warnings
+class InputWarning(NamedTuple):
+    """Input that is possible but probably not meant: reported as a ``warn`` finding
+    and by ``steamnet check``, never refused (docs/checks/index.md, "Checks of the
+    input")."""
+
+    item: str
+    type: str
+    field: str
+    check: str
+    value: float
+    limit: float
+    unit: str
+    message: str
+    source: str
+    advice: str
+
+    def line(self, file: str, case: str = "") -> str:
+        """One line naming the file, the item and the field, like an error's."""
+        where = f"case '{case}': " if case else ""
+        return (f"{file}: {where}{ITEM_LABELS[self.type]} '{self.item}': field "
+                f"'{self.field}': {self.message}")
+
+
+def input_warnings(model: Model) -> list[InputWarning]:
+    """The warnings of ``model``'s input: a condenser at or above atmospheric pressure;
+    a spray water supply whose margin over a station's outlet pressure is below that
+    station's minimum spray pressure difference."""
+    out: list[InputWarning] = []
+    p_atm = model.site.atmospheric_pressure
+    for n, t in model.table("extraction_turbine").items():
+        pc = t.condenser_pressure
+        if pc is not None and not beyond(pc, p_atm, above=False):
+            out.append(InputWarning(
+                n, "extraction_turbine", "condenser_pressure",
+                "condenser_pressure", pc / 1e5, p_atm / 1e5, "bar(a)",
+                f"condenser at {pc / 1e5:.4g} bar(a), not below the atmospheric "
+                f"{p_atm / 1e5:.4g} bar(a): a condenser runs under vacuum",
+                "common practice, no source",
+                "check the condenser pressure and its unit (bar(a), not bar(g)); an "
+                "exhaust at or above atmospheric pressure is a backpressure exhaust"))
+    supplies, headers = model.table("water_supply"), model.headers
+    stations = model.stations
+    for n, s in model.table("letdown").items():
+        d = s.desuperheater
+        if d is None or d.spray_supply not in supplies or s.outlet not in headers \
+                or n not in stations:
+            continue
+        if d.atomisation in ("steam_assisted", "other"):
+            continue    # the maker's margin applies (check spray_water_pressure)
+        margin = supplies[d.spray_supply].pressure - headers[s.outlet].pressure
+        least = stations[n].limits.spray_pressure_margin_fail
+        if 0 < margin and beyond(margin, least, above=False):
+            out.append(InputWarning(
+                n, "letdown", "desuperheater.spray_supply",
+                "spray_supply_margin", margin / 1e5, least / 1e5, "bar",
+                f"spray water supply '{d.spray_supply}' is only {margin / 1e5:.3g} bar "
+                f"above the outlet header '{s.outlet}', below the station's minimum "
+                f"spray pressure difference {least / 1e5:.3g} bar",
+                stations[n].limits.source("spray_pressure_margin_fail"),
+                "a mechanical nozzle atomises poorly with so little pressure: raise "
+                "the supply pressure, or give the maker's margin (station limit "
+                "spray_pressure_margin_fail) and atomisation"))
+    return out

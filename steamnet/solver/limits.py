@@ -21,7 +21,7 @@ from ..model.schema import ITEM_LABELS
 from ..units import T_H as TH
 
 __all__ = ["Check", "limit_checks", "newly_binding", "station_loads", "running_units",
-           "vent_flows", "TH"]
+           "vent_flows", "willans_efficiencies", "TH"]
 
 _TOL = {"kg/s": 1e-6, "J/kg": 1e-3}
 
@@ -130,6 +130,19 @@ def vent_flows(sol) -> list[tuple[str, float, float | None]]:
     for v in sol.net.vents:
         cap = sol.net.vars[v["var"]].hi
         out.append((v["name"], float(sol.x[v["var"]]), cap if math.isfinite(cap) else None))
+    return out
+
+
+def willans_efficiencies(sol) -> list[tuple[str, float, float]]:
+    """(name, implied isentropic efficiency [-], steam kg/s) of every running turbine
+    whose flow follows a Willans line: its enthalpy drop over the isentropic one from
+    its inlet header's state."""
+    out = []
+    for t, c in zip(sol.net.turbines, sol.co.turb):
+        m = float(sol.x[t["var"]])
+        h_in = sol.h[t["inlet"]]
+        if c.get("willans") and m > 1e-6 and h_in > c["h_is"]:
+            out.append((t["name"], c["dh"] / (h_in - c["h_is"]), m))
     return out
 
 

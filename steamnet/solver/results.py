@@ -180,6 +180,21 @@ def water_balance(sol: Solution, co=None) -> dict:
 
 
 # ------------------------------------------------------------------------ tables
+def wet_text(quality: float) -> str:
+    """How every output names wet steam: ``"wet, quality 0.9812"``."""
+    return f"wet, quality {quality:.4f}"
+
+
+def state_text(st: props.State, t_sat: float) -> str:
+    """A header's steam in words: ``"superheat 23.4 K"``, or :func:`wet_text` for wet
+    steam (never "superheat 0.0 K", which reads as dry saturated steam)."""
+    if st.is_wet:
+        return wet_text(st.x)
+    if st.phase == "liquid":
+        return "liquid, below saturation"
+    return f"superheat {st.t - t_sat:.1f} K"
+
+
 def header_table(sol: Solution, case: str, res: dict) -> pd.DataFrame:
     net, x = sol.net, sol.x
     ins = header_inflows(net, sol.co, x, labels=False)
@@ -193,7 +208,8 @@ def header_table(sol: Solution, case: str, res: dict) -> pd.DataFrame:
             "case": case, "header": name,
             "p_bara": net.p[i] / 1e5, "p_barg": (net.p[i] - p_atm) / 1e5,
             "t_degc": st.t - C0, "t_sat_degc": sat.t - C0,
-            "superheat_k": (st.t - sat.t) if not st.is_wet else 0.0,
+            "superheat_k": (st.t - sat.t) if st.phase == "vapour" else np.nan,
+            "state": state_text(st, sat.t),
             "h_kj_kg": sol.h[i] * KJ,
             "quality": st.x if st.is_wet else np.nan, "wet": st.is_wet,
             "inflow_t_h": sum(f for _, f, _ in ins[i]) * TH,

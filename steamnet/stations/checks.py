@@ -27,6 +27,7 @@ References
 
 from __future__ import annotations
 
+from dataclasses import replace
 from typing import Iterable
 
 from .. import properties as props
@@ -37,6 +38,7 @@ from ..units import T_H
 from ..model.stations import StationData, StationLimits, StationPoint, ValveData
 from ._context import (Ctx, control_gains, gain_inputs, limit_source, needs_row, outlet,
                        outlet_velocity, point_check, row, water_enthalpy, water_state)
+from ..status import beyond
 from .rows import CheckRow, Status, grade_high, grade_low, worst
 from .safety import SAFETY_POINT_CHECKS, check_relief_cover_rated
 
@@ -152,13 +154,13 @@ def check_steam_turndown(c: Ctx) -> CheckRow:
     m = c.point.m_steam
     value = m * T_H
     basis = f"steam {value:.3g} t/h"
-    if lo is not None and m < lo:
+    if lo is not None and beyond(m, lo, above=False):
         return c.row(Status.FAIL, value=value, limit=lo * T_H, basis=basis,
                      source=MAKERS_DATA,
                      advice="steam flow below the desuperheater's rated minimum: poor "
                             "atomisation and mixing; consider a smaller parallel "
                             "station")
-    if hi is not None and m > hi:
+    if hi is not None and beyond(m, hi, above=True):
         return c.row(Status.FAIL, value=value, limit=hi * T_H, basis=basis,
                      source=MAKERS_DATA,
                      advice="steam flow above the desuperheater's rated maximum; "
@@ -181,7 +183,7 @@ def check_spray_turndown(c: Ctx) -> CheckRow:
     if lo is None:
         return c.needs(["the nozzle's minimum controllable spray flow"],
                        source=MAKERS_DATA, value=value)
-    if c.point.m_spray < lo:
+    if beyond(c.point.m_spray, lo, above=False):
         return c.row(Status.FAIL, value=value, limit=lo * T_H, source=MAKERS_DATA,
                      basis="spray flow",
                      advice="spray below the nozzle's minimum controllable flow: poor "
@@ -190,6 +192,19 @@ def check_spray_turndown(c: Ctx) -> CheckRow:
     return c.row(Status.OK, value=value, limit=lo * T_H, source=MAKERS_DATA,
                  basis="spray flow",
                  advice="spray above the nozzle's minimum controllable flow")
+
+
+def _size_basis(sizing: ValveSizing, valve: ValveData, full: bool) -> ValveSizing:
+    """The sizing, its basis saying what was used: a valve size given without the FL
+    and Fd that the valve Reynolds number needs is not used, and the basis says so
+    (rather than "no diameters given")."""
+    if full or valve.diameter is None:
+        return sizing
+    missing = " and ".join(n for n, v in (("FL", valve.fl), ("Fd", valve.fd)) if v is None)
+    note = (f"valve size {valve.diameter * 1e3:.4g} mm given without {missing}: size not "
+            "used, turbulent flow assumed, no piping geometry factor")
+    return replace(sizing, notes=tuple(note if n.startswith("no diameters given") else n
+                                       for n in sizing.notes))
 
 
 def _travel_row(c: Ctx, what: str, valve: ValveData, sizing: ValveSizing,
@@ -215,7 +230,7 @@ def _travel_row(c: Ctx, what: str, valve: ValveData, sizing: ValveSizing,
     status, limit = grade_high(travel, lim.valve_travel_warn_high,
                                lim.valve_travel_fail_high)
     source = limit_source(lim, status, "valve_travel_warn_high", "valve_travel_fail_high")
-    if status is Status.OK and travel < lim.valve_travel_warn_low:
+    if status is Status.OK and beyond(travel, lim.valve_travel_warn_low, above=False):
         status, limit = Status.WARN, lim.valve_travel_warn_low
         source = lim.source("valve_travel_warn_low")
         advice = (f"{what} below {100 * limit:.0f} % travel: poor control near the seat "
@@ -257,6 +272,7 @@ def check_letdown_valve(c: Ctx) -> CheckRow:
     except ModelError as exc:
         return c.needs(["superheated inlet steam"], source=source,
                        extra=f" ({exc.message})")
+    sizing = _size_basis(sizing, valve, full)
     return _travel_row(c, "let-down valve", valve, sizing,
                        f"; dP = {(pt.p_in - pt.p_out) / 1e5:.4g} bar")
 
@@ -288,6 +304,7 @@ def check_spray_valve(c: Ctx) -> CheckRow:
     sizing = size_water_valve(pt.p_water, pt.p_out, pt.m_spray, water_state(pt),
                               fl=valve.fl, fd=valve.fd if full else None,
                               d_valve=valve.diameter if full else None)
+    sizing = _size_basis(sizing, valve, full)
     return _travel_row(c, "spray valve", valve, sizing,
                        f"; dP = p_water - p_out = {(pt.p_water - pt.p_out) / 1e5:.4g} "
                        "bar, nozzle drop not deducted")
@@ -343,7 +360,7 @@ def check_downstream_velocity(c: Ctx) -> CheckRow:
         basis += "; no desuperheater, low limit not applied"
     advice = {
         Status.WARN: ("outlet velocity high: erosion and noise; check a larger outlet "
-                      "pipe" if velocity > lim.velocity_warn_high else
+                      "pipe" if beyond(velocity, lim.velocity_warn_high, above=True) else
                       "outlet velocity low: poor atomisation and spray fall-out; "
                       "check a smaller outlet pipe or a steam-assisted nozzle"),
         Status.OK: "outlet velocity within the usual range",
@@ -370,7 +387,7 @@ def check_sensor_distance(c: Ctx) -> CheckRow:
         return c.needs(needs, source=source)
     velocity = outlet_velocity(c.data, c.point)
     needed = evaporation_distance(velocity, t_evap)
-    short = c.data.sensor_distance < needed
+    short = beyond(c.data.sensor_distance, needed, above=False)
     return c.row(Status.FAIL if short else Status.OK, value=c.data.sensor_distance,
                  limit=needed, source=source,
                  basis=f"{velocity:.3g} m/s x {t_evap:.3g} s evaporation time",

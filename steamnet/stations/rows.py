@@ -7,9 +7,10 @@ does not concern the station or the case gives ``not_applicable``.
 
 from __future__ import annotations
 
-import operator
 from enum import Enum
 from typing import NamedTuple
+
+from ..status import beyond
 
 __all__ = ["Status", "CheckRow", "CHECK_COLUMNS", "SEVERITY", "worst", "grade_high",
            "grade_low"]
@@ -107,16 +108,17 @@ def grade_high(value: float, warn: float | None, fail: float | None
     value : float
         Checked value [any unit]
     warn : float or None
-        Warn above this; None for no warning level [same unit]
+        Warn above this (by more than ``steamnet.status.LIMIT_REL_TOL``); None for
+        no warning level [same unit]
     fail : float or None
-        Fail above this; None for no failure level [same unit]
+        Fail above this (the same tolerance); None for no failure level [same unit]
 
     Returns
     -------
     status, limit : Status, float or None
         Verdict and the limit it refers to [-], [same unit]
     """
-    return _grade(value, warn, fail, operator.gt)
+    return _grade(value, warn, fail, True)
 
 
 def grade_low(value: float, warn: float | None, fail: float | None
@@ -128,21 +130,23 @@ def grade_low(value: float, warn: float | None, fail: float | None
     value : float
         Checked value [any unit]
     warn : float or None
-        Warn below this; None for no warning level [same unit]
+        Warn below this (by more than ``steamnet.status.LIMIT_REL_TOL``); None for
+        no warning level [same unit]
     fail : float or None
-        Fail below this; None for no failure level [same unit]
+        Fail below this (the same tolerance); None for no failure level [same unit]
 
     Returns
     -------
     status, limit : Status, float or None
         Verdict and the limit it refers to [-], [same unit]
     """
-    return _grade(value, warn, fail, operator.lt)
+    return _grade(value, warn, fail, False)
 
 
-def _grade(value, warn, fail, beyond) -> tuple[Status, float | None]:
-    if fail is not None and beyond(value, fail):
+def _grade(value, warn, fail, above: bool) -> tuple[Status, float | None]:
+    # a value at a limit (within steamnet.status.LIMIT_REL_TOL) is not beyond it
+    if fail is not None and beyond(value, fail, above=above):
         return Status.FAIL, fail
-    if warn is not None and beyond(value, warn):
+    if warn is not None and beyond(value, warn, above=above):
         return Status.WARN, warn
     return Status.OK, warn if warn is not None else fail

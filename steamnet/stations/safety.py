@@ -338,7 +338,12 @@ def check_spray_cavitation(c: Ctx) -> CheckRow:
             "anti-cavitation trim or a restriction orifice to share the drop")
     else:
         status, advice = Status.OK, "no cavitation expected in the spray valve"
-    return c.row(status, value=noise.x_f, limit=noise.x_fz, basis=noise.basis,
+    pt = c.point
+    dp = pt.p_water - pt.p_out
+    basis = (f"{noise.basis}; dP {dp / 1e5:.4g} bar against the choked-flow limit "
+             f"FL^2 (p1 - FF pv) = {noise.dp_choked / 1e5:.4g} bar "
+             f"({'choked' if noise.choked else 'not choked'})")
+    return c.row(status, value=noise.x_f, limit=noise.x_fz, basis=basis,
                  source=_CAVITATION_SOURCE, advice=advice)
 
 

@@ -5,16 +5,17 @@ from __future__ import annotations
 
 from typing import Callable, Iterable, Iterator
 
-from ..errors import ModelError
+from ..errors import ModelError, ModelErrors
 from ..model.model import Model
 from ..model.schema import EQUIPMENT_TABLES, NAME_RE, SI
+from ..model.validate import user_errors
 from ..solve import CaseResult, solve_case
 from ..units import Kind, parse_quantity
 from ..model.cases import CaseSet, model_case_set
 from ..status import CaseStatus
 
 __all__ = ["Progress", "resolve_cases", "quantity", "condensate", "header_list",
-           "with_user", "solve", "warm", "solved_cases", "free_name", "tick"]
+           "with_user", "solve", "warm", "solved_cases", "free_name", "tick", "OPTIONS"]
 
 #: progress(done, total, label), called after each unit of work.
 Progress = Callable[[int, int, str], None]
@@ -48,18 +49,20 @@ def quantity(value, kind: Kind, model: Model, what: str) -> float:
                          item=what) from None
 
 
-def condensate(model: Model, condensate_return, condensate_temperature
-               ) -> tuple[float, float | None]:
-    """The condensate return [-] and temperature [K] of an added user, checked."""
-    ret = quantity(condensate_return, Kind.FRACTION, model, "option --return")
+def condensate(model: Model, condensate_return, condensate_temperature,
+               options: dict | None = None) -> tuple[float, float | None]:
+    """The condensate return [-] and temperature [K] of an added user, checked; errors
+    name the options of ``options`` (field -> label, default :data:`OPTIONS`)."""
+    opt = {**OPTIONS, **(options or {})}
+    ret = quantity(condensate_return, Kind.FRACTION, model, opt["condensate_return"])
     t_ret = quantity(condensate_temperature, Kind.TEMPERATURE, model,
-                     "option --return-temperature")
+                     opt["condensate_temperature"])
     if not 0 <= ret <= 1:
         raise ModelError("the condensate return must lie in 0 to 100 %",
-                         item="option --return")
+                         item=opt["condensate_return"])
     if ret > 0 and t_ret is None:
         raise ModelError("a condensate return above zero needs its temperature",
-                         item="option --return-temperature")
+                         item=opt["condensate_temperature"])
     return ret, t_ret
 
 
@@ -85,9 +88,12 @@ def free_name(model: Model, wanted: str) -> str:
 def with_user(model: Model, header: str, *, demand: float | None = None,
               duty: float | None = None, condensate_return: float = 0.0,
               condensate_temperature: float | None = None,
-              name: str = "added demand", origin: str = "added user") -> Model:
+              name: str = "added demand", origin: str = "added user",
+              options: dict | None = None) -> Model:
     """``model`` with one more steam user (SI values), made with
-    :meth:`Model.with_item`; the model file is not touched."""
+    :meth:`Model.with_item`; the model file is not touched. The user gets the checks
+    of a user of the model file; their errors name the options of ``options`` (field
+    -> label, default :data:`OPTIONS`)."""
     if header not in model.headers:
         raise ModelError(f"header '{header}' does not exist (headers: "
                          f"{', '.join(model.headers)})", file=model.source, item=origin,
@@ -103,7 +109,20 @@ def with_user(model: Model, header: str, *, demand: float | None = None,
         data["duty"] = SI(duty)
     if condensate_temperature is not None:
         data["condensate_temperature"] = SI(condensate_temperature)
-    return model.with_item("user", data, origin=origin)
+    m = model.with_item("user", data, origin=origin)
+    # the checks a user of the model file gets, named by the option that gave the value
+    problems = user_errors(m, name)
+    if problems:
+        opt = {**OPTIONS, **(options or {})}
+        raise ModelErrors([ModelError(msg, item=opt.get(field, origin))
+                           for field, msg in problems])
+    return m
+
+
+#: The command-line option that gives each field of an added user, as errors name it.
+OPTIONS = {"header": "option --header", "demand": "option --demand",
+           "duty": "option --duty", "condensate_return": "option --return",
+           "condensate_temperature": "option --return-temperature"}
 
 
 def solve(model: Model, start: dict | None = None, *, probe: bool = False) -> CaseResult:

@@ -486,7 +486,9 @@ def _user(b: _Builder, essential: _Sub | None = None) -> None:
         item["demand"] = _th(flow)
     if b.has_da and b.rng.random() < 0.5:
         item["condensate_return"] = _pct(b.rng.uniform(0.2, 0.95))
-        item["condensate_temperature"] = _degc(b.rng.uniform(50, 115))
+        # returned condensate is liquid, below saturation at its header
+        hi = min(115.0, b.t_sat_c(h.p_barg) - 1.0)
+        item["condensate_temperature"] = _degc(b.rng.uniform(min(50.0, hi - 10.0), hi))
     if essential is None and b.rng.random() < 0.05:
         item["in_service"] = False
     else:
@@ -659,7 +661,10 @@ def _extraction_turbine(b: _Builder) -> None:
         elif b.rng.random() < 0.8:
             item["condensate_return"] = _pct(b.rng.uniform(0.5, 1.0))
             if b.rng.random() < 0.5:
-                item["condensate_temperature"] = _degc(b.rng.uniform(30, 60))
+                # below saturation at the condenser (subcooled by up to 15 K)
+                t_sat = props.t_sat(p_end) - _C0
+                item["condensate_temperature"] = _degc(b.rng.uniform(
+                    max(20.0, t_sat - 15.0), t_sat - 0.5))
     else:
         item["exhaust"] = exhaust.name
         p_end = exhaust.p_abs

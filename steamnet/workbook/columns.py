@@ -155,6 +155,7 @@ KNOWN: dict[str, Column] = {c.key: c for c in [
     _k("t_degc", "Temperature [°C]"),
     _k("t_sat_degc", "Saturation temperature [°C]"),
     _k("superheat_k", "Superheat [K]"),
+    _k("state", "Steam state", "text"),
     _k("h_kj_kg", "Enthalpy [kJ/kg]"),
     _k("quality", "Steam quality [-]", fmt="0.000"),
     _k("wet", "Wet", "bool"),

@@ -19,7 +19,7 @@ __all__ = ["overview_table", "case_frame_table", "frame_table", "HEADER_KEYS",
 
 #: Column order of the headers sheet (solver columns, steamnet/solver/results.py).
 HEADER_KEYS = ["header", "p_barg", "p_bara", "t_degc", "t_sat_degc", "superheat_k",
-               "h_kj_kg", "quality", "wet", "inflow_t_h", "outflow_t_h", "heat_loss_kw",
+               "state", "h_kj_kg", "quality", "wet", "inflow_t_h", "outflow_t_h", "heat_loss_kw",
                "mass_residual_t_h", "energy_residual_kw"]
 
 #: Column order of the equipment sheet: identity, the main quantities, then details.
