@@ -147,7 +147,8 @@ def validate_model(model: Model) -> None:
     for n, b in model.table("boiler").items():
         ok = need_header("boiler", n, "header", b.header)
         if b.feedwater not in supplies:
-            err("boiler", n, "feedwater", f"water supply '{b.feedwater}' does not exist")
+            err("boiler", n, "feedwater", f"water supply '{b.feedwater}' does not exist "
+                f"(water supplies: {', '.join(supplies) or 'none'})")
         elif ok and supplies[b.feedwater].pressure <= p(b.header):
             err("boiler", n, "feedwater", f"feedwater supply '{b.feedwater}' pressure is "
                 f"not above the header pressure")
@@ -218,7 +219,8 @@ def validate_model(model: Model) -> None:
         if d is not None:
             if d.spray_supply not in supplies:
                 err("letdown", n, "desuperheater.spray_supply",
-                    f"water supply '{d.spray_supply}' does not exist")
+                    f"water supply '{d.spray_supply}' does not exist (water supplies: "
+                    f"{', '.join(supplies) or 'none'})")
             if b and d.outlet_temperature is not None:
                 try:
                     ts = props.t_sat(p(s.outlet))
