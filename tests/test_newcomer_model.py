@@ -102,7 +102,7 @@ changes = { "user.Dryers.demand" = "28 t/h", "site.makeup_temperature" = "5 degC
 """
 
 
-def test_newcomer_three_header_model(tmp_path):
+def test_newcomer_first_model(tmp_path):
     path = tmp_path / "practice.toml"
     path.write_text(NEWCOMER)
     runner = CliRunner()

@@ -289,5 +289,7 @@ def _findings_section(ws, run: Run, add, t, long) -> None:
 
 
 def lines_of(text, width: int) -> int:
-    return max(1, -(-len(str(text or "")) // max(1, width)))
+    """About how many lines a text wraps to in a column ``width`` characters wide (a
+    spreadsheet fits a few more characters of text than of digits)."""
+    return max(1, -(-len(str(text or "")) // max(1, int(width * 1.15))))
 
