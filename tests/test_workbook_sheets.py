@@ -183,6 +183,10 @@ def test_findings_worst_first_infeasible_cases_first(infeasible_book):
         r = part["Severity"].map(rank).tolist()
         assert r == sorted(r)
     assert set(df["Severity"]) <= set(rank)
+    # every finding of the case that does not balance says so, not only its balance row
+    for advice in df[bad]["Advice"]:
+        assert "does not balance" in advice or "short of steam" in advice, advice
+    assert (df[bad]["Advice"].str.contains("the case does not balance")).sum() >= 1
 
 
 def test_inputs_sheet_holds_every_field_of_the_file(study, book):

@@ -164,7 +164,7 @@ def write_cover(wb, run: Run, contents: list[tuple[str, str]], now: datetime):
         """A label in column A and a text spanning the other columns, wrapped."""
         add([t(label, font=label_font, alignment=style.WRAP_TOP, fill=fill),
              t(text, alignment=style.WRAP_TOP, font=font, fill=fill)],
-            15 * lines(text, span_chars) + 3)
+            15 * max(lines(text, span_chars), lines(label, _WIDTHS[0] - 2)) + 3)
         ws.merged_cells.add(f"B{row[0]}:{get_column_letter(_LAST)}{row[0]}")
 
     m = run.model

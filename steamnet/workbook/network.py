@@ -179,7 +179,7 @@ def network_png(model, case, *, dpi: int = 110, verdicts: dict | None = None) ->
     elements = _elements(model, rows)
     for e in elements:
         v = (verdicts or {}).get(e["name"]) if e["kind"] == "letdown" else None
-        if v:
+        if v and v in _VERDICT_FILL:            # not applicable: no steam, no mark
             e["verdict"] = str(v)
             e["lines"].append(f"checks: {str(v).replace('_', ' ')}")
     y, ncol = layout(model, elements)

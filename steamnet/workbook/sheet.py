@@ -38,6 +38,8 @@ FORMULA_START = ("=", "+", "-", "@")
 #: The format of a number whose unit gives no decimals: up to three decimals, never the
 #: spreadsheet's General (which shows every digit the solver made).
 GENERAL_NUMBER = "#,##0.0##"
+#: Grouped headings of at most this many columns print on one page.
+KEEP_GROUP = 4
 #: Rows sampled to fit column widths (the rest streams without being looked at twice).
 WIDTH_SAMPLE = 400
 
@@ -259,15 +261,17 @@ def write_table(wb, table: Table, status_of: dict[str, str], *, table_name: str)
         ws.append([m(v, row) for m, v in zip(makers, row)])
         n += 1
     heads = (HEAD_ROW, head)
+    # a check's value, limit and verdict print together; a long group may break
+    keep = tuple((f, c) for f, c, _ in table.groups if c <= KEEP_GROUP)
     if n == 0:
         ws.append([text_cell(ws, "(no rows)", font=style.NOTE_FONT)])
         print_setup(ws, rows=head + 1, key_cols=table.freeze_cols,
-                    head_rows=heads, ncols=len(cols))
+                    head_rows=heads, ncols=len(cols), keep=keep)
         return ws, 0
     ref = f"A{head}:{get_column_letter(len(cols))}{head + n}"
     add_excel_table(ws, table_name, ref, [c.heading for c in cols])
     print_setup(ws, rows=head + n, key_cols=table.freeze_cols,
-                head_rows=heads, ncols=len(cols))
+                head_rows=heads, ncols=len(cols), keep=keep)
     return ws, n
 
 

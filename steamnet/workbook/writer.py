@@ -183,8 +183,7 @@ def _write_network(wb, run: Run, case_name: str | None, *, sheet: str = "Network
             pass
     note = f"The network in case '{case_name}' ({style.display(case.status)})."
     if sheet == WORST_SHEET:
-        note += (" The worst case of the run: the most severe findings (see the Findings "
-                 "sheet).")
+        note = f"Case '{case_name}' ({style.display(case.status)}): the worst of the run."
     elif run.network_case is None:
         note += (" The first case that balanced is drawn; choose another with "
                  "--network-case.")
