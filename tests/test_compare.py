@@ -317,7 +317,7 @@ def test_workbook_sheet_reads_back_with_openpyxl_and_calamine(solved, tmp_path):
         assert list(frame.loc[frame["Case"] == "toomuch", "Section"]) == ["status"]
     # a temperature row is formatted as the other sheets' degC columns
     t = [r for r in ws.iter_rows(min_row=4) if r[7].value == "outlet temperature"]
-    assert t and t[0][8].value == "°C" and t[0][10].number_format == "0.0"
+    assert t and t[0][8].value == "degC" and t[0][10].number_format == "0.0"
     files = write_csv_folder(tmp_path / "csv", study, checks=report.checks)
     csv = pd.read_csv(tmp_path / "csv" / "case_differences.csv")
     assert tmp_path / "csv" / "case_differences.csv" in files

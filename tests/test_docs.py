@@ -30,7 +30,7 @@ def test_readme_python_example_runs():
     assert r.returncode == 0, r.stderr
 
 
-def test_docs_three_header_model_solves(tmp_path):
+def test_docs_model_to_start_from_solves(tmp_path):
     block = [b for b in _blocks("docs/model-file.md", "toml") if "format_version" in b][0]
     p = tmp_path / "my_plant.toml"
     p.write_text(block)
@@ -149,3 +149,70 @@ def test_iapws_saturation_table_citations_name_the_right_table():
                     r"t_?sat|saturation temp|saturation\(.*\)\.t\b", near):
                 bad.append(f"{path.relative_to(ROOT)}:{i + 1}")
     assert not bad, "Tsat(p) is IAPWS R7-97(2012) Table 36: " + ", ".join(bad)
+
+
+def _field_rows():
+    """Every row of the generated field tables: (table, field, value, default, meaning)."""
+    text = (ROOT / "docs" / "model-file.md").read_text(encoding="utf-8")
+    part = text.split(docgen.BEGIN, 1)[1].split(docgen.END, 1)[0]
+    rows, table = [], None
+    for line in part.splitlines():
+        if line.startswith("### "):
+            table = line[4:]
+        elif line.startswith("| `") and table and not table.startswith("[station_limits]"):
+            cells = [c.strip() for c in line.strip().strip("|").split(" | ")]
+            rows.append((table, *cells))
+    return part, rows
+
+
+def test_generated_field_tables_speak_plain_words():
+    """Value types and defaults in words a plant engineer reads, a meaning for every
+    field, no internal SI unit in a meaning, no sentence cut off."""
+    part, rows = _field_rows()
+    assert len(rows) > 150
+    for word in ("PydanticUndefined", "Optional", "NoneType", "steamnet.", "typing",
+                 "<class", "(SI)", "Annotated", "| None"):
+        assert word not in part, word
+    si = re.compile(r"\[(Pa|K|kg/s|W|J/kg|J|kg|m|s|-|currency/J|currency/kg|m2|kg/m3)\]")
+    for table, field, value, default, meaning in rows:
+        assert value and default, (table, field)
+        assert meaning, (table, field)                      # every field has its meaning
+        assert not si.search(meaning), (table, field, meaning)
+    for block in part.split("### ")[1:]:
+        intro = block.split("\n\n")[1].strip()             # the table's sentence
+        assert intro.endswith("."), intro
+
+
+def test_no_phrase_of_a_known_template():
+    """A model to start from is called that, not by the phrase a known tool uses for its
+    template (the pattern is written so that this file does not hold it)."""
+    phrase = re.compile(r"three" + r"[- ]header\s+(model|example|network)", re.I)
+    bad = [n for n, t in _tracked_text_files() if phrase.search(t)]
+    assert bad == []
+
+
+def test_results_page_documents_what_stations_json_adds(tmp_path):
+    """docs/results.md names every list and column that `stations --json` writes, that
+    a model needs no deaerator, and that a file without cases solves the case 'base'."""
+    import json
+    from conftest import DEMO
+    out = tmp_path / "s.json"
+    r = subprocess.run([sys.executable, "-m", "steamnet.cli", "stations", str(DEMO),
+                        "--json", str(out)], capture_output=True, text=True, cwd=ROOT)
+    assert r.returncode == 1, r.stderr
+    doc = json.loads(out.read_text())
+    text = (ROOT / "docs" / "results.md").read_text(encoding="utf-8")
+    section = text.split("`steamnet stations --json` adds", 1)[1]
+    for name, rows in doc["stations"].items():
+        assert f"`{name}`" in section, name
+        for key in rows[0]:
+            if key.startswith("worst_"):
+                key = "worst_CHECK"
+            if key.endswith("_case") and key != "case":
+                key = "..._case"
+            assert f"`{key}`" in section, (name, key)
+    for key in doc["findings"][0]:
+        assert f"`{key}`" in section, key
+    model_doc = (ROOT / "docs" / "model-file.md").read_text(encoding="utf-8")
+    assert "## A deaerator is optional" in model_doc
+    assert "solves one case, named `base`" in model_doc

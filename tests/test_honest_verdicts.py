@@ -57,7 +57,7 @@ def test_a_wet_header_reads_wet_with_its_quality_in_every_output(tmp_path):
     model.write_text(WET, encoding="utf-8")
     out_json, out_xlsx = tmp_path / "wet.json", tmp_path / "wet.xlsx"
     r = CliRunner().invoke(main, ["solve", str(model), "--json", str(out_json)])
-    lp = [ln for ln in r.output.splitlines() if ln.strip().startswith("LP ")]
+    lp = [ln for ln in r.output.splitlines() if ln.split()[:2] == ["header", "LP"]]
     assert len(lp) == 1 and text in lp[0] and "superheat" not in lp[0], r.output
     doc = json.loads(out_json.read_text(encoding="utf-8"))
     hdr = next(h for h in doc["cases"][0]["headers"] if h["header"] == "LP")

@@ -19,7 +19,7 @@ def test_report_with_studies_and_new_user(tmp_path):
     # written all the same
     assert r.returncode == 1, r.stderr
     wb = openpyxl.load_workbook(out, read_only=True)
-    for sheet in ("Cover", "Cases", "Headers", "Equipment", "Stations", "Station checks",
+    for sheet in ("Cover", "Cases", "Headers", "Equipment", "Stations", "Station summary",
                   "Findings", "Trip screening", "Headroom", "Marginal steam cost",
                   "New consumer", "Inputs"):
         assert sheet in wb.sheetnames, sheet

@@ -16,14 +16,14 @@ import pytest
 
 from steamnet.workbook import write_workbook
 from steamnet.workbook.columns import KNOWN
-from wb_helpers import close, sheet_frame, stand_in_checks
+from wb_helpers import close, heading_row, sheet_frame, stand_in_checks
 from wb_helpers import study, book  # noqa: F401 (fixtures)
 
 # The headings of the headers sheet, written out here as the specification: every
 # numeric column carries its unit (docs/results.md).
 HEADER_HEADINGS = {
     "Pressure [bar(g)]": "p_barg", "Pressure [bar(a)]": "p_bara",
-    "Temperature [°C]": "t_degc", "Saturation temperature [°C]": "t_sat_degc",
+    "Temperature [degC]": "t_degc", "Saturation temperature [degC]": "t_sat_degc",
     "Superheat [K]": "superheat_k", "Enthalpy [kJ/kg]": "h_kj_kg",
     "Steam quality [-]": "quality", "Inflow [t/h]": "inflow_t_h",
     "Outflow [t/h]": "outflow_t_h", "Heat loss [kW]": "heat_loss_kw",
@@ -32,8 +32,8 @@ HEADER_HEADINGS = {
 }
 STATION_HEADINGS = {
     "Steam in [t/h]": "flow_t_h", "Spray water [t/h]": "spray_t_h",
-    "Steam out [t/h]": "steam_out_t_h", "Outlet temperature [°C]": "t_out_degc",
-    "Outlet setpoint [°C]": "t_set_degc", "Load [% of maximum]": "load_percent",
+    "Steam out [t/h]": "steam_out_t_h", "Outlet temperature [degC]": "t_out_degc",
+    "Outlet setpoint [degC]": "t_set_degc", "Load [% of maximum]": "load_percent",
 }
 
 
@@ -120,9 +120,9 @@ def test_station_checks_values_and_verdict_fills(study, checked_book):
     cap = checks[checks["check"] == "spray_capacity"]
     merged = sheet.merge(cap, left_on=["Case", "Station"], right_on=["case", "station"])
     assert len(merged) == len(cap)
-    for got, want in zip(merged["Spray capacity [%]"], merged["value"]):
+    for got, want in zip(merged["Spray capacity: value [%]"], merged["value"]):
         assert close(got, want)
-    assert set(merged["Spray capacity verdict"]) <= {"ok", "warn", "fail", "not assessed",
+    assert set(merged["Spray capacity: verdict"]) <= {"ok", "warn", "fail", "not assessed",
                                                      "not applicable"}
     # openpyxl: a verdict cell is filled like the cover's legend of that verdict
     wb = openpyxl.load_workbook(path)
@@ -132,10 +132,11 @@ def test_station_checks_values_and_verdict_fills(study, checked_book):
             legend[row[0].value] = row[0].fill.fgColor.rgb
     assert len(set(legend.values())) == 4           # four distinct fills
     ws = wb["Stations"]
-    head = [c.value for c in ws[3]]
-    col = head.index("Spray capacity verdict")
+    hr = heading_row(path, "Stations")
+    head = [c.value for c in ws[hr]]
+    col = head.index("Spray capacity: verdict")
     seen = set()
-    for row in ws.iter_rows(min_row=4):
+    for row in ws.iter_rows(min_row=hr + 1):
         v = row[col].value
         if v in legend:
             assert row[col].fill.fgColor.rgb == legend[v]

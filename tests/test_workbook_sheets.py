@@ -18,13 +18,13 @@ import steamnet
 from conftest import DATA, DEMO
 from steamnet.workbook import write_workbook
 from steamnet.workbook.cover import CAUTIONS
-from wb_helpers import (formulas_in, sheet_frame, stand_in_checks,
+from wb_helpers import (formulas_in, heading_row, sheet_frame, stand_in_checks,
                         two_header_study)
 from wb_helpers import study, book  # noqa: F401 (fixtures)
 
-DEMO_SHEETS = ["Cover", "Cases", "Case differences", "Network", "Headers", "Equipment",
-               "Streams", "Stations", "Station summary", "Station charts", "Findings",
-               "Inputs"]
+DEMO_SHEETS = ["Cover", "Findings", "Cases", "Case differences", "Network",
+               "Network, worst case", "Stations", "Station summary", "Station charts",
+               "Headers", "Equipment", "Streams", "Inputs"]
 TABLE_SHEETS = ["Cases", "Case differences", "Headers", "Equipment", "Streams",
                 "Stations", "Station summary", "Inputs"]
 
@@ -68,10 +68,12 @@ def test_tables_frozen_filtered_and_fitted(book):
     wb = openpyxl.load_workbook(book)
     for name in TABLE_SHEETS:
         ws = wb[name]
-        assert ws.freeze_panes and ws.freeze_panes.endswith("4"), name
+        head = heading_row(book, name)
+        assert head in (3, 4), name      # row 4 under grouped headings
+        assert ws.freeze_panes and ws.freeze_panes.endswith(str(head + 1)), name
         (table,) = ws.tables.values()
-        assert table.ref.startswith("A3:") and table.autoFilter is not None, name
-        heads = [c.value for c in ws[3]]
+        assert table.ref.startswith(f"A{head}:") and table.autoFilter is not None, name
+        heads = [c.value for c in ws[head]]
         assert [c.name for c in table.tableColumns] == heads
         for i in range(1, len(heads) + 1):
             letter = openpyxl.utils.get_column_letter(i)
@@ -85,9 +87,10 @@ def test_units_in_every_numeric_heading(book):
     for name in ("Case differences", "Headers", "Equipment", "Streams", "Stations",
                  "Station summary"):
         ws = wb[name]
-        heads = [c.value for c in ws[3]]
+        head = heading_row(book, name)
+        heads = [c.value for c in ws[head]]
         numeric = set()
-        for row in ws.iter_rows(min_row=4):
+        for row in ws.iter_rows(min_row=head + 1):
             numeric |= {i for i, c in enumerate(row) if c.data_type == "n"
                         and c.value is not None}
         assert numeric, name
@@ -126,7 +129,7 @@ def test_gain_chart_when_checks_give_gains(study, tmp_path):
     wb = openpyxl.load_workbook(path)
     titles = [_title(c) for c in wb["Station charts"]._charts]
     assert "Control gain against steam flow" in titles
-    assert "Station checks" in wb.sheetnames
+    assert "Station checks" not in wb.sheetnames   # folded into Stations (CSV keeps it)
 
 
 def test_studies_and_envelopes_get_their_sheets(study, tmp_path):
@@ -139,12 +142,11 @@ def test_studies_and_envelopes_get_their_sheets(study, tmp_path):
     write_workbook(path, study, studies={"headroom": headroom}, envelopes=env)
     wb = openpyxl.load_workbook(path)
     assert wb.sheetnames.index("Headroom") == wb.sheetnames.index("Inputs") - 1
-    assert "Station envelopes" in wb.sheetnames
+    assert "Station envelopes" not in wb.sheetnames     # folded into Station summary
     df = sheet_frame(path, "Headroom")
     assert list(df.columns) == ["Header", "Headroom [t/h]", "Binding limit", "Status"]
     assert df["Headroom [t/h]"].tolist() == [12.5, 3.25]
     assert df["Binding limit"].tolist()[1] == "=cmd|' /C'!A0"
-    assert sheet_frame(path, "Station envelopes")["Steam max [t/h]"].tolist() == [11.5]
     assert formulas_in(path) == []
 
 
@@ -181,6 +183,10 @@ def test_findings_worst_first_infeasible_cases_first(infeasible_book):
         r = part["Severity"].map(rank).tolist()
         assert r == sorted(r)
     assert set(df["Severity"]) <= set(rank)
+    # every finding of the case that does not balance says so, not only its balance row
+    for advice in df[bad]["Advice"]:
+        assert "does not balance" in advice or "short of steam" in advice, advice
+    assert (df[bad]["Advice"].str.contains("the case does not balance")).sum() >= 1
 
 
 def test_inputs_sheet_holds_every_field_of_the_file(study, book):
@@ -208,6 +214,9 @@ def test_inputs_sheet_holds_every_field_of_the_file(study, book):
                 elif isinstance(value, list):
                     assert rows[(table, name, field)] == "[" + ", ".join(
                         f'"{x}"' for x in value) + "]"
+                    expected += 1
+                elif isinstance(value, bool):      # as the file writes it
+                    assert rows[(table, name, field)] == str(value).lower()
                     expected += 1
                 else:
                     assert rows[(table, name, field)] == value, (table, name, field)

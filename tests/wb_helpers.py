@@ -113,10 +113,22 @@ def copies(study, n: int):
     return steamnet.StudyResult(study.model, cases)
 
 
+def heading_row(path: Path, sheet: str) -> int:
+    """The row of a table sheet's headings (1-based): the first row of its Excel table
+    (row 3, or row 4 under grouped headings)."""
+    import openpyxl
+    ws = openpyxl.load_workbook(path)[sheet]
+    refs = [t.ref for t in ws.tables.values()]
+    if not refs:
+        return 3
+    return openpyxl.utils.cell.range_boundaries(refs[0])[1]
+
+
 def sheet_frame(path: Path, sheet: str) -> pd.DataFrame:
-    """A sheet read by pandas with the calamine engine (no openpyxl involved); the
-    headings are in row 3."""
-    return pd.read_excel(path, sheet_name=sheet, header=2, engine="calamine")
+    """A sheet read by pandas with the calamine engine (the values: no openpyxl
+    involved); the headings are in the first row of the sheet's table."""
+    return pd.read_excel(path, sheet_name=sheet, header=heading_row(path, sheet) - 1,
+                         engine="calamine")
 
 
 def formulas_in(path: Path) -> list[str]:

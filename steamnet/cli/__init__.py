@@ -72,10 +72,36 @@ def _internal(exc: Exception, debug: bool) -> None:
 
 def _error_text(exc: ModelError) -> str:
     errors = getattr(exc, "errors", [exc])
-    lines = [f"error: {escape_controls(str(e))}" for e in errors[:50]]
+    lines = [f"error: {escape_controls(_with_line(e))}" for e in errors[:50]]
     if len(errors) > 50:
         lines.append(f"... and {len(errors) - 50} more")
     return "\n".join(lines)
+
+
+def _with_line(e: ModelError) -> str:
+    """The message and the line of the model file where its item starts ("...; the item
+    starts on line N"), when the file and the item are found."""
+    text = str(e)
+    if not e.file or not e.item or "line " in e.message:
+        return text
+    line = _item_line(str(e.file), e.item)
+    return text if line is None else f"{text}; the item starts on line {line}"
+
+
+_TEXTS: dict[str, str | None] = {}
+
+
+def _item_line(path: str, item: str) -> int | None:
+    from ..model.lines import item_line
+    from ..model.schema import ITEM_LABELS
+    if path not in _TEXTS:
+        try:
+            from ..io.readfile import read_input
+            _TEXTS[path] = read_input(path, "model file").decode("utf-8")
+        except (OSError, SteamnetError, UnicodeDecodeError, ValueError):
+            _TEXTS[path] = None
+    text = _TEXTS[path]
+    return item_line(text, item, ITEM_LABELS) if text else None
 
 
 def parallel_options(f):

@@ -10,6 +10,7 @@ from ..stations import ALL_CASES
 from ..sweep import solve_cases
 from . import EXIT_FAIL, EXIT_OK, main, parallel_options
 from ..status import CaseStatus
+from .verdict import word
 
 
 def _fmt(v, nd=1):
@@ -25,9 +26,7 @@ def print_summary(study) -> None:
     click.echo(f"{m.site.name} ({escape_controls(m.source)}, sha256 {m.sha256[:12]})")
     for c in study.cases:
         s = c.summary
-        mark = {CaseStatus.SOLVED: "ok", CaseStatus.INFEASIBLE: "INFEASIBLE",
-                CaseStatus.NOT_CONVERGED: "NOT CONVERGED", CaseStatus.ERROR: "ERROR"}[c.status]
-        click.echo(f"\ncase '{c.case}': {mark}")
+        click.echo(f"\ncase '{c.case}': {word(c.status)}")
         if c.status != CaseStatus.SOLVED:
             click.echo(f"  {c.message}")
             if c.status != CaseStatus.INFEASIBLE:
@@ -41,13 +40,55 @@ def print_summary(study) -> None:
                    f"{_fmt(s.get('cost_per_h'), 0)} {m.site.currency}/h")
         if len(c.headers):
             for _, h in c.headers.iterrows():
-                click.echo(f"    {h['header']:<12} {h['p_barg']:7.2f} bar(g) "
+                click.echo(f"    header   {h['header']:<14} {h['p_barg']:7.2f} bar(g) "
                            f"{h['t_degc']:7.1f} degC  {h['state']:<20}  "
                            f"throughput {h['inflow_t_h']:8.1f} t/h")
+        print_equipment(c.equipment)
         if c.status == CaseStatus.SOLVED:
             click.echo(f"  balance closes: mass {s['mass_residual_rel']:.1e}, energy "
                        f"{s['energy_residual_rel']:.1e}, water "
                        f"{s['water_residual_rel']:.1e} relative; {c.iterations} iterations")
+
+
+def _num(r, key) -> float | None:
+    v = r.get(key)
+    try:
+        f = float(v)
+    except (TypeError, ValueError):
+        return None
+    return f if f == f else None
+
+
+def _path(r) -> str:
+    return f"{r.get('from', '')}->{r.get('to', '')}"
+
+
+def print_equipment(eq) -> None:
+    """The turbines, the let-downs with their spray, and the deaerator of one case."""
+    if eq is None or not len(eq):
+        return
+    rows = eq.to_dict("records")
+    turbines = [r for r in rows if r.get("type") in ("turbine", "extraction_turbine")]
+    letdowns = [r for r in rows if r.get("type") == "letdown"]
+    da = [r for r in rows if r.get("type") == "deaerator"]
+    for r in turbines:
+        drive = "MW(e)" if r.get("drive") == "generator" else "MW shaft"
+        extra = ""
+        if _num(r, "exhaust_t_h") is not None:
+            extra = f", to the condenser {_fmt(_num(r, 'exhaust_t_h'))} t/h"
+        click.echo(f"    turbine  {str(r['item']):<14} {_path(r):<15} steam {_fmt(_num(r, 'flow_t_h')):>7} t/h  "
+                   f"{_fmt((_num(r, 'power_kw') or 0) / 1e3, 2):>6} {drive}{extra}")
+    for r in letdowns:
+        out = _num(r, "t_out_degc") if (_num(r, "flow_t_h") or 0) > 0 else None
+        t_out = f"  outlet {_fmt(out)} degC" if out is not None else ""
+        click.echo(f"    let-down {str(r['item']):<14} {_path(r):<15} steam {_fmt(_num(r, 'flow_t_h')):>7} t/h  "
+                   f"spray {_fmt(_num(r, 'spray_t_h'), 2):>6} t/h{t_out}")
+    for r in da:
+        click.echo(f"    deaerator {str(r['item']):<13} {'':<15} steam {_fmt(_num(r, 'flow_t_h')):>7}"
+                   f" t/h  feedwater {_fmt(_num(r, 'feedwater_t_h'))} t/h at "
+                   f"{_fmt(_num(r, 't_out_degc'))} degC, make-up "
+                   f"{_fmt(_num(r, 'makeup_t_h'))} t/h, vent {_fmt(_num(r, 'vent_t_h'), 2)}"
+                   " t/h")
 
 
 @main.command()
@@ -95,7 +136,7 @@ def solve(ctx, model: str, cases: tuple[str, ...], json_path: str | None,
     else:
         for c in study.cases:
             if not c.ok:
-                click.echo(f"case '{c.case}': {c.status}: {c.message}")
+                click.echo(f"case '{c.case}': {word(c.status)}: {c.message}")
     if not quiet:
         click.echo("")
         print_findings(ev.findings, limit=10)

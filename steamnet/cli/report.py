@@ -9,6 +9,7 @@ from ..io.atomic import clean_earlier_runs
 from ..model.load import load_model
 from ..sweep import solve_cases
 from . import main
+from .verdict import word
 
 
 @main.command()
@@ -75,7 +76,7 @@ def report(ctx, model: str, out: str, csv_folder: str | None, cases: tuple[str, 
                          envelopes=checks.envelopes, studies=studies)
     for c in study.cases:
         if not c.ok:
-            click.echo(f"case '{c.case}': {c.status}: {c.message}")
+            click.echo(f"case '{c.case}': {word(c.status)}: {c.message}")
     if not quiet:
         solved = sum(c.ok for c in study.cases)
         counts = ev.findings["status"].value_counts().to_dict()

@@ -7,7 +7,7 @@ import click
 from ..model.load import load_model
 from ..sweep import solve_cases
 from . import main
-from .verdict import EXIT_CODES_HELP, finish_evaluation, print_findings
+from .verdict import EXIT_CODES_HELP, finish_evaluation, print_findings, word
 
 
 @main.command()
@@ -38,7 +38,7 @@ def stations(ctx, model, cases, json_path, show_all):
     study = solve_cases(m, list(cases) if cases else None, station_checks=data)
     for c in study.cases:
         if not c.ok:
-            click.echo(f"case '{c.case}': {c.status}: {c.message}")
+            click.echo(f"case '{c.case}': {word(c.status)}: {c.message}")
     ev = evaluate(study, data=data)
     report = ev.stations
     print_spray(study)
@@ -53,16 +53,27 @@ def stations(ctx, model, cases, json_path, show_all):
 
 
 def print_spray(study) -> None:
-    """Steam and spray of every let-down station per case, compact."""
-    rows = []
+    """Steam and spray of every let-down station, one line per station and a column per
+    case ("steam/spray", t/h); a station without flow in a case shows '-'."""
+    cells: dict[str, dict[str, str]] = {}
+    cases = [c.case for c in study.cases]
     for c in study.cases:
         eq = c.equipment
         if not len(eq):
             continue
-        for r in eq[eq["type"] == "letdown"].itertuples(index=False):
-            rows.append((r.item, c.case, r.flow_t_h, getattr(r, "spray_t_h", 0.0)))
-    if not rows:
+        for r in eq[eq["type"] == "letdown"].to_dict("records"):
+            flow = float(r.get("flow_t_h") or 0.0)
+            spray = r.get("spray_t_h")
+            spray = float(spray) if spray == spray and spray is not None else 0.0
+            cells.setdefault(str(r["item"]), {})[c.case] = (
+                f"{flow:.1f}/{spray:.2f}" if flow > 0 else "-")
+    if not cells:
         return
-    click.echo("let-down stations, steam and spray [t/h]:")
-    for item, case, flow, spray in rows:
-        click.echo(f"  {item:<12} {case:<18} steam {flow:8.2f}  spray {spray:7.2f}")
+    width = max(12, *(len(c) for c in cases))
+    name_w = max(10, *(len(s) for s in cells))
+    click.echo("spray per let-down station, steam/spray [t/h]:")
+    click.echo(f"  {'station':<{name_w}} " + " ".join(f"{c:>{width}}" for c in cases))
+    for st, by_case in cells.items():
+        click.echo(f"  {st:<{name_w}} " + " ".join(f"{by_case.get(c, '-'):>{width}}"
+                                                  for c in cases))
+    click.echo("")

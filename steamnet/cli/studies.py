@@ -22,6 +22,7 @@ from ..studies.progress import ProgressBar
 from . import EXIT_FAIL, EXIT_OK, main, parallel_options
 from ..evaluate import evaluate
 from .verdict import EXIT_CODES_HELP, finish, finish_evaluation, print_findings
+from .verdict import word as _word
 from ..status import CaseStatus
 
 _CAUTION = ("Results support studies; they do not replace licensed engineering, the "
@@ -296,7 +297,8 @@ def add_user_command(ctx, model, header, demand, duty, ret, return_temperature, 
         d = df[df["case"] == case]
         s0, s1 = d["status_without"].iloc[0], d["status_with"].iloc[0]
         if s1 != CaseStatus.SOLVED or s0 != CaseStatus.SOLVED:
-            click.echo(f"\ncase '{case}': without the user {s0}, with it {s1.upper()}")
+            click.echo(f"\ncase '{case}': without the user {_word(s0)}, with it "
+                       f"{_word(s1)}")
         if quiet:
             continue
         if s1 == CaseStatus.SOLVED and s0 == CaseStatus.SOLVED:
@@ -314,7 +316,7 @@ def add_user_command(ctx, model, header, demand, duty, ret, return_temperature, 
             click.echo("  findings the addition changes:")
             for r in fd.itertuples(index=False):
                 click.echo(f"    {r.effect:<9} {r.item:<12} {r.quantity:<24} "
-                           f"{r.verdict_without} -> {r.verdict_with.upper()}"
+                           f"{_word(r.verdict_without)} -> {_word(r.verdict_with)}"
                            f"  ({r.advice})")
                 if r.source:
                     click.echo(f"              source: {r.source}")

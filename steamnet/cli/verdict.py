@@ -23,6 +23,12 @@ EXIT_CODES_HELP = ("Exit codes: 0 when every case balances and no check fails; 1
                    "written (the previous file is kept).")
 
 
+def word(status) -> str:
+    """A verdict or case status as every command, the workbook and the JSON export
+    write it: 'not_assessed' -> 'not assessed'."""
+    return str(status).replace("_", " ")
+
+
 def _num(v) -> str:
     if v is None or (isinstance(v, float) and math.isnan(v)):
         return "-"
@@ -42,7 +48,7 @@ def print_findings(findings, limit: int = 25, *, title: str = "findings") -> Non
         unit = f" {r.unit}" if r.unit else ""
         lim = f" (limit {_num(r.limit)}{unit})" if _num(r.limit) != "-" else ""
         val = f" {_num(r.value)}{unit}" if _num(r.value) != "-" else ""
-        click.echo(f"  {r.status.replace('_', ' ').upper():<12} {r.case:<18} "
+        click.echo(f"  {word(r.status):<13} {r.case:<18} "
                    f"{r.item:<12} {r.check:<24}{val}{lim}")
         detail = "; ".join(x for x in (str(r.basis or ""), str(r.advice or "")) if x)
         if detail:

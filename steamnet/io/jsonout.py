@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import json
 import math
+import re
 from datetime import datetime, timezone
 from pathlib import Path
 
@@ -20,9 +21,18 @@ __all__ = ["study_to_dict", "write_json", "JSON_LAYOUT_VERSION"]
 JSON_LAYOUT_VERSION = 1
 
 
+#: Verdict and status words, as the console and the workbook write them (docs/results.md:
+#: "not assessed", never "not_assessed").
+_WORDS = {"not_assessed": "not assessed", "not_applicable": "not applicable",
+          "not_converged": "not converged", "not_run": "not run"}
+#: Keys whose values are verdict or status words.
+_WORD_KEY = re.compile(r"(^|_)(status|verdict|severity|worst)(_|$)")
+
+
 def _clean(v):
     if isinstance(v, dict):
-        return {str(k): _clean(x) for k, x in v.items()}
+        return {str(k): (_WORDS.get(x, x) if isinstance(x, str) and _WORD_KEY.search(
+            str(k)) else _clean(x)) for k, x in v.items()}
     if isinstance(v, (list, tuple)):
         return [_clean(x) for x in v]
     if isinstance(v, (np.bool_, bool)):

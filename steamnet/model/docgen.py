@@ -7,7 +7,9 @@ when the file is out of date, so the reference is never a second copy of the sch
 
 from __future__ import annotations
 
+import re
 import sys
+import types
 import typing
 from pathlib import Path
 
@@ -82,13 +84,43 @@ def _list_item_kind(ann) -> Kind | None:
     return None
 
 
+#: Tables written inside an item, by the schema class of the field.
+_SUBTABLES = {"Valve": "a table: [letdown.valve] or [letdown.spray_valve] (see below)",
+              "Desuperheater": "a table: [letdown.desuperheater] (see below)"}
+
+
+def _plain(ann) -> object:
+    """The annotation without ``None`` (an optional field) and without metadata."""
+    args = [a for a in typing.get_args(ann) if a is not type(None)]
+    if typing.get_origin(ann) in (typing.Union, types.UnionType) and len(args) == 1:
+        ann = args[0]
+    while typing.get_origin(ann) is typing.Annotated:
+        ann = typing.get_args(ann)[0]
+    return ann
+
+
 def _type_text(info: FieldInfo) -> str:
+    """The value a field takes, in plain words (never a Python type)."""
     kind = _kind_of(info)
     if kind is not None:
         return _KIND_UNITS[kind]
-    ann = info.annotation
-    args = typing.get_args(ann)
+    ann = _plain(info.annotation)
+    name = getattr(ann, "__name__", "")
+    if name in _SUBTABLES:
+        return _SUBTABLES[name]
     origin = typing.get_origin(ann)
+    if origin is dict or ann is dict:
+        return "a table of names and values"
+    if origin is list or ann is list:
+        inner = typing.get_args(ann)
+        inner_name = getattr(_plain(inner[0]), "__name__", "") if inner else ""
+        if inner_name in ("Extraction", "ReliefValve", "ReliefCredit"):
+            return "tables (see below)"
+        item = _list_item_kind(ann)
+        if item is None or item is Kind.FRACTION:
+            return "a list of fractions"
+        return "a list, each a " + _KIND_UNITS[item]
+    args = typing.get_args(ann)
     if origin is typing.Literal:
         return "one of " + ", ".join(f"`{a}`" for a in args)
     for a in args:
@@ -98,29 +130,21 @@ def _type_text(info: FieldInfo) -> str:
         return "`true` or `false`"
     if ann is int:
         return "whole number"
-    if ann is str or str in args:
+    if ann is float:
+        return "number"
+    if ann is str:
         return "text"
-    name = getattr(ann, "__name__", str(ann))
-    if "list" in str(ann):
-        see_below = any(k in str(ann) for k in ("Extraction", "Relief"))
-        item = _list_item_kind(ann)
-        if see_below:
-            return "list (see below)"
-        if item is None or item is Kind.FRACTION:
-            return "list of fractions"
-        return "list, each a " + _KIND_UNITS[item]
-    if "dict" in str(ann):
-        return "table"
-    return name.replace("NoneType", "").strip("| ")
+    raise ValueError(f"no plain words for the type of a field: {info.annotation!r}")
 
 
 def _default_text(name: str, info: FieldInfo) -> str:
+    """The default in plain words, in the units a file writes (never SI)."""
     if info.is_required():
         return "required"
+    if info.default_factory is not None:
+        return "none"
     d = info.default
     if d is None:
-        if info.default_factory is not None:
-            return "empty"
         return "none"
     if isinstance(d, bool):
         return str(d).lower()
@@ -132,15 +156,79 @@ def _default_text(name: str, info: FieldInfo) -> str:
             return f"{d * 100:g} %"
         if d == 0:
             return "0"
-        return f"{d:g} (SI)"
+        shown = _IN_FILE_UNITS.get(kind)
+        if shown is None:
+            raise ValueError(f"no unit to show the default of '{name}' in")
+        unit, scale = shown
+        return f"{d * scale:g} {unit}"
     return f"`{d}`"
+
+
+#: How a default in SI is shown, per kind: (unit, factor from SI).
+_IN_FILE_UNITS = {Kind.MASS_FLOW: ("t/h", 3.6), Kind.POWER: ("kW", 1e-3),
+                  Kind.LENGTH: ("mm", 1e3), Kind.TIME: ("s", 1.0),
+                  Kind.TEMPERATURE_DIFFERENCE: ("K", 1.0),
+                  Kind.PRESSURE_DIFFERENCE: ("bar", 1e-5), Kind.VELOCITY: ("m/s", 1.0),
+                  Kind.DENSITY: ("kg/m^3", 1.0), Kind.RATIO: (":1", 1.0),
+                  Kind.NUMBER: ("", 1.0)}
+
+#: A unit in brackets at the end of a part of a description: the unit the program holds
+#: the value in (SI), not one a file writes.
+_SI_UNIT = re.compile(r"\s*\[(?:Pa|K|kg/s|W|J/kg|J|kg|m|s|m/s|-|currency/J|currency/kg|"
+                      r"m2|m\^2|mm2|kg/m3|kg/m\^3|Kv, m3/h|m3/h|1/s|kg/J)\]")
+
+
+#: Meanings of the fields the schema leaves without a description: (table, field) or
+#: the field alone.
+_MEANINGS = {
+    "inlet": "header the steam comes from",
+    "outlet": "header the steam goes to",
+    "min_flow": "least steam flow it may pass",
+    "max_flow": "most steam flow it may pass; none: no limit",
+    "mechanical_efficiency": "share of the steam's work that reaches the shaft",
+    "generator_efficiency": "share of the shaft power the generator turns into "
+                            "electricity",
+    "drive": "what the shaft drives: a generator (electric power) or a machine "
+             "(mechanical power)",
+    "power": "output in fixed_power mode: electric for a generator, shaft power for a "
+             "mechanical drive",
+    ("[[steam_transfer]]", "header"): "header the steam is imported into or exported "
+                                      "from",
+    ("[[steam_transfer]]", "direction"): "'import': steam bought into the plant; "
+                                         "'export': steam sold out of it",
+    ("[[steam_transfer]]", "mode"): "'fixed': the flow given; 'swing': closes its "
+                                    "header's balance; 'off': no flow",
+    ("[[extraction_turbine]]", "mode"): "'fixed_power': the power given; 'fixed_flow': "
+                                        "the inlet flow given; 'tripped': no flow",
+    ("[[extraction_turbine.extractions]]", "header"): "header the extraction feeds",
+    ("[[extraction_turbine.extractions]]", "flow"): "extraction flow; none: whatever "
+                                                    "the header needs",
+    ("[[extraction_turbine.extractions]]", "min_flow"): "least extraction flow",
+    ("[[extraction_turbine.extractions]]", "max_flow"): "most extraction flow; none: no "
+                                                        "limit",
+    ("[[letdown]]", "desuperheater"): "the desuperheater that sprays water into the "
+                                      "outlet steam; none: a plain let-down",
+    ("[[letdown]]", "valve"): "the let-down valve's data, for the valve travel and "
+                              "noise checks",
+    ("[[letdown]]", "spray_valve"): "the spray water valve's data, for its travel, noise "
+                                    "and cavitation checks",
+    ("[letdown.desuperheater]", "atomisation"): "how the spray is atomised: by the "
+                                                "nozzle (mechanical), by steam, or other",
+    ("[letdown.valve] and [letdown.spray_valve]", "characteristic"): "the valve's "
+        "inherent characteristic, needed for the travel check (without it the check is "
+        "not assessed)",
+    ("[[extraction_turbine]]", "max_exhaust_flow"): "most flow to the exhaust or the "
+                                                    "condenser; none: no limit",
+    ("[[user]]", "header"): "header the user draws its steam from",
+    ("[[vent]]", "header"): "header the vent blows steam off from",
+}
 
 
 def field_tables() -> str:
     """Markdown tables of every model-file table and field."""
     out = []
     for title, cls in _TABLES:
-        doc = (cls.__doc__ or "").strip().splitlines()[0]
+        doc = " ".join((cls.__doc__ or "").strip().split("\n\n")[0].split())
         out.append(f"### {title}\n\n{doc}\n")
         out.append("| field | value | default | meaning |")
         out.append("|---|---|---|---|")
@@ -155,8 +243,11 @@ def field_tables() -> str:
                                     "moves first",
                         "share": "load share among swing elements of equal priority",
                         "kind": "kind of boiler"}.get(name, "")
-            if desc.endswith("]") and "[" in desc:
-                desc = desc[: desc.rfind("[")].rstrip()
+            if not desc:
+                desc = _MEANINGS.get((title, name)) or _MEANINGS.get(name, "")
+            desc = _SI_UNIT.sub("", desc).strip()
+            if not desc:
+                raise ValueError(f"{title} field '{name}' has no meaning")
             out.append(f"| `{name}` | {_type_text(info)} | {_default_text(name, info)} | "
                        f"{desc} |")
         out.append("")

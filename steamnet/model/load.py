@@ -11,6 +11,7 @@ field.
 from __future__ import annotations
 
 import copy
+import difflib
 import hashlib
 import tomllib
 from pathlib import Path
@@ -19,6 +20,7 @@ from typing import Any
 from .._version import FORMAT_VERSION
 from ..errors import ModelError, ModelErrors
 from ..io.readfile import check_model_size, read_input
+from .lines import unknown_tables
 from .model import Model
 from .parse import validate_item
 from .schema import EQUIPMENT_TABLES, ITEM_LABELS, NAME_RE, Case, Prices, Site, item_label
@@ -41,6 +43,9 @@ def loads_model(text: str | bytes, *, source: str = "<model>") -> Model:
         raise ModelErrors([ModelError(f"not UTF-8 text (byte {exc.start})", file=source)]) \
             from None
     except tomllib.TOMLDecodeError as exc:
+        stray = _unknown_tables(data.decode("utf-8"), source)
+        if stray:      # a misspelt table name is what the reader stumbled on
+            raise ModelErrors(stray) from None
         raise ModelErrors([ModelError(f"not valid TOML: {exc}", file=source)]) from None
     except ValueError as exc:   # e.g. an integer of more than 4300 digits
         raise ModelErrors([ModelError(f"not valid TOML: {exc}", file=source)]) from None
@@ -74,6 +79,19 @@ def load_model(path: str | Path) -> Model:
         raise ModelErrors([ModelError(f"cannot read: {exc.strerror}", file=str(p))]) \
             from None
     return loads_model(data, source=str(p))
+
+
+def _unknown_tables(text: str, source: str) -> list[ModelError]:
+    """A message for each table header the format does not have, with its line and the
+    nearest table name."""
+    out = []
+    for line, written, key in unknown_tables(text, _TOP_KEYS):
+        near = difflib.get_close_matches(key, sorted(_TOP_KEYS), n=1, cutoff=0.6)
+        hint = f"; did you mean '{near[0]}'?" if near else ""
+        out.append(ModelError(f"unknown table on line {line} (tables: "
+                              f"{', '.join(sorted(_TOP_KEYS))}){hint}", file=source,
+                              item=written))
+    return out
 
 
 def _build(doc: dict, *, source: str, sha256: str) -> Model:
@@ -180,7 +198,8 @@ def _build(doc: dict, *, source: str, sha256: str) -> Model:
     model.stations               # station limits and valve data are checked on load
     for c in cases:
         if c.based_on is not None and not any(o.name == c.based_on for o in cases):
-            errors.append(ModelError(f"based_on '{c.based_on}': no such case",
+            errors.append(ModelError(f"based_on '{c.based_on}': no such case (cases: "
+                                     f"{', '.join(o.name for o in cases)})",
                                      file=source, item=item_label("case", c.name),
                                      field="based_on"))
     if errors:

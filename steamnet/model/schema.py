@@ -178,6 +178,9 @@ class Site(_Item):
     currency: str = Field("EUR", description="currency code used in prices, e.g. EUR, USD")
     makeup_temperature: Temperature = Field(
         description="temperature of make-up water entering the deaerator [K]")
+    invented: bool = Field(False, description="true when the plant and its numbers are "
+                           "invented (a demo or a training model): the workbook then "
+                           "says \"invented demo plant\" on its first sheet and drawings")
 
 
 class Prices(_Item):

@@ -565,16 +565,20 @@ def _relief(model, name: str, s) -> ReliefData:
         if c.user is not None:
             u = users.get(c.user)
             if u is None or u.header != s.outlet:
+                on = [k for k, v in users.items() if v.header == s.outlet]
                 raise ModelError(f"no user '{c.user}' on the outlet header "
-                                 f"'{s.outlet}'", file=model.source, item=item,
-                                 field="user")
+                                 f"'{s.outlet}' (users there: {', '.join(on) or 'none'})",
+                                 file=model.source, item=item, field="user")
             credits.append((f"user '{c.user}'", c.flow))
         else:
             t = turbines.get(c.turbine) or xturbines.get(c.turbine)
             if t is None or t.inlet != s.outlet:
+                on = [k for k, v in {**turbines, **xturbines}.items()
+                      if v.inlet == s.outlet]
                 raise ModelError(f"no turbine '{c.turbine}' drawing from the outlet "
-                                 f"header '{s.outlet}'", file=model.source, item=item,
-                                 field="turbine")
+                                 f"header '{s.outlet}' (turbines there: "
+                                 f"{', '.join(on) or 'none'})", file=model.source,
+                                 item=item, field="turbine")
             credits.append((f"turbine '{c.turbine}'", c.flow))
     return ReliefData(header=s.outlet, devices=devices,
                       p_atm=model.site.atmospheric_pressure,

@@ -151,7 +151,8 @@ def validate_model(model: Model) -> None:
     for n, b in model.table("boiler").items():
         ok = need_header("boiler", n, "header", b.header)
         if b.feedwater not in supplies:
-            err("boiler", n, "feedwater", f"water supply '{b.feedwater}' does not exist")
+            err("boiler", n, "feedwater", f"water supply '{b.feedwater}' does not exist "
+                f"(water supplies: {', '.join(supplies) or 'none'})")
         elif ok and supplies[b.feedwater].pressure <= p(b.header):
             err("boiler", n, "feedwater", f"feedwater supply '{b.feedwater}' pressure is "
                 f"not above the header pressure")
@@ -239,7 +240,8 @@ def validate_model(model: Model) -> None:
         if d is not None:
             if d.spray_supply not in supplies:
                 err("letdown", n, "desuperheater.spray_supply",
-                    f"water supply '{d.spray_supply}' does not exist")
+                    f"water supply '{d.spray_supply}' does not exist (water supplies: "
+                    f"{', '.join(supplies) or 'none'})")
             elif b and _on(s) and supplies[d.spray_supply].pressure <= p(s.outlet):
                 ws_p = supplies[d.spray_supply].pressure
                 err("letdown", n, "desuperheater.spray_supply",

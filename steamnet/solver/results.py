@@ -596,7 +596,9 @@ def case_cost(model, water: dict, sol: Solution, tot: dict | None = None) -> dic
     per_s = fuel + water_cost + imp - exp - gen * pr.electricity + pump * pr.electricity
     return {"cost_per_h": per_s * 3600, "fuel_cost_per_h": fuel * 3600,
             "water_cost_per_h": water_cost * 3600, "power_value_per_h": gen * pr.electricity
-            * 3600, "pump_power_kw": pump / 1e3}
+            * 3600, "pump_power_kw": pump / 1e3,
+            "import_cost_per_h": imp * 3600, "export_credit_per_h": exp * 3600,
+            "pump_power_cost_per_h": pump * pr.electricity * 3600}
 
 
 def _supply_flow(sol: Solution, name: str) -> float:

@@ -48,7 +48,7 @@ class Column:
 # Unit suffixes of column names, longest first so '_kj_kg' wins over '_kg'.
 _SUFFIXES: list[tuple[str, str]] = sorted([
     ("_t_h", "t/h"), ("_kg_s", "kg/s"), ("_bara", "bar(a)"), ("_barg", "bar(g)"),
-    ("_bar", "bar"), ("_degc", "°C"), ("_kj_kg", "kJ/kg"), ("_kw", "kW"), ("_mw", "MW"),
+    ("_bar", "bar"), ("_degc", "degC"), ("_kj_kg", "kJ/kg"), ("_kw", "kW"), ("_mw", "MW"),
     ("_gj", "GJ"), ("_percent", "%"), ("_pct", "%"), ("_k", "K"), ("_m_s", "m/s"),
     ("_mm", "mm"), ("_m", "m"), ("_s", "s"), ("_m3_h", "m3/h"), ("_kv", "Kv"),
     ("_k_per_t_h", "K/(t/h)"), ("_rel", "relative"), ("_ratio", "-"), ("_count", "count"),
@@ -59,7 +59,7 @@ _SUFFIXES: list[tuple[str, str]] = sorted([
 # Decimals by unit: enough to read a plant balance, not the solver's last digit.
 _FORMATS = {
     "t/h": "0.00", "kg/s": "0.000", "bar(a)": "0.00", "bar(g)": "0.00", "bar": "0.00",
-    "°C": "0.0", "K": "0.0", "kJ/kg": "0.0", "kW": "#,##0", "MW": "0.00", "GJ": "0.0",
+    "degC": "0.0", "K": "0.0", "kJ/kg": "0.0", "kW": "#,##0", "MW": "0.00", "GJ": "0.0",
     "%": "0.0", "m/s": "0.0", "mm": "0", "m": "0.00", "s": "0.00", "m3/h": "0.00",
     "Kv": "0.00", "K/(t/h)": "0.000", "relative": "0.0E+00", "-": "0.000", "count": "0",
     "dB(A)": "0.0", "h": "0", "{cur}/h": "#,##0", "{cur}/t": "0.00", "{cur}/MWh": "0.00",
@@ -152,8 +152,8 @@ KNOWN: dict[str, Column] = {c.key: c for c in [
     # headers
     _k("p_bara", "Pressure [bar(a)]"),
     _k("p_barg", "Pressure [bar(g)]"),
-    _k("t_degc", "Temperature [°C]"),
-    _k("t_sat_degc", "Saturation temperature [°C]"),
+    _k("t_degc", "Temperature [degC]"),
+    _k("t_sat_degc", "Saturation temperature [degC]"),
     _k("superheat_k", "Superheat [K]"),
     _k("state", "Steam state", "text"),
     _k("h_kj_kg", "Enthalpy [kJ/kg]"),
@@ -175,7 +175,7 @@ KNOWN: dict[str, Column] = {c.key: c for c in [
     _k("min_t_h", "Minimum flow [t/h]"),
     _k("max_t_h", "Maximum flow [t/h]"),
     _k("load_percent", "Load [% of maximum]"),
-    _k("t_out_degc", "Outlet temperature [°C]"),
+    _k("t_out_degc", "Outlet temperature [degC]"),
     _k("h_out_kj_kg", "Outlet enthalpy [kJ/kg]"),
     _k("feedwater_t_h", "Feedwater [t/h]"),
     _k("blowdown_t_h", "Blowdown [t/h]"),
@@ -188,7 +188,7 @@ KNOWN: dict[str, Column] = {c.key: c for c in [
     _k("quality_below_limit", "Exhaust wetter than limit", "bool"),
     _k("spray_t_h", "Spray water [t/h]"),
     _k("steam_out_t_h", "Steam out [t/h]"),
-    _k("t_set_degc", "Outlet setpoint [°C]"),
+    _k("t_set_degc", "Outlet setpoint [degC]"),
     _k("setpoint_reachable", "Setpoint reachable", "bool"),
     _k("condensate_return_t_h", "Condensate returned [t/h]"),
     _k("makeup_t_h", "Make-up water [t/h]"),

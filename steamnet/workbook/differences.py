@@ -15,8 +15,8 @@ __all__ = ["differences_table", "DIFFERENCES_SHEET"]
 
 DIFFERENCES_SHEET = "Case differences"
 
-#: Units as the other sheets write them.
-_UNIT_SHOWN = {"degC": "°C"}
+#: Units as the other sheets write them (degC already is: one spelling everywhere).
+_UNIT_SHOWN: dict[str, str] = {}
 
 _ROW_UNIT = "unit of the row"
 

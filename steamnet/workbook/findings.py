@@ -72,12 +72,23 @@ def _check_findings(run) -> list[dict]:
     return out
 
 
+def _in_unbalanced_case(f: dict) -> dict:
+    """A finding of a case that does not balance says so: its numbers show where the
+    balance stopped, not an operating point."""
+    status = f["case_status"]
+    if status and style.is_bad_status(status) and f["check"] != "balance":
+        f["advice"] = (f"the case does not balance ({style.display(status)}): this shows "
+                       f"where it stands, not an operating point; {f['advice']}")
+    return f
+
+
 def build_findings(run) -> list[dict]:
     """Every finding of ``run`` (a :class:`~steamnet.workbook.run.Run`), sorted."""
     rows = []
     for c in run.cases:
         rows.extend(_case_findings(c))
     rows.extend(_check_findings(run))
+    rows = [_in_unbalanced_case(f) for f in rows]
     order = run.case_order
     rows.sort(key=lambda f: (0 if style.is_bad_status(f["case_status"] or "solved") else 1,
                              style.rank(f["severity"]),

@@ -172,9 +172,11 @@ def _groups(widths: list[float], room: float, keys: float, nkeys: int,
     return out
 
 
-def _plan(widths, ncols, heights, head_rows, nkeys, drawings, orientation, smallest_pt):
+def _plan(widths, ncols, heights, head_rows, nkeys, drawings, orientation, smallest_pt,
+          keep=()):
     """The layout with the fewest pages, then the largest scale; ``widths`` go past the
-    ``ncols`` columns of cells as far as a drawing could reach."""
+    ``ncols`` columns of cells as far as a drawing could reach; a column group of
+    ``keep`` ((first, count), 0-based) that fits a page is never broken."""
     page_w, page_h = usable_area(orientation)
     reach = ncols
     for d in drawings:
@@ -196,6 +198,9 @@ def _plan(widths, ncols, heights, head_rows, nkeys, drawings, orientation, small
         last = next((i for i in range(d.col, len(widths)) if starts[i + 1] >= x1 - 1e-6),
                     len(widths) - 1)
         no_break.update(range(d.col + 1, last + 1))
+    for first, count in keep:                   # grouped headings: a group whole
+        if sum(widths[first:first + count]) + keys <= page_w:
+            no_break.update(range(first + 1, min(first + count, len(widths))))
 
     head = sum(heights[r - 1] for r in range(head_rows[0], head_rows[1] + 1)
                if r <= len(heights)) if head_rows else 0.0
@@ -237,15 +242,16 @@ def _fit_drawings(drawings, orientation, scale, widths, heights) -> bool:
 
 
 def page_setup(ws, *, rows: int | None = None, key_cols: int | None = None,
-               head_rows: tuple[int, int] | None = None, ncols: int | None = None
-               ) -> PageLayout:
+               head_rows: tuple[int, int] | None = None, ncols: int | None = None,
+               keep: tuple = ()) -> PageLayout:
     """Decide and set how ``ws`` prints, from its shape (see the module's docstring).
 
     ``rows`` is how many rows the sheet holds (a streamed sheet cannot tell; unknown,
     the height counts only the rows with a height of their own and the drawings);
     ``key_cols`` the columns that name a row (default: the frozen columns);
     ``head_rows`` the first and last heading row repeated on every page (default: the
-    print title rows already set); ``ncols`` the columns (default: those with a width).
+    print title rows already set); ``ncols`` the columns (default: those with a width);
+    ``keep`` column groups ((first, count), 0-based) printed on one page where they fit.
     Call it once the sheet's widths, rows and drawings are in place, before the
     workbook is saved.
     """
@@ -273,7 +279,7 @@ def page_setup(ws, *, rows: int | None = None, key_cols: int | None = None,
 
         def plan():
             return _plan(widths, ncols, heights, head_rows, key_cols, trial, orientation,
-                         smallest)
+                         smallest, keep)
         lay = plan()
         for _ in range(3):                      # drawings shrunk to a page, then replanned
             if not _fit_drawings(trial, orientation, lay.scale, widths, heights):

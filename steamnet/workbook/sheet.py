@@ -35,6 +35,11 @@ __all__ = ["Table", "CellMaker", "write_table", "text_cell", "print_setup", "HEA
 HEAD_ROW = 3
 #: Text that a spreadsheet would take for a formula if typed in.
 FORMULA_START = ("=", "+", "-", "@")
+#: The format of a number whose unit gives no decimals: up to three decimals, never the
+#: spreadsheet's General (which shows every digit the solver made).
+GENERAL_NUMBER = "#,##0.0##"
+#: Grouped headings of at most this many columns print on one page.
+KEEP_GROUP = 4
 #: Rows sampled to fit column widths (the rest streams without being looked at twice).
 WIDTH_SAMPLE = 400
 
@@ -51,6 +56,13 @@ class Table:
     rows: Callable[[], Iterable[Sequence]]
     freeze_cols: int = 1
     extra: dict = field(default_factory=dict)   # builder data for charts
+    #: Grouped column headings above the headings: (first column index, count, label).
+    groups: list[tuple[int, int, str]] = field(default_factory=list)
+
+    @property
+    def head_row(self) -> int:
+        """Row of the column headings (1-based): one lower when groups head them."""
+        return HEAD_ROW + (1 if self.groups else 0)
 
     def __post_init__(self):
         seen: dict[str, int] = {}
@@ -154,12 +166,13 @@ class CellMaker:
         if f is None:
             return None if isinstance(v, (float, np.floating)) else self.text(v)
         if kind == "int" or (isinstance(v, (int, np.integer)) and kind not in ("num",)):
-            return int(f) if f.is_integer() else f
+            c = self._look(("i",), fmt="0" if f.is_integer() else "0.00")
+            c.value = int(f) if f.is_integer() else f
+            return c
         fmt = self.col.fmt
         if self.col.unit_from is not None and row is not None and self.unit_index is not None:
             fmt = format_for_unit(row[self.unit_index]) or fmt
-        if not fmt:
-            return f
+        fmt = fmt or GENERAL_NUMBER
         c = self._look(("n", fmt), fmt=fmt)
         if self.col.unit_from is None and kind == "num":
             self._num = c                  # one format for the whole column
@@ -231,10 +244,13 @@ def write_table(wb, table: Table, status_of: dict[str, str], *, table_name: str)
     widths[0] = max(widths[0], 12.0)
     for i, w in enumerate(widths, 1):
         ws.column_dimensions[get_column_letter(i)].width = w
-    ws.row_dimensions[HEAD_ROW].height = heading_height(cols, widths)
-    ws.freeze_panes = f"{get_column_letter(table.freeze_cols + 1)}{HEAD_ROW + 1}"
+    head = table.head_row
+    ws.row_dimensions[head].height = heading_height(cols, widths)
+    ws.freeze_panes = f"{get_column_letter(table.freeze_cols + 1)}{head + 1}"
     ws.append([text_cell(ws, table.title, font=style.TITLE_FONT)])
     ws.append([text_cell(ws, table.note, font=style.NOTE_FONT)] if table.note else [])
+    if table.groups:
+        _group_row(ws, table, widths)
     ws.append([_heading_cell(ws, table, c, status_of) for c in cols])
     keys = [c.key for c in cols]
     makers = [CellMaker(ws, c, status_of,
@@ -244,16 +260,38 @@ def write_table(wb, table: Table, status_of: dict[str, str], *, table_name: str)
     for row in table.rows():
         ws.append([m(v, row) for m, v in zip(makers, row)])
         n += 1
+    heads = (HEAD_ROW, head)
+    # a check's value, limit and verdict print together; a long group may break
+    keep = tuple((f, c) for f, c, _ in table.groups if c <= KEEP_GROUP)
     if n == 0:
         ws.append([text_cell(ws, "(no rows)", font=style.NOTE_FONT)])
-        print_setup(ws, rows=HEAD_ROW + 1, key_cols=table.freeze_cols,
-                    head_rows=(HEAD_ROW, HEAD_ROW), ncols=len(cols))
+        print_setup(ws, rows=head + 1, key_cols=table.freeze_cols,
+                    head_rows=heads, ncols=len(cols), keep=keep)
         return ws, 0
-    ref = f"A{HEAD_ROW}:{get_column_letter(len(cols))}{HEAD_ROW + n}"
+    ref = f"A{head}:{get_column_letter(len(cols))}{head + n}"
     add_excel_table(ws, table_name, ref, [c.heading for c in cols])
-    print_setup(ws, rows=HEAD_ROW + n, key_cols=table.freeze_cols,
-                head_rows=(HEAD_ROW, HEAD_ROW), ncols=len(cols))
+    print_setup(ws, rows=head + n, key_cols=table.freeze_cols,
+                head_rows=heads, ncols=len(cols), keep=keep)
     return ws, n
+
+
+def _group_row(ws, table: Table, widths: Sequence[float]) -> None:
+    """The grouped headings: each label over its columns (merged), filled like the
+    headings; the key columns' cells stay blank."""
+    cells: list = [None] * len(table.columns)
+    for first, count, label in table.groups:
+        cells[first] = text_cell(ws, label, font=style.HEADING_FONT,
+                                 fill=style.GROUP_FILL, alignment=style.CENTRE_WRAP)
+        for k in range(first + 1, first + count):
+            cells[k] = text_cell(ws, "", fill=style.GROUP_FILL)
+    longest = max((len(label) / max(1.0, sum(widths[f:f + c]) - 2)
+                   for f, c, label in table.groups), default=1)
+    ws.row_dimensions[HEAD_ROW].height = 15.0 * min(3, math.ceil(longest)) + 3
+    ws.append(cells)
+    for first, count, _ in table.groups:
+        if count > 1:
+            ws.merged_cells.add(f"{get_column_letter(first + 1)}{HEAD_ROW}:"
+                                f"{get_column_letter(first + count)}{HEAD_ROW}")
 
 
 def print_setup(ws, **shape) -> PageLayout:

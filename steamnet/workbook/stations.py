@@ -39,16 +39,35 @@ def station_limits(run: Run, station: str) -> dict[str, float | None]:
     return out
 
 
+#: The case name of the checks made across a station's cases (steamnet.stations).
+ACROSS = "all cases"
+
+
+def across_checks(run: Run) -> list[str]:
+    """The checks made across a station's cases (one row per station, not per case)."""
+    df = run.checks
+    if df is None:
+        return []
+    sel = df[df["case"].astype(str) == ACROSS]
+    return [str(c) for c in dict.fromkeys(sel["check"].astype(str))]
+
+
+def point_check_names(run: Run) -> list[str]:
+    """The checks made at each case's operating point."""
+    across = set(across_checks(run))
+    return [c for c in run.check_names if c not in across]
+
+
 def _check_columns(run: Run) -> list[Column]:
     cols = []
-    for chk in run.check_names:
+    for chk in point_check_names(run):
         unit = run.check_units.get(chk, "")
         u = f" [{unit}]" if unit else ""
         fmt = format_for_unit(unit)
         lab = label_of(chk)
-        cols += [Column(f"{chk}:value", f"{lab}{u}", "num", fmt),
-                 Column(f"{chk}:limit", f"{lab} limit{u}", "num", fmt),
-                 Column(f"{chk}:status", f"{lab} verdict", "verdict")]
+        cols += [Column(f"{chk}:value", f"{lab}: value{u}", "num", fmt or "0.00"),
+                 Column(f"{chk}:limit", f"{lab}: limit{u}", "num", fmt or "0.00"),
+                 Column(f"{chk}:status", f"{lab}: verdict", "verdict")]
     return cols
 
 
@@ -60,11 +79,11 @@ def stations_table(run: Run) -> Table:
         base.append(Column("worst", "Worst verdict", "verdict"))
     base += [col(k, heading=_HEADINGS.get(k), currency=cur) for k in STATION_KEYS]
     checks = _check_columns(run) if has_checks else [Column("checks", "Checks", "verdict")]
-    names = run.check_names
+    names = point_check_names(run)
 
     def rows():
         for st in run.stations:
-            seen = set()
+            seen = {ACROSS}
             for case, r in run.letdown_points.get(st, []):
                 seen.add(case)
                 yield _station_row(run, st, case, r, names, has_checks)
@@ -72,25 +91,32 @@ def stations_table(run: Run) -> Table:
                 for (case, s2) in run.checks_by_point:
                     if s2 == st and case not in seen:
                         yield _station_row(run, st, case, {}, names, True)
+    groups = []
     if has_checks:
+        groups.append((1, len(base) - 1, "Case and balance"))
+        for i, chk in enumerate(names):
+            groups.append((len(base) + 3 * i, 3, label_of(chk)))
         note = ("Each let-down station in each case: the balance (steam, spray, outlet) "
-                "and every check's value, limit and verdict. Worst verdict is the most "
-                "severe of the row's checks.")
+                "and every check's value, limit and verdict, grouped under the check's "
+                "name (the checks are explained in docs/checks). Worst verdict is the "
+                "most severe of the row's checks; the checks across cases are on the "
+                "Station summary sheet.")
     else:
         note = ("Station checks were not run for this workbook: no verdicts are given. "
                 "Each let-down station in each case with its flows and outlet state from "
                 "the balance.")
-    return Table("Stations", "stations", "Let-down stations", note, base + checks, rows,
-                 freeze_cols=2)
+    return Table("Stations", "stations", "Let-down stations, case by case", note,
+                 base + checks, rows, freeze_cols=2, groups=groups)
 
 
 def _station_row(run, st, case, r, names, has_checks) -> list:
     row = [st, case, run.status_of.get(case, "")]
     if has_checks:
-        row.append(run.worst_verdict(case, st))
+        pts = run.checks_by_point.get((case, st), {})
+        row.append(style.worst(pts[c][2] for c in names if c in pts))
     row += [r.get(k) for k in STATION_KEYS]
     if not has_checks:
-        return row + ["not_run"]
+        return row + ["not run"]
     pts = run.checks_by_point.get((case, st), {})
     for chk in names:
         v, li, status = pts.get(chk, (None, None, None))
@@ -137,24 +163,44 @@ def station_summary_table(run: Run) -> Table:
     for k, h in [("steam_min", "Steam in, least"), ("steam_max", "Steam in, most"),
                  ("spray_min", "Spray, least"), ("spray_max", "Spray, most")]:
         cols.append(Column(k, f"{h} [t/h]", "num", "0.00"))
-    cols += [Column("t_out_min", "Outlet temperature, lowest [°C]", "num", "0.0"),
-             Column("t_out_max", "Outlet temperature, highest [°C]", "num", "0.0")]
+    cols += [Column("t_out_min", "Outlet temperature, lowest [degC]", "num", "0.0"),
+             Column("t_out_max", "Outlet temperature, highest [degC]", "num", "0.0")]
     for k, h in [("max_flow", "Station maximum flow"), ("rated_min_steam",
                  "Rated minimum steam"), ("rated_max_steam", "Rated maximum steam"),
                  ("min_spray", "Minimum controllable spray"), ("max_spray",
                  "Maximum spray")]:
         cols.append(Column(k, f"{h} [t/h]", "num", "0.00"))
     cols += [Column("spray_use", "Spray use, highest [% of maximum]", "num", "0.0"),
-             Column("spray_case", "Case of highest spray", "case")]
+             Column("spray_case", "Case of highest spray", "case"),
+             Column("turndown_used", "Turndown used, most over least steam [-]", "num",
+                    "0.00"),
+             Column("turndown_rated", "Turndown rated, rated maximum over minimum [-]",
+                    "num", "0.00"),
+             Column("turndown_share", "Turndown used [% of rated]", "num", "0.0")]
+    groups = [(1, 4, "Station"), (5, 6, "Operating range across the cases"),
+              (11, 5, "Limits from the model file"), (16, 5, "Spray and turndown used")]
+    across = across_checks(run) if has_checks else []
     if has_checks:
+        groups.append((len(cols), len(style.VERDICTS) + 4, "Verdicts across the cases"))
         for v in style.VERDICTS:
             cols.append(Column(f"n_{v}", f"Cases {style.display(v)} [count]", "int"))
         cols += [Column("worst", "Worst verdict", "verdict"),
-                 Column("worst_case", "Worst case", "case")]
+                 Column("worst_case", "Worst case", "case"),
+                 Column("at_fail", "Checks that fail", "text"),
+                 Column("at_warn", "Checks that warn", "text")]
+        for chk in across:
+            unit = run.check_units.get(chk, "")
+            u = f" [{unit}]" if unit else ""
+            fmt = format_for_unit(unit) or "0.00"
+            groups.append((len(cols), 3, label_of(chk)))
+            cols += [Column(f"{chk}:value", f"{label_of(chk)}: value{u}", "num", fmt),
+                     Column(f"{chk}:limit", f"{label_of(chk)}: limit{u}", "num", fmt),
+                     Column(f"{chk}:status", f"{label_of(chk)}: verdict", "verdict")]
+    cols.append(Column("note", "What it means", "text"))
 
     def rows():
         for st in run.stations:
-            yield _summary_row(run, st, has_checks)
+            yield _summary_row(run, st, has_checks, across)
     note = ("Each let-down station across all cases: its operating range, its limits "
             "from the model file, ")
     note += ("and how many cases fall in each verdict (a case counts once, at its worst "
@@ -162,11 +208,15 @@ def station_summary_table(run: Run) -> Table:
              "verdict, then the most checks at it, then the most spray."
              if has_checks else "and the case of highest spray. Station checks were not "
              "run: no verdicts are given.")
-    return Table("Station summary", "station_summary", "Station summary", note, cols,
-                 rows, freeze_cols=1)
+    note += (" Turndown used is the most over the least steam of the cases that pass "
+             "steam, against the rated turndown of the desuperheater. The checks across "
+             "cases (the spread of the control gain, relief cover at rated flow) are at "
+             "the right.")
+    return Table("Station summary", "station_summary", "Stations across the cases", note,
+                 cols, rows, freeze_cols=1, groups=groups)
 
 
-def _summary_row(run: Run, st: str, has_checks: bool) -> list:
+def _summary_row(run: Run, st: str, has_checks: bool, across: list[str] = ()) -> list:
     pts = run.letdown_points.get(st, [])
     lim = station_limits(run, st)
     it = run.model.table("letdown").get(st)
@@ -184,12 +234,20 @@ def _summary_row(run: Run, st: str, has_checks: bool) -> list:
         spray_case, r = max(flowing, key=lambda p: clean_number(p[1].get("spray_t_h")) or 0)
         if lim["max_spray"]:
             spray_use = 100 * (clean_number(r.get("spray_t_h")) or 0) / lim["max_spray"]
+    used = s_hi / s_lo if s_lo and s_hi and s_lo > 1e-9 and len(flowing) > 1 else None
+    rated = (lim["rated_max_steam"] / lim["rated_min_steam"]
+             if lim["rated_max_steam"] and lim["rated_min_steam"] else None)
+    share = 100 * used / rated if used and rated else None
     row = [st, getattr(it, "inlet", None), getattr(it, "outlet", None), len(pts),
            len(flowing), s_lo, s_hi, w_lo, w_hi, t_lo, t_hi, lim["max_flow"],
            lim["rated_min_steam"], lim["rated_max_steam"], lim["min_spray"],
-           lim["max_spray"], spray_use, spray_case]
+           lim["max_spray"], spray_use, spray_case, used, rated, share]
+    note = ("carries no steam in the studied cases: its range, spray and control gain "
+            "are not known from them" if not flowing else
+            "passes steam in one case only: no turndown is used" if len(flowing) == 1
+            else "")
     if not has_checks:
-        return row
+        return row + [note]
     counts = {v: 0 for v in style.VERDICTS}
     spray_of = {c: clean_number(r.get("spray_t_h")) or 0 for c, r in pts}
     best = None
@@ -207,5 +265,35 @@ def _summary_row(run: Run, st: str, has_checks: bool) -> list:
             best = (key, case, w)
     row += [counts[v] for v in style.VERDICTS]
     row += [best[2], best[1]] if best else [None, None]
-    return row
+    row += [_checks_at(run, st, "fail"), _checks_at(run, st, "warn")]
+    advice = _across_advice(run, st)
+    said = [note] if note else []
+    for chk in across:
+        v, li, status = run.checks_by_point.get((ACROSS, st), {}).get(
+            chk, (None, None, None))
+        row += [v, li, status]
+        if style.rank(status) in (0, 1) and advice.get(chk):
+            said.append(f"{label_of(chk)}: {advice[chk]}")
+    return row + ["; ".join(said)]
+
+
+def _checks_at(run: Run, st: str, verdict: str) -> str:
+    """The checks of a station at ``verdict`` in some case, with how many cases."""
+    n: dict[str, int] = {}
+    for (case, s2), checks in run.checks_by_point.items():
+        if s2 != st:
+            continue
+        for chk, (_, _, status) in checks.items():
+            if style.normalise(status) == verdict:
+                n[chk] = n.get(chk, 0) + 1
+    return ", ".join(f"{label_of(c).lower()} ({k})" for c, k in n.items())
+
+
+def _across_advice(run: Run, st: str) -> dict[str, str]:
+    df = run.checks
+    if df is None or "advice" not in df:
+        return {}
+    sel = df[(df["case"].astype(str) == ACROSS) & (df["station"].astype(str) == st)]
+    return {str(c): str(a) for c, a in zip(sel["check"], sel["advice"])
+            if isinstance(a, str) and a}
 

@@ -10,7 +10,7 @@ from openpyxl.styles import Alignment, Font, PatternFill
 
 __all__ = ["VERDICTS", "SEVERITY", "normalise", "display", "rank", "worst", "fill_of",
            "font_of", "HEADING_FILL", "HEADING_FONT", "TITLE_FONT", "NOTE_FONT",
-           "WRAP_TOP", "LEGEND", "is_bad_status"]
+           "WRAP_TOP", "LEGEND", "is_bad_status", "GROUP_FILL", "CENTRE_WRAP"]
 
 #: Verdicts of the station checks, worst first.
 VERDICTS = ("fail", "warn", "not_assessed", "ok", "not_applicable")
@@ -33,6 +33,8 @@ _LOOK = {
 
 HEADING_FILL = PatternFill("solid", fgColor="3A4B5C")
 HEADING_FONT = Font(bold=True, color="FFFFFF")
+GROUP_FILL = PatternFill("solid", fgColor="5B6E80")
+CENTRE_WRAP = Alignment(wrap_text=True, vertical="center", horizontal="center")
 TITLE_FONT = Font(bold=True, size=14, color="1F2D3A")
 NOTE_FONT = Font(italic=True, color="595959")
 WRAP_TOP = Alignment(wrap_text=True, vertical="top")

@@ -15,7 +15,8 @@ from .run import Run
 from .sheet import Table
 
 __all__ = ["overview_table", "case_frame_table", "frame_table", "HEADER_KEYS",
-           "EQUIPMENT_KEYS", "STREAM_KEYS", "Quantity", "overview_quantities"]
+           "EQUIPMENT_KEYS", "STREAM_KEYS", "Quantity", "overview_quantities",
+           "COST_NOTE", "average_cost_per_t"]
 
 #: Column order of the headers sheet (solver columns, steamnet/solver/results.py).
 HEADER_KEYS = ["header", "p_barg", "p_bara", "t_degc", "t_sat_degc", "superheat_k",
@@ -111,8 +112,32 @@ _TOTALS = [
     ("spray_t_h", "Spray water", "t/h"), ("da_steam_t_h", "Deaerator steam", "t/h"),
     ("makeup_t_h", "Make-up water", "t/h"), ("vented_t_h", "Vented steam", "t/h"),
     ("condensate_returned_t_h", "Condensate returned", "t/h"),
-    ("cost_per_h", "Operating cost", "{cur}/h"), ("fuel_cost_per_h", "Fuel cost", "{cur}/h"),
+    ("cost_per_h", "Operating cost, net of the power credit", "{cur}/h"),
+    ("fuel_cost_per_h", "Cost part: fuel", "{cur}/h"),
+    ("water_cost_per_h", "Cost part: make-up water", "{cur}/h"),
+    ("import_cost_per_h", "Cost part: steam imported", "{cur}/h"),
+    ("power_bought_per_h", "Cost part: power bought (pumps)", "{cur}/h"),
+    ("export_credit_per_h", "Cost part: steam exported (credit, subtracted)", "{cur}/h"),
+    ("power_credit_per_h", "Cost part: power generated (credit, subtracted)", "{cur}/h"),
 ]
+
+#: The note that goes with every operating cost the workbook shows.
+COST_NOTE = ("Operating cost is net of the power credit: fuel + make-up water + steam "
+             "imported + power bought for pumps, less the steam exported and less the "
+             "electric power generated, valued at the electricity price. The average cost "
+             "of steam is that net cost divided by the steam raised.")
+
+
+def average_cost_per_t(summary: dict, *, credit: bool = True) -> float | None:
+    """The case's operating cost per tonne of steam raised (net of the power credit, or
+    before it with ``credit=False``); None when no steam is raised."""
+    raised = summary.get("steam_raised_t_h")
+    cost = summary.get("cost_per_h")
+    if not raised or cost is None or raised <= 0:
+        return None
+    if not credit:
+        cost = cost + (summary.get("power_credit_per_h") or 0.0)
+    return cost / raised
 _COUNTS = [("failures", "Failures", "fail"), ("warnings", "Warnings", "warn"),
            ("not_assessed", "Not assessed", "not_assessed")]
 _SOLVE = [
@@ -148,6 +173,11 @@ def overview_quantities(run: Run) -> list[Quantity]:
           for b in run.boilers]
     q.append(Quantity("fuel_mw", "Fuel duty, total", "MW", s("fuel_mw")))
     q += [Quantity(k, label, unit.replace("{cur}", cur), s(k)) for k, label, unit in _TOTALS]
+    q += [Quantity("average_cost_per_t", "Average cost of steam, net of the power credit",
+                   f"{cur}/t", lambda c: average_cost_per_t(c.summary)),
+          Quantity("average_cost_gross_per_t", "Average cost of steam, before the power "
+                   "credit", f"{cur}/t", lambda c: average_cost_per_t(c.summary,
+                                                                    credit=False))]
     q += [Quantity(k, label, "count", n(sev)) for k, label, sev in _COUNTS]
     q += [Quantity(k, label, unit, s(k)) for k, label, unit in _SOLVE]
     return q
@@ -161,6 +191,7 @@ def overview_table(run: Run, *, side_by_side: bool | None = None) -> Table:
         side_by_side = not run.large
     note = ("Power generated is the generators' electric output; electricity bought or "
             "sold needs the site's electric demand, which the model does not hold. "
+            + COST_NOTE + " "
             "Failures, warnings and not assessed count the rows of the Findings sheet.")
     if side_by_side:
         cols = [Column("quantity", "Quantity", "text"), Column("unit", "Unit", "text")]

@@ -19,9 +19,12 @@ from . import style
 from .charts import write_charts
 from .cover import write_cover
 from .differences import DIFFERENCES_SHEET, differences_table
+
+#: The sheet of the drawing of the worst case (when it is not the case drawn first).
+WORST_SHEET = "Network, worst case"
 from .findings import findings_table
 from .inputs import inputs_table
-from .network import network_png
+from .network import network_png, worst_case
 from .printing import finish
 from .run import Run
 from .sheet import Table, print_setup, text_cell, write_table
@@ -29,43 +32,71 @@ from .stations import checks_table, station_summary_table, stations_table
 from .tables import (EQUIPMENT_KEYS, HEADER_KEYS, STREAM_KEYS, case_frame_table,
                      frame_table, overview_table)
 
-__all__ = ["write_workbook", "build_tables", "network_case_of", "SHEETS"]
+__all__ = ["write_workbook", "build_tables", "network_case_of", "SHEETS", "ORDER",
+           "STUDY_SHEETS", "WORST_SHEET"]
 
 #: What each fixed sheet holds (the cover's table of contents; docs/workbook.md).
 SHEETS = {
-    "Cover": "What was run, on what and when; cautions; cases; verdicts; units.",
-    "Cases": "Each case's totals side by side: steam, fuel, power, water, cost, status.",
+    "Cover": "The answer first: each case in a line, the worst findings with their "
+             "sources, what the cost is made of, the cautions; then the run, verdicts, "
+             "units.",
+    "Findings": "Everything to look at, worst first, with the source of each limit and a "
+                "sentence of advice.",
+    "Cases": "Each case's totals side by side: steam, fuel, power, water, cost and its "
+             "parts, status.",
     DIFFERENCES_SHEET: "Each case against the first: totals, headers, equipment and the "
                        "station checks that differ.",
-    "Network": "A drawing of the network with the flows of one case.",
+    "Network": "A drawing of the network with the flows of the base case (or the case "
+               "asked for).",
+    WORST_SHEET: "The same drawing with the flows of the worst case.",
+    "Stations": "Each let-down station in each case: the balance and every check's "
+                "value, limit and verdict, grouped by check.",
+    "Station summary": "Each station across the cases: range, limits, turndown used, "
+                       "verdicts, the checks across cases (control gain spread).",
+    "Station charts": "Spray per case, each station's operating envelope, control gain.",
     "Headers": "Each header in each case: pressure, temperatures, enthalpy, flows, "
                "balance residuals.",
     "Equipment": "Each item in each case: flow, power or duty, load against its limits, "
                  "mode.",
     "Streams": "Every steam and water stream of each case: flow, pressure, temperature.",
-    "Stations": "Each let-down station in each case, with every check's value, limit "
-                "and verdict.",
-    "Station summary": "Each station across all cases: range, limits, cases per verdict, "
-                       "worst case.",
-    "Station envelopes": "The envelope table of the station checks.",
-    "Station checks": "Every station check, one row each, with its basis and advice.",
-    "Station charts": "Spray per case, each station's operating envelope, control gain.",
-    "Findings": "Everything to look at, worst first, with a sentence of advice each.",
     "Inputs": "The model file as read: every item's fields as written.",
 }
+
+#: Reading order of the fixed sheets. The sheets of the studies (the tables passed as
+#: ``studies`` and any sheet a study module adds through :data:`STUDY_SHEETS`) go where
+#: :data:`STUDIES_AT` stands, in the order they were given.
+STUDIES_AT = "(studies)"
+ORDER = ["Cover", "Findings", "Cases", DIFFERENCES_SHEET, "Network", WORST_SHEET,
+         "Stations", "Station summary", "Station charts", "Headers", "Equipment",
+         "Streams", STUDIES_AT, "Inputs"]
+
+#: Where a study adds a sheet of its own: a function of the :class:`Run` returning a
+#: :class:`~steamnet.workbook.sheet.Table` (or None when the study did not run), kept in
+#: its own module and appended here by it. Its sheet goes with the studies' sheets.
+STUDY_SHEETS: list = []
 
 _BAD_SHEET_CHARS = re.compile(r"[\[\]:*?/\\]")
 
 
 def network_case_of(run: Run) -> str | None:
-    """The case drawn on the network sheet: the one asked for, else the first that
-    solved, else the first."""
+    """The case drawn on the network sheet: the one asked for, else the base case (the
+    first case, when it balanced), else the first that balanced, else the first."""
     if run.network_case is not None:
         return run.network_case
     for c in run.cases:
         if c.ok:
             return c.case
     return run.cases[0].case if run.cases else None
+
+
+def worst_case_of(run: Run) -> str | None:
+    """The case drawn on the second network sheet: the worst (a case that does not
+    balance, then the most failures, then the most warnings), when it is not the case
+    drawn first and the run is not a long one."""
+    if run.large or len(run.cases) < 2:
+        return None
+    w = worst_case(run.cases, run.finding_counts)
+    return w if w != network_case_of(run) else None
 
 
 def _study_tables(run: Run, taken: set[str]) -> list[Table]:
@@ -91,7 +122,7 @@ def build_tables(run: Run, *, for_csv: bool = False) -> list[Table]:
     For the CSV export the case overview is one row per case whatever the run's size;
     the workbook of a long run leaves the streams out (they are in the CSV export).
     """
-    t = [overview_table(run, side_by_side=False if for_csv else None),
+    t = [findings_table(run), overview_table(run, side_by_side=False if for_csv else None),
          case_frame_table(run, "headers", HEADER_KEYS, name="Headers", slug="headers",
                           title="Headers", note="Each header in each case. The balance "
                           "residuals show that mass and energy close."),
@@ -105,19 +136,24 @@ def build_tables(run: Run, *, for_csv: bool = False) -> list[Table]:
          stations_table(run), station_summary_table(run)]
     diff = differences_table(run) if not run.large else None
     if diff is not None:                 # after the case overview (a long run: none)
-        t.insert(1, diff)
+        t.insert(2, diff)
     if run.large and not for_csv:        # a long run: streams only in the CSV export
         t = [x for x in t if x.slug != "streams"]
-    if run.envelopes is not None and len(run.envelopes):
-        t.append(frame_table(run.envelopes, name="Station envelopes",
-                             slug="station_envelopes", title="Station envelopes",
-                             note="Each station's operating envelope across the cases, as "
-                             "the station checks computed it.", currency=run.currency))
-    ct = checks_table(run)
-    if ct is not None:
-        t.append(ct)
-    t.append(findings_table(run))
+    if for_csv:       # the long tables the two station sheets fold, for other programs
+        if run.envelopes is not None and len(run.envelopes):
+            t.append(frame_table(run.envelopes, name="Station envelopes",
+                                 slug="station_envelopes", title="Station envelopes",
+                                 note="Each station's operating envelope across the "
+                                 "cases, as the station checks computed it.",
+                                 currency=run.currency))
+        ct = checks_table(run)
+        if ct is not None:
+            t.append(ct)
     t += _study_tables(run, {x.name for x in t} | set(SHEETS))
+    for make in STUDY_SHEETS:
+        extra = make(run)
+        if extra is not None:
+            t.append(extra)
     t.append(inputs_table(run))
     return t
 
@@ -131,9 +167,10 @@ def _table_name(slug: str, used: set[str]) -> str:
     return name
 
 
-def _write_network(wb, run: Run, case_name: str | None) -> None:
-    ws = wb.create_sheet("Network")
-    ws.append([text_cell(ws, "Network", font=style.TITLE_FONT)])
+def _write_network(wb, run: Run, case_name: str | None, *, sheet: str = "Network"
+                   ) -> None:
+    ws = wb.create_sheet(sheet)
+    ws.append([text_cell(ws, sheet, font=style.TITLE_FONT)])
     if case_name is None:
         ws.append([text_cell(ws, "(no case to draw)", font=style.NOTE_FONT)])
         return
@@ -145,11 +182,15 @@ def _write_network(wb, run: Run, case_name: str | None) -> None:
         except ModelError:
             pass
     note = f"The network in case '{case_name}' ({style.display(case.status)})."
-    if run.network_case is None:
-        note += " The first case that balanced is drawn; choose another with network_case."
+    if sheet == WORST_SHEET:
+        note = f"Case '{case_name}' ({style.display(case.status)}): the worst of the run."
+    elif run.network_case is None:
+        note += (" The first case that balanced is drawn; choose another with "
+                 "--network-case.")
+    verdicts = {st: run.worst_verdict(case_name, st) for st in run.stations}
     ws.append([text_cell(ws, note, font=style.NOTE_FONT,
                          fill=style.fill_of(case.status) if not case.ok else None)])
-    img = Image(io.BytesIO(network_png(model, case)))
+    img = Image(io.BytesIO(network_png(model, case, verdicts=verdicts)))
     scale = min(1.0, 1500 / img.width)
     img.width, img.height = int(img.width * scale), int(img.height * scale)
     ws.add_image(img, "A4")
@@ -191,12 +232,7 @@ def write_workbook(path: str | Path, study, *, checks: pd.DataFrame | None = Non
         raise ValueError(f"network_case '{network_case}' is not a case of this study "
                          f"(cases: {', '.join(names)})")
     tables = build_tables(run)
-    order = ["Cover", "Cases", "Network"] + [t.name for t in tables[1:]]
-    if DIFFERENCES_SHEET in order:       # right after the case overview
-        order.remove(DIFFERENCES_SHEET)
-        order.insert(2, DIFFERENCES_SHEET)
-    at = order.index("Findings")
-    order.insert(at, "Station charts")
+    order = _reading_order(run, tables)
     what = {t.name: t.note.split(". ")[0] for t in tables}
     contents = [(n, SHEETS.get(n) or what.get(n, "")) for n in order]
     now = datetime.now().astimezone()
@@ -214,12 +250,30 @@ def write_workbook(path: str | Path, study, *, checks: pd.DataFrame | None = Non
     return target
 
 
+def _reading_order(run: Run, tables: list[Table]) -> list[str]:
+    """Every sheet in :data:`ORDER`, the studies' sheets where they stand."""
+    have = {t.name for t in tables} | {"Cover", "Network", "Station charts"}
+    if worst_case_of(run) is not None:
+        have.add(WORST_SHEET)
+    fixed = set(ORDER)
+    studies = [t.name for t in tables if t.name not in fixed]
+    out = []
+    for name in ORDER:
+        if name == STUDIES_AT:
+            out += studies
+        elif name in have:
+            out.append(name)
+    return out
+
+
 def _write_sheets(wb, run: Run, tables: list[Table], order: list[str]) -> None:
     used: set[str] = set()
     by_name = {t.name: t for t in tables}
     for name in order:
         if name == "Network":
             _write_network(wb, run, network_case_of(run))
+        elif name == WORST_SHEET:
+            _write_network(wb, run, worst_case_of(run), sheet=WORST_SHEET)
         elif name == "Station charts":
             write_charts(wb, run)
         else:
