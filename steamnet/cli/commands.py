@@ -5,8 +5,6 @@ from __future__ import annotations
 import click
 
 from ..io.textsafe import escape_controls
-from ..model.load import load_model
-from ..sweep import solve_cases
 from . import EXIT_FAIL, EXIT_OK, main, parallel_options
 from ..status import CaseStatus
 
@@ -53,6 +51,7 @@ def print_summary(study) -> None:
 @click.argument("model", type=click.Path(dir_okay=False))
 def check(model: str) -> None:
     """Validate MODEL (the base and every case) without solving."""
+    from ..model.load import load_model
     m = load_model(model)
     n_items = sum(len(v) for v in m.items.values())
     click.echo(f"{escape_controls(model)}: valid ({len(m.headers)} headers, {n_items} items, "
@@ -77,6 +76,8 @@ def solve(ctx, model: str, cases: tuple[str, ...], json_path: str | None,
     infeasible, did not converge or could not be computed, or a check fails; 2 for bad
     input; 3 when the JSON file could not be written.
     """
+    from ..model.load import load_model
+    from ..sweep import solve_cases
     from ..evaluate import evaluate
     from .verdict import finish_evaluation, print_findings
     m = load_model(model)

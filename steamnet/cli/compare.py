@@ -5,8 +5,6 @@ from __future__ import annotations
 import click
 
 from ..errors import ModelError
-from ..model.load import load_model
-from ..sweep import solve_cases
 from . import EXIT_FAIL, EXIT_OK, main
 from .studies import _caution, _header_line, _print_rows, _write_json
 
@@ -82,6 +80,8 @@ def compare_command(ctx, model, cases, reference, json_path, rows, every):
     input (an unknown case name: the message lists the known cases); 3 the JSON file
     could not be written (the previous file is kept).
     """
+    from ..model.load import load_model
+    from ..sweep import solve_cases
     from ..stations.run import run_checks
     from ..studies.compare import compare_cases, pair_problems
     m = load_model(model)
