@@ -62,6 +62,7 @@ class Solution:
         self.net, self.x, self.h, self.co = net, x, h, co
         self.modes, self.iterations, self.status = modes, iterations, status
         self.findings, self.message, self.seconds = findings, message, seconds
+        self.accel: list = []       # Anderson's differences at the end (a warm start)
 
 
 # --------------------------------------------------------------------------- modes
@@ -251,9 +252,68 @@ def _update_modes(net: Net, x: "np.ndarray | list[float]", modes, eff, tol: floa
     return new, exhausted
 
 
+class Anderson:
+    """Anderson's acceleration (type II, Walker and Ni 2011) of the fixed-point map of
+    the header enthalpies, h -> G(h) = mix(solve(coefficients(h))).
+
+    It keeps the differences of the last iterates' residuals f = G(h) - h (columns
+    of dF) and of their images G(h) (dG); the next iterate is G(h_k) - dG gamma,
+    where gamma minimises |f_k - dF gamma| (least squares): a quasi-Newton step whose
+    Jacobian is known on the directions the iterates have moved in. A difference too
+    small to rise above rounding (``noise``) is not kept. The columns may come from
+    the previous case of a sweep (``columns``, same modes): its map differs from this
+    one by little, so the first step already knows its slopes.
+
+    A step is refused (None: the caller takes the plain or relaxed step, and the
+    memory starts afresh) when the residual grew since the last step, or the step
+    would move more than ``reach`` times the plain step away from G(h_k), or put a
+    header below saturated liquid: far from the fixed point, where the map is not
+    nearly linear, the plain step is the safe one.
+    """
+
+    def __init__(self, floor: list[float], noise: float, columns=None, memory: int = 5,
+                 reach: float = 30.0):
+        self.floor, self.noise, self.memory, self.reach = floor, noise, memory, reach
+        self.cols: list[tuple[np.ndarray, np.ndarray]] = list(columns or [])
+        self.last: tuple[np.ndarray, np.ndarray] | None = None
+        self.size = math.inf            # largest residual of the last step
+
+    def columns(self) -> list:
+        """The kept differences (dF, dG), for the next case of a sweep."""
+        return list(self.cols)
+
+    def step(self, h: list[float], g: list[float], f: list[float],
+             reset: bool = False) -> list[float] | None:
+        if reset:
+            self.cols, self.last, self.size = [], None, math.inf
+        fa, ga = np.asarray(f), np.asarray(g)
+        size = float(np.abs(fa).max(initial=0.0))
+        if self.last is not None and size > self.size:
+            # the residual grew: the linear model does not hold here
+            self.cols, self.last = [], None
+        self.size = size
+        if self.last is not None:
+            df = fa - self.last[0]
+            if float(np.abs(df).max(initial=0.0)) > self.noise:
+                self.cols = (self.cols + [(df, ga - self.last[1])])[-self.memory:]
+        self.last = (fa, ga)
+        if not self.cols or not len(f):
+            return None
+        dfm = np.column_stack([c[0] for c in self.cols])
+        dgm = np.column_stack([c[1] for c in self.cols])
+        gamma = np.linalg.lstsq(dfm, fa, rcond=1e-10)[0]
+        out = ga - dgm @ gamma
+        plain = float(np.abs(fa).max())
+        if (not np.isfinite(out).all() or float(np.abs(out - ga).max()) > self.reach * plain
+                or any(o < lo for o, lo in zip(out.tolist(), self.floor))):
+            self.cols = []
+            return None
+        return out.tolist()
+
+
 def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
               tol_x: float = 1e-9, start: dict | None = None,
-              reference: bool = False) -> Solution:
+              reference: bool = False, accelerate: bool = True) -> Solution:
     """Solve the balance of one case (see the module docstring).
 
     Parameters
@@ -273,6 +333,10 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
         Assemble the linear system with the reference code (:func:`steamnet.solver.reference.assemble`) instead
         of the compiled :class:`~steamnet.solver.assembly.Plan`; the systems, and so
         the answers, are the same [-]
+    accelerate : bool
+        Accelerate the enthalpy iteration (:class:`Anderson`); without, the plain
+        fixed-point steps, relaxed where they overshoot (the method before; the same
+        fixed point, within the tolerances) [-]
     """
     t0 = time.perf_counter()
     n = len(net.vars)
@@ -315,6 +379,10 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
     tol_mode = 1e-9 * scale
     it = 0
     relax, r_prev = 1.0, None
+    warm = bool(start) and len(start["h"]) == len(net.headers) and \
+        modes == list(start["modes"])
+    accel = Anderson([s.hf for s in net.sat], noise=1e-2 * tol_h,
+                     columns=start.get("accel") if warm else None)
     recent: list[set] = []      # exhausted (header, side) of the last iterations
     still = 0                   # iterations in a row in which nothing moved
     for it in range(1, max_iter + 1):
@@ -350,7 +418,15 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
                 relax = -relax * sum(a * d for a, d in zip(r_prev, dr)) / den
                 relax = min(1.0, max(1 / 64, relax))
         r_prev = None if mode_changed else r
-        if relax < 1:
+        # Anderson's acceleration of the same map (docs/method.md, iteration): the next
+        # enthalpies combine the last few updates so that their residuals cancel as far
+        # as a linear model of the map says; it needs one to a few steps where the
+        # plain or relaxed iteration, which converges linearly, needs several. Its
+        # memory is cleared when the modes change (the map changes with them).
+        h_acc = accel.step(h, h_new, r, reset=mode_changed) if accelerate else None
+        if h_acc is not None:
+            h_new = h_acc
+        elif relax < 1:
             h_new = [a + relax * d for a, d in zip(h, r)]
         x, xl, h = x_new, xl_new, h_new
         if mode_changed:
@@ -410,8 +486,10 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
     findings += cold_findings(net, co, x, cold)
     status = CaseStatus.INFEASIBLE if findings else CaseStatus.SOLVED
     msg = "; ".join(f["message"] for f in findings) if findings else "solved"
-    return Solution(net, x, h, co, modes, it, status, findings, msg,
-                    time.perf_counter() - t0)
+    sol = Solution(net, x, h, co, modes, it, status, findings, msg,
+                   time.perf_counter() - t0)
+    sol.accel = accel.columns()     # the slopes the iteration found, for the next case
+    return sol
 
 
 def _least_slack(net: Net, co: Coeffs, h: list[float], x, scale: float, modes=None):
