@@ -274,8 +274,8 @@ class Anderson:
     def __init__(self, floor: list[float], noise: float, columns=None, memory: int = 5,
                  reach: float = 30.0):
         self.floor, self.noise, self.memory, self.reach = floor, noise, memory, reach
-        self.cols: list[tuple[np.ndarray, np.ndarray]] = list(columns or [])
-        self.last: tuple[np.ndarray, np.ndarray] | None = None
+        self.cols: list[tuple[list[float], list[float]]] = list(columns or [])
+        self.last: tuple[list[float], list[float]] | None = None
         self.size = math.inf            # largest residual of the last step
 
     def columns(self) -> list:
@@ -284,31 +284,66 @@ class Anderson:
 
     def step(self, h: list[float], g: list[float], f: list[float],
              reset: bool = False) -> list[float] | None:
+        # plain Python floats: for the few headers of a plant, numpy's per-call cost
+        # would be most of the step
         if reset:
             self.cols, self.last, self.size = [], None, math.inf
-        fa, ga = np.asarray(f), np.asarray(g)
-        size = float(np.abs(fa).max(initial=0.0))
+        size = max(map(abs, f), default=0.0)
         if self.last is not None and size > self.size:
             # the residual grew: the linear model does not hold here
             self.cols, self.last = [], None
         self.size = size
         if self.last is not None:
-            df = fa - self.last[0]
-            if float(np.abs(df).max(initial=0.0)) > self.noise:
-                self.cols = (self.cols + [(df, ga - self.last[1])])[-self.memory:]
-        self.last = (fa, ga)
-        if not self.cols or not len(f):
+            df = [a - b for a, b in zip(f, self.last[0])]
+            if max(map(abs, df), default=0.0) > self.noise:
+                # scaled to unit length: the steps of one solve span many decades
+                norm = math.sqrt(sum(d * d for d in df))
+                df = [d / norm for d in df]
+                dg = [(a - b) / norm for a, b in zip(g, self.last[1])]
+                self.cols = (self.cols + [(df, dg)])[-self.memory:]
+        self.last = (f, g)
+        if not self.cols or not f:
             return None
-        dfm = np.column_stack([c[0] for c in self.cols])
-        dgm = np.column_stack([c[1] for c in self.cols])
-        gamma = np.linalg.lstsq(dfm, fa, rcond=1e-10)[0]
-        out = ga - dgm @ gamma
-        plain = float(np.abs(fa).max())
-        if (not np.isfinite(out).all() or float(np.abs(out - ga).max()) > self.reach * plain
-                or any(o < lo for o, lo in zip(out.tolist(), self.floor))):
+        gamma = _least_squares([c[0] for c in self.cols], f)
+        if gamma is None:
             self.cols = []
             return None
-        return out.tolist()
+        out = list(g)
+        for gm, (_, dg) in zip(gamma, self.cols):
+            out = [o - gm * d for o, d in zip(out, dg)]
+        if (not all(map(math.isfinite, out))
+                or max(abs(o - a) for o, a in zip(out, g)) > self.reach * size
+                or any(o < lo for o, lo in zip(out, self.floor))):
+            self.cols = []
+            return None
+        return out
+
+
+def _least_squares(cols: list[list[float]], f: list[float]) -> list[float] | None:
+    """gamma minimising |f - sum_j gamma_j cols_j| by the normal equations, the Gram
+    matrix regularised by 1e-12 of its largest diagonal entry (Gaussian elimination
+    with partial pivoting); None when the columns carry no information."""
+    m = len(cols)
+    gram = [[sum(a * b for a, b in zip(ci, cj)) for cj in cols] for ci in cols]
+    rhs = [sum(a * b for a, b in zip(ci, f)) for ci in cols]
+    top = max(gram[i][i] for i in range(m))
+    if not top > 0.0 or not math.isfinite(top):
+        return None
+    for i in range(m):
+        gram[i][i] += 1e-12 * top
+    for k in range(m):
+        p = max(range(k, m), key=lambda i: abs(gram[i][k]))
+        gram[k], gram[p], rhs[k], rhs[p] = gram[p], gram[k], rhs[p], rhs[k]
+        piv = gram[k][k]
+        for i in range(k + 1, m):
+            r = gram[i][k] / piv
+            if r:
+                gram[i] = [a - r * b for a, b in zip(gram[i], gram[k])]
+                rhs[i] -= r * rhs[k]
+    gamma = [0.0] * m
+    for k in reversed(range(m)):
+        gamma[k] = (rhs[k] - sum(gram[k][j] * gamma[j] for j in range(k + 1, m))) / gram[k][k]
+    return gamma
 
 
 def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
