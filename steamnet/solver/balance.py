@@ -257,8 +257,9 @@ class Anderson:
     the header enthalpies, h -> G(h) = mix(solve(coefficients(h))).
 
     It keeps the differences of the last iterates' residuals f = G(h) - h (columns
-    of dF) and of their images G(h) (dG); the next iterate is G(h_k) - dG gamma,
-    where gamma minimises |f_k - dF gamma| (least squares): a quasi-Newton step whose
+    of dF, scaled to unit length) and of their images G(h) (dG, scaled alike); the
+    next iterate is G(h_k) - dG gamma, where gamma minimises |f_k - dF gamma| (least
+    squares, by the normal equations): a quasi-Newton step whose
     Jacobian is known on the directions the iterates have moved in. A difference too
     small to rise above rounding (``noise``) is not kept. The columns may come from
     the previous case of a sweep (``columns``, same modes): its map differs from this
@@ -284,8 +285,6 @@ class Anderson:
 
     def step(self, h: list[float], g: list[float], f: list[float],
              reset: bool = False) -> list[float] | None:
-        # plain Python floats: for the few headers of a plant, numpy's per-call cost
-        # would be most of the step
         if reset:
             self.cols, self.last, self.size = [], None, math.inf
         size = max(map(abs, f), default=0.0)
@@ -295,55 +294,32 @@ class Anderson:
         self.size = size
         if self.last is not None:
             df = [a - b for a, b in zip(f, self.last[0])]
-            if max(map(abs, df), default=0.0) > self.noise:
+            norm = math.sqrt(sum(d * d for d in df))
+            if norm > self.noise:
                 # scaled to unit length: the steps of one solve span many decades
-                norm = math.sqrt(sum(d * d for d in df))
                 df = [d / norm for d in df]
                 dg = [(a - b) / norm for a, b in zip(g, self.last[1])]
                 self.cols = (self.cols + [(df, dg)])[-self.memory:]
         self.last = (f, g)
         if not self.cols or not f:
             return None
-        gamma = _least_squares([c[0] for c in self.cols], f)
-        if gamma is None:
+        dfm = np.array([c[0] for c in self.cols])          # one row per difference
+        gram = dfm @ dfm.T
+        # regularised by 1e-12 of the (unit) diagonal: nearly parallel differences
+        # get a least-norm share instead of a singular system
+        gram.flat[::len(self.cols) + 1] += 1e-12
+        try:
+            gamma = np.linalg.solve(gram, dfm @ np.asarray(f))
+        except np.linalg.LinAlgError:
             self.cols = []
             return None
-        out = list(g)
-        for gm, (_, dg) in zip(gamma, self.cols):
-            out = [o - gm * d for o, d in zip(out, dg)]
+        out = (np.asarray(g) - gamma @ np.array([c[1] for c in self.cols])).tolist()
         if (not all(map(math.isfinite, out))
                 or max(abs(o - a) for o, a in zip(out, g)) > self.reach * size
                 or any(o < lo for o, lo in zip(out, self.floor))):
             self.cols = []
             return None
         return out
-
-
-def _least_squares(cols: list[list[float]], f: list[float]) -> list[float] | None:
-    """gamma minimising |f - sum_j gamma_j cols_j| by the normal equations, the Gram
-    matrix regularised by 1e-12 of its largest diagonal entry (Gaussian elimination
-    with partial pivoting); None when the columns carry no information."""
-    m = len(cols)
-    gram = [[sum(a * b for a, b in zip(ci, cj)) for cj in cols] for ci in cols]
-    rhs = [sum(a * b for a, b in zip(ci, f)) for ci in cols]
-    top = max(gram[i][i] for i in range(m))
-    if not top > 0.0 or not math.isfinite(top):
-        return None
-    for i in range(m):
-        gram[i][i] += 1e-12 * top
-    for k in range(m):
-        p = max(range(k, m), key=lambda i: abs(gram[i][k]))
-        gram[k], gram[p], rhs[k], rhs[p] = gram[p], gram[k], rhs[p], rhs[k]
-        piv = gram[k][k]
-        for i in range(k + 1, m):
-            r = gram[i][k] / piv
-            if r:
-                gram[i] = [a - r * b for a, b in zip(gram[i], gram[k])]
-                rhs[i] -= r * rhs[k]
-    gamma = [0.0] * m
-    for k in reversed(range(m)):
-        gamma[k] = (rhs[k] - sum(gram[k][j] * gamma[j] for j in range(k + 1, m))) / gram[k][k]
-    return gamma
 
 
 def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
