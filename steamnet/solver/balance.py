@@ -29,6 +29,7 @@ from __future__ import annotations
 
 import math
 import time
+from operator import lt, mul, sub
 
 import numpy as np
 from scipy.linalg.lapack import dgesv as _dgesv
@@ -265,17 +266,25 @@ class Anderson:
     the previous case of a sweep (``columns``, same modes): its map differs from this
     one by little, so the first step already knows its slopes.
 
-    A step is refused (None: the caller takes the plain or relaxed step, and the
-    memory starts afresh) when the residual grew since the last step, or the step
+    No step is made while the largest residual is above ``near`` (J/kg: far from
+    the fixed point, where desuperheaters switch and states cross saturation, the map
+    is not nearly linear). A step is refused (None: the caller takes the plain or
+    relaxed step, and the memory starts afresh) when the residual grew since the last
+    step, or the step
     would move more than ``reach`` times the plain step away from G(h_k), or put a
     header below saturated liquid: far from the fixed point, where the map is not
     nearly linear, the plain step is the safe one.
     """
 
     def __init__(self, floor: list[float], noise: float, columns=None, memory: int = 5,
-                 reach: float = 30.0):
+                 reach: float = 30.0, near: float = 2e3):
         self.floor, self.noise, self.memory, self.reach = floor, noise, memory, reach
-        self.cols: list[tuple[list[float], list[float]]] = list(columns or [])
+        self.near = near
+        # the differences (dF, dG), newest last, and the dot products of the dFs
+        self.cols: list[tuple[list[float], list[float]]] = []
+        self.gram: list[list[float]] = []
+        for c in (columns or [])[-memory:]:
+            self._add(*c)
         self.last: tuple[list[float], list[float]] | None = None
         self.size = math.inf            # largest residual of the last step
 
@@ -283,43 +292,89 @@ class Anderson:
         """The kept differences (dF, dG), for the next case of a sweep."""
         return list(self.cols)
 
+    def _add(self, df: list[float], dg: list[float]) -> None:
+        if len(self.cols) == self.memory:
+            del self.cols[0], self.gram[0]
+            for row in self.gram:
+                del row[0]
+        dots = [sum(map(mul, c[0], df)) for c in self.cols]
+        for row, d in zip(self.gram, dots):
+            row.append(d)
+        self.gram.append(dots + [sum(map(mul, df, df))])
+        self.cols.append((df, dg))
+
+    def _clear(self) -> None:
+        self.cols, self.gram = [], []
+
     def step(self, h: list[float], g: list[float], f: list[float],
              reset: bool = False) -> list[float] | None:
+        # plain floats: for the few headers of a plant each numpy call would cost
+        # more than the arithmetic it does
         if reset:
-            self.cols, self.last, self.size = [], None, math.inf
+            self._clear()
+            self.last, self.size = None, math.inf
         size = max(map(abs, f), default=0.0)
         if self.last is not None and size > self.size:
             # the residual grew: the linear model does not hold here
-            self.cols, self.last = [], None
+            self._clear()
+            self.last = None
         self.size = size
         if self.last is not None:
-            df = [a - b for a, b in zip(f, self.last[0])]
-            norm = math.sqrt(sum(d * d for d in df))
+            df = list(map(sub, f, self.last[0]))
+            norm = math.sqrt(sum(map(mul, df, df)))
             if norm > self.noise:
                 # scaled to unit length: the steps of one solve span many decades
-                df = [d / norm for d in df]
-                dg = [(a - b) / norm for a, b in zip(g, self.last[1])]
-                self.cols = (self.cols + [(df, dg)])[-self.memory:]
+                inv = 1.0 / norm
+                self._add([d * inv for d in df],
+                          [(a - b) * inv for a, b in zip(g, self.last[1])])
         self.last = (f, g)
-        if not self.cols or not f:
+        if not self.cols or not f or size > self.near:
             return None
-        dfm = np.array([c[0] for c in self.cols])          # one row per difference
-        gram = dfm @ dfm.T
-        # regularised by 1e-12 of the (unit) diagonal: nearly parallel differences
-        # get a least-norm share instead of a singular system
-        gram.flat[::len(self.cols) + 1] += 1e-12
-        try:
-            gamma = np.linalg.solve(gram, dfm @ np.asarray(f))
-        except np.linalg.LinAlgError:
-            self.cols = []
-            return None
-        out = (np.asarray(g) - gamma @ np.array([c[1] for c in self.cols])).tolist()
+        gamma = _solve_small([row[:] for row in self.gram],
+                             [sum(map(mul, c[0], f)) for c in self.cols])
+        out = list(g)
+        for gm, (_, dg) in zip(gamma, self.cols):
+            out = [o - gm * d for o, d in zip(out, dg)]
         if (not all(map(math.isfinite, out))
-                or max(abs(o - a) for o, a in zip(out, g)) > self.reach * size
-                or any(o < lo for o, lo in zip(out, self.floor))):
-            self.cols = []
+                or max(map(abs, map(sub, out, g))) > self.reach * size
+                or any(map(lt, out, self.floor))):
+            self._clear()
             return None
         return out
+
+
+def _solve_small(a: list[list[float]], b: list[float]) -> list[float]:
+    """Solve the small symmetric system a x = b, its diagonal raised by 1e-12 (of the
+    unit diagonal of scaled differences: nearly parallel ones then get a least-norm
+    share instead of a singular system), by Gaussian elimination with partial
+    pivoting."""
+    m = len(b)
+    for i in range(m):
+        a[i][i] += 1e-12
+    for k in range(m):
+        p = k
+        for i in range(k + 1, m):
+            if abs(a[i][k]) > abs(a[p][k]):
+                p = i
+        if p != k:
+            a[k], a[p], b[k], b[p] = a[p], a[k], b[p], b[k]
+        piv = a[k][k]
+        rk = a[k]
+        for i in range(k + 1, m):
+            r = a[i][k] / piv
+            if r:
+                ri = a[i]
+                for j in range(k, m):
+                    ri[j] -= r * rk[j]
+                b[i] -= r * b[k]
+    x = [0.0] * m
+    for k in range(m - 1, -1, -1):
+        acc = b[k]
+        rk = a[k]
+        for j in range(k + 1, m):
+            acc -= rk[j] * x[j]
+        x[k] = acc / rk[k]
+    return x
 
 
 def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
