@@ -266,14 +266,12 @@ class Anderson:
     the previous case of a sweep (``columns``, same modes): its map differs from this
     one by little, so the first step already knows its slopes.
 
-    No step is made while the largest residual is above ``near`` (J/kg: far from
+    No step is made while the largest residual is above ``near`` [J/kg]: far from
     the fixed point, where desuperheaters switch and states cross saturation, the map
-    is not nearly linear). A step is refused (None: the caller takes the plain or
-    relaxed step, and the memory starts afresh) when the residual grew since the last
-    step, or the step
-    would move more than ``reach`` times the plain step away from G(h_k), or put a
-    header below saturated liquid: far from the fixed point, where the map is not
-    nearly linear, the plain step is the safe one.
+    is not nearly linear and the plain step is the safe one. A step is refused (None:
+    the caller takes the plain or relaxed step, and the memory starts afresh) when the
+    residual grew since the last step, or the step would move more than ``reach``
+    times the plain step away from G(h_k), or put a header below saturated liquid.
     """
 
     def __init__(self, floor: list[float], noise: float, columns=None, memory: int = 5,
@@ -394,7 +392,9 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
     tol_x : float
         Largest change of any flow between iterations at convergence [kg/s]
     start : dict, optional
-        ``{"h": [...], "modes": [...]}`` from a previous, similar case (warm start).
+        ``{"h": [...], "modes": [...]}`` from a previous, similar case (warm start),
+        and optionally ``"accel"``: the previous solution's ``accel`` (Anderson's
+        differences, used when the start's modes are taken).
     reference : bool
         Assemble the linear system with the reference code (:func:`steamnet.solver.reference.assemble`) instead
         of the compiled :class:`~steamnet.solver.assembly.Plan`; the systems, and so
@@ -484,11 +484,10 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
                 relax = -relax * sum(a * d for a, d in zip(r_prev, dr)) / den
                 relax = min(1.0, max(1 / 64, relax))
         r_prev = None if mode_changed else r
-        # Anderson's acceleration of the same map (docs/method.md, iteration): the next
-        # enthalpies combine the last few updates so that their residuals cancel as far
-        # as a linear model of the map says; it needs one to a few steps where the
-        # plain or relaxed iteration, which converges linearly, needs several. Its
-        # memory is cleared when the modes change (the map changes with them).
+        # Anderson's acceleration of the same map (docs/method.md, the enthalpy
+        # step): the next enthalpies combine the last few updates so that their
+        # residuals cancel as far as a linear model of the map says. Its memory is
+        # cleared when the modes change (the map changes with them).
         h_acc = accel.step(h, h_new, r, reset=mode_changed) if accelerate else None
         if h_acc is not None:
             h_new = h_acc
