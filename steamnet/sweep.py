@@ -73,14 +73,31 @@ def solve_chunk(model, specs: Sequence, tables: bool = False, warm_start: bool =
     check that the fast one gives the same answers)."""
     out = []
     start = None
+    before = None           # the solution of the case before the last one
     models = None if reference else CaseModels(model)
     for spec in specs:
         r = _solve_one(model, spec, start if warm_start else None, tables, models,
                        streams=streams)
         if r.solution is not None and r.ok and warm_start:
-            start = {"h": r.solution.h, "modes": r.solution.modes}
+            start = warm_start_from(r.solution, before)
+            before = r.solution
+        else:
+            before = None
         out.append(r if keep_solution else r.without_solution())
     return out
+
+
+def warm_start_from(last, before=None) -> dict:
+    """The start of the next case of a chunk from the solution of the ``last`` one: its
+    modes, the slopes its iteration found (:class:`steamnet.solver.balance.Anderson`)
+    and its header enthalpies, extrapolated along the line from the case ``before``
+    it when both ran in the same modes (consecutive hours move smoothly, so the line
+    lands nearer the next answer than the last answer does)."""
+    h = list(last.h)
+    if (before is not None and before.modes == last.modes
+            and len(before.h) == len(h)):
+        h = [2.0 * a - b for a, b in zip(h, before.h)]
+    return {"h": h, "modes": last.modes, "accel": last.accel}
 
 
 _WORKER = (None, None)      # (model, per-chunk extra) of this worker process

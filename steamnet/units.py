@@ -18,8 +18,6 @@ import re
 from enum import Enum
 from functools import lru_cache
 
-import pint
-
 from .errors import ModelError
 
 __all__ = ["Kind", "parse_quantity", "parse_number_with_unit", "unit_factor", "UREG",
@@ -34,14 +32,48 @@ KJ = 1e-3
 #: 0 degC in kelvin (the definition of the Celsius scale).
 C0 = 273.15
 
-UREG = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
-UREG.define("tph = tonne / hour")
-# The Btu of steam tables and of the trade is the International Table Btu,
-# 1055.05585262 J (so 1 Btu/lb = 2.326 kJ/kg exactly; NIST SP 811 (2008), B.8); pint's
-# plain 'Btu' is the ISO 31-4 rounding 1055.056 J.
-UREG.define("Btu = Btu_it")
-UREG.define("BTU = Btu_it")
-UREG.define("MMBtu = 1e6 * Btu_it")
+
+@lru_cache(maxsize=1)
+def _registry():
+    """pint's unit registry with the trade's units, built on first use (importing pint
+    and building it is most of a short run's start-up otherwise)."""
+    import pint
+    ureg = pint.UnitRegistry(autoconvert_offset_to_baseunit=True)
+    ureg.define("tph = tonne / hour")
+    # The Btu of steam tables and of the trade is the International Table Btu,
+    # 1055.05585262 J (so 1 Btu/lb = 2.326 kJ/kg exactly; NIST SP 811 (2008), B.8);
+    # pint's plain 'Btu' is the ISO 31-4 rounding 1055.056 J.
+    ureg.define("Btu = Btu_it")
+    ureg.define("BTU = Btu_it")
+    ureg.define("MMBtu = 1e6 * Btu_it")
+    return ureg
+
+
+#: What pint gives for the units most model files are written in, (unit, SI unit) ->
+#: (scale, offset), so that reading such a file needs neither pint nor its registry;
+#: every entry equals pint's conversion bit for bit (tests/test_units.py).
+_KNOWN = {
+    ("bar", "Pa"): (100000.0, 0.0), ("kPa", "Pa"): (1000.0, 0.0),
+    ("MPa", "Pa"): (1000000.0, 0.0), ("MW", "W"): (1000000.0, 0.0),
+    ("kW", "W"): (1000.0, 0.0), ("W", "W"): (1.0, 0.0), ("m", "m"): (1.0, 0.0),
+    ("mm", "m"): (0.001, 0.0), ("t/h", "kg/s"): (0.2777777777777778, 0.0),
+    ("kg/s", "kg/s"): (1.0, 0.0), ("kg/h", "kg/s"): (0.0002777777777777778, 0.0),
+    ("kJ/kg", "J/kg"): (1000.0, 0.0), ("K", "K"): (1.0, 0.0), ("s", "s"): (1.0, 0.0),
+    ("m/s", "m/s"): (1.0, 0.0), ("t/MWh", "kg/J"): (2.7777777777777776e-07, 0.0),
+    ("degC", "K"): (1.0, 273.15),
+}
+#: The same for the units prices are given per: unit -> factor to 1/J or 1/kg.
+_KNOWN_PER = {
+    ("GJ", "1/J"): 1e-09, ("MWh", "1/J"): 2.7777777777777777e-10,
+    ("kWh", "1/J"): 2.7777777777777776e-07, ("t", "1/kg"): 0.001, ("kg", "1/kg"): 1.0,
+}
+
+
+def __getattr__(name: str):
+    if name == "UREG":                  # the registry, built when first asked for
+        return _registry()
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+
 # 'MBtu' is a thousand Btu in US practice but a mega-Btu to an SI prefix: refused.
 _AMBIGUOUS = re.compile(r"(?<![A-Za-z])MBtu", re.IGNORECASE)
 
@@ -189,13 +221,18 @@ def unit_factor(unit: str, kind: Kind) -> tuple[float, float, bool]:
              "°f": "delta_degF", "r": "degR", "degr": "degR"}.get(low, u)
     if kind is Kind.TEMPERATURE and u.upper() in ("C", "F"):
         raise _err(f"write 'degC' or 'degF', not '{unit}'")
+    known = _KNOWN.get((u, _SI.get(kind)))
+    if known is not None:
+        return known[0], known[1], gauge
     _reject_prefixed_time(unit, u)
+    import pint
+    ureg = _registry()
     try:
-        q = UREG.Quantity(1.0, u)
+        q = ureg.Quantity(1.0, u)
         target = _SI[kind]
         if kind is Kind.TEMPERATURE:
-            a = UREG.Quantity(0.0, u).to(target).magnitude
-            b = UREG.Quantity(1.0, u).to(target).magnitude
+            a = ureg.Quantity(0.0, u).to(target).magnitude
+            b = ureg.Quantity(1.0, u).to(target).magnitude
             return float(b - a), float(a), False
         return float(q.to(target).magnitude), 0.0, gauge
     except (pint.errors.UndefinedUnitError, pint.errors.DimensionalityError,
@@ -218,7 +255,7 @@ _TOKEN_RE = re.compile(r"[A-Za-z_]+")
 def _reject_prefixed_time(unit: str, u: str) -> None:
     for tok in _TOKEN_RE.findall(u):
         try:
-            parses = UREG.parse_unit_name(tok)
+            parses = _registry().parse_unit_name(tok)
         except Exception:
             continue
         if parses and all(unit_name in _NO_PREFIX and prefix for prefix, unit_name, _
@@ -246,8 +283,12 @@ def _price_factor(unit: str, kind: Kind, currency: str) -> float:
     if cur.strip() != currency:
         raise _err(f"price in '{cur.strip()}' but the site currency is '{currency}'")
     target = "1/J" if kind is Kind.PRICE_ENERGY else "1/kg"
+    known = _KNOWN_PER.get((per.strip(), target))
+    if known is not None:
+        return known
     try:
-        return float(UREG.Quantity(1.0, "1/(" + per.strip() + ")").to(target).magnitude)
+        return float(_registry().Quantity(1.0, "1/(" + per.strip() + ")").to(target)
+                     .magnitude)
     except Exception:
         raise _err(f"'{per.strip()}' is not a unit of "
                    f"{'energy' if kind is Kind.PRICE_ENERGY else 'mass'}; write for "

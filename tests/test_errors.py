@@ -56,7 +56,7 @@ def test_cli_without_dask_exits_2_with_the_pip_command():
 def test_cli_maps_an_internal_error_to_exit_4_asking_for_a_report(monkeypatch):
     def fault(*args, **kwargs):              # fault injection: the mapping is tested
         raise errors.InternalError("two parts disagree")
-    monkeypatch.setattr("steamnet.cli.commands.solve_cases", fault)
+    monkeypatch.setattr("steamnet.sweep.solve_cases", fault)   # imported on use
     r = CliRunner().invoke(main, ["solve", str(DEMO)])
     assert r.exit_code == EXIT_INTERNAL
     assert "internal error" in r.output and "please report" in r.output

@@ -318,7 +318,8 @@ def test_deaerator_that_cannot_balance_is_infeasible_not_unconverged(data_dir):
     da = [f for f in r.findings if f["side"] == "deaerator"]
     assert da and all(f["header"] == "S01-3" for f in da)
     assert "more water returns than the plant uses" in r.message
-    assert "amounts are those of the last iteration" in r.message
+    # (The accelerated iteration settles on this case; the plain one did not, and its
+    # message gave the amounts of the last iteration. Both report the cause.)
 
 
 def test_headers_that_stay_long_are_reported_when_the_iteration_does_not_settle(

@@ -185,7 +185,10 @@ def test_plan_assembles_a_large_sparse_system(compared):
     model = steamnet.loads_model(random_model_text(1, 100, 1000))
     r = steamnet.solve_case(model, tables=False, reference=True)
     assert len(r.solution.net.vars) > balance._SPARSE_ABOVE
-    assert compared["assemblies"] == r.iterations
+    # every iteration assembles at least once (a turbine driving a pump re-solves
+    # within its iteration until its flow matches the pumped water), and each
+    # assembly was compared with the reference
+    assert compared["assemblies"] >= r.iterations
     fast = steamnet.solve_case(model, tables=False)
     np.testing.assert_allclose(fast.solution.x, r.solution.x, rtol=RTOL, atol=0)
     np.testing.assert_allclose(fast.solution.h, r.solution.h, rtol=RTOL, atol=0)

@@ -260,3 +260,32 @@ def test_prefixed_hour_is_refused():
     with _pt.raises(_ME, match="prefixed hour"):
         _pq("12 t/hh", "mass_flow")
     assert _pq("12 t/h", "mass_flow") == _pt.approx(12000 / 3600, rel=1e-15)
+
+
+def test_units_read_without_pint_equal_pints_conversions():
+    """The common units are read from a table so that a model file needs no pint: each
+    entry must be exactly what pint gives (pint, an independent units library, is the
+    reference here; bit for bit, so that no answer moves)."""
+    import steamnet.units as units
+    ureg = units._registry()
+    for (unit, si), (scale, offset) in units._KNOWN.items():
+        a = ureg.Quantity(0.0, unit).to(si).magnitude
+        b = ureg.Quantity(1.0, unit).to(si).magnitude
+        if offset:
+            assert (scale, offset) == (b - a, a), unit
+        else:
+            assert (scale, offset) == (b, 0.0), unit
+    for (per, si), factor in units._KNOWN_PER.items():
+        assert factor == ureg.Quantity(1.0, f"1/({per})").to(si).magnitude, per
+
+
+def test_the_demo_model_loads_without_pint():
+    """Start-up (docs/performance.md): reading the demo model needs no unit registry."""
+    import subprocess
+    import sys
+    code = ("import sys, steamnet; steamnet.load_model('cases/orlewick.toml'); "
+            "print('pint' in sys.modules)")
+    root = __import__("pathlib").Path(__file__).resolve().parents[1]
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                         cwd=root, check=True).stdout
+    assert out.strip() == "False"

@@ -5,9 +5,6 @@ from __future__ import annotations
 import click
 
 from ..io.textsafe import escape_controls
-from ..model.load import load_model
-from ..stations import ALL_CASES
-from ..sweep import solve_cases
 from . import EXIT_FAIL, EXIT_OK, main, parallel_options
 from ..status import CaseStatus
 from .verdict import word
@@ -96,6 +93,8 @@ def print_equipment(eq) -> None:
 def check(model: str) -> None:
     """Validate MODEL (the base and every case) without solving."""
     from ..evaluate import case_input_warnings
+    from ..stations.checks import ALL_CASES
+    from ..model.load import load_model
     m = load_model(model)
     n_items = sum(len(v) for v in m.items.values())
     click.echo(f"{escape_controls(model)}: valid ({len(m.headers)} headers, {n_items} items, "
@@ -123,6 +122,8 @@ def solve(ctx, model: str, cases: tuple[str, ...], json_path: str | None,
     infeasible, did not converge or could not be computed, or a check fails; 2 for bad
     input; 3 when the JSON file could not be written.
     """
+    from ..model.load import load_model
+    from ..sweep import solve_cases
     from ..evaluate import evaluate
     from .verdict import finish_evaluation, print_findings
     m = load_model(model)

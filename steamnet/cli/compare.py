@@ -5,8 +5,6 @@ from __future__ import annotations
 import click
 
 from ..errors import ModelError
-from ..model.load import load_model
-from ..sweep import solve_cases
 from . import main
 from .studies import _caution, _header_line, _print_rows, _write_json
 from .verdict import finish_evaluation
@@ -84,7 +82,9 @@ def compare_command(ctx, model, cases, reference, json_path, rows, every):
     previous file is kept).
     """
     from ..evaluate import evaluate
+    from ..model.load import load_model
     from ..studies.compare import compare_cases
+    from ..sweep import solve_cases
     m = load_model(model)
     known = [c.name for c in m.cases]
     if len(known) < 2:

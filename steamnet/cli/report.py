@@ -6,8 +6,6 @@ import click
 
 from ..errors import ModelError
 from ..io.atomic import clean_earlier_runs
-from ..model.load import load_model
-from ..sweep import solve_cases
 from . import main
 from .verdict import word
 
@@ -48,6 +46,8 @@ def report(ctx, model: str, out: str, csv_folder: str | None, cases: tuple[str, 
     workbook is still written and shows it); 2 for bad input; 3 when a file cannot be
     written (the previous file is left as it was).
     """
+    from ..model.load import load_model
+    from ..sweep import solve_cases
     from ..evaluate import evaluate
     from .verdict import finish_evaluation
     from ..workbook import write_csv_folder, write_workbook

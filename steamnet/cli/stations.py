@@ -4,8 +4,6 @@ from __future__ import annotations
 
 import click
 
-from ..model.load import load_model
-from ..sweep import solve_cases
 from . import main
 from .verdict import EXIT_CODES_HELP, finish_evaluation, print_findings, word
 
@@ -30,6 +28,8 @@ def stations(ctx, model, cases, json_path, show_all):
     balance or a check fails; 2 for bad input; 3 when the JSON file could not be
     written.
     """
+    from ..model.load import load_model
+    from ..sweep import solve_cases
     from ..evaluate import evaluate
     m = load_model(model)
     data = m.stations

@@ -10,17 +10,9 @@ from __future__ import annotations
 import math
 
 import click
-import pandas as pd
 
 from ..errors import ModelError
-from ..model.load import load_model
-from ..studies import (case_results, header_headroom, marginal_steam_cost,
-                       model_case_set, new_consumer_impact, read_case_table,
-                       solve_case_set)
-from ..studies.trips import EVERY_TRIP, screen_trips
-from ..studies.progress import ProgressBar
 from . import EXIT_FAIL, EXIT_OK, main, parallel_options
-from ..evaluate import evaluate
 from .verdict import EXIT_CODES_HELP, finish, finish_evaluation, print_findings
 from .verdict import word as _word
 from ..status import CaseStatus
@@ -58,6 +50,8 @@ def _study_options(func=None, *, table: bool = True):
 
 
 def _case_set(model, table, base, cases, quiet):
+    from ..studies.progress import ProgressBar
+    from ..studies import model_case_set, read_case_table
     if table is None:
         if base is not None:
             raise ModelError("--base applies to the rows of a case table; give --table "
@@ -119,6 +113,8 @@ def _solved(study) -> dict:
 
 def _base_study(cs, quiet: bool, workers: int = 1, scheduler: str | None = None):
     """The balances of the cases themselves, for the JSON export."""
+    from ..studies.progress import ProgressBar
+    from ..studies import solve_case_set
     with ProgressBar("balancing the cases", quiet=quiet) as bar:
         return solve_case_set(cs, progress=bar, workers=workers, scheduler=scheduler)
 
@@ -144,6 +140,10 @@ def cases_command(ctx, model, table, base, cases, json_path, quiet, rows, worker
     balance or a check fails; 2 for bad input; 3 when the JSON file could not be
     written.
     """
+    from ..studies.progress import ProgressBar
+    from ..studies import case_results, solve_case_set
+    from ..evaluate import evaluate
+    from ..model.load import load_model
     m = load_model(model)
     cs = _case_set(m, table, base, cases, quiet)
     if not quiet:
@@ -202,6 +202,9 @@ def trips_command(ctx, model, cases, table, base, json_path, quiet, rows, boiler
     when a trip leaves the plant unable to balance or a check fails after a trip; 2 for
     bad input; 3 when the JSON file could not be written.
     """
+    from ..studies.progress import ProgressBar
+    from ..model.load import load_model
+    from ..studies.trips import EVERY_TRIP, screen_trips
     m = load_model(model)
     cs = _case_set(m, table, base, cases, quiet)
     with ProgressBar("trip screening", quiet=quiet) as bar:
@@ -282,6 +285,9 @@ def add_user_command(ctx, model, header, demand, duty, ret, return_temperature, 
     passed without it; 1 when it does (or a case does not balance even without it); 2
     for bad input; 3 when the JSON file could not be written.
     """
+    from ..studies.progress import ProgressBar
+    from ..model.load import load_model
+    from ..studies import new_consumer_impact
     m = load_model(model)
     cs = _case_set(m, table, base, cases, quiet)
     with ProgressBar("new consumer", quiet=quiet) as bar:
@@ -364,6 +370,10 @@ def headroom_command(ctx, model, headers, ret, return_temperature, max_added, ac
     1 when a case does not balance or a check fails; 2 for bad input; 3 when the JSON
     file could not be written.
     """
+    from ..studies.progress import ProgressBar
+    from ..evaluate import evaluate
+    from ..studies import header_headroom
+    from ..model.load import load_model
     m = load_model(model)
     cs = _case_set(m, table, base, cases, quiet)
     study = _base_study(cs, True)
@@ -412,6 +422,10 @@ def marginal_command(ctx, model, headers, step, cases, table, base, json_path, q
     when a case does not balance or a check fails; 2 for bad input; 3 when the JSON
     file could not be written.
     """
+    from ..studies.progress import ProgressBar
+    from ..evaluate import evaluate
+    from ..model.load import load_model
+    from ..studies import marginal_steam_cost
     m = load_model(model)
     cs = _case_set(m, table, base, cases, quiet)
     study = _base_study(cs, True)

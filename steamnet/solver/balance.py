@@ -29,6 +29,7 @@ from __future__ import annotations
 
 import math
 import time
+from operator import lt, mul, sub
 
 import numpy as np
 from scipy.linalg.lapack import dgesv as _dgesv
@@ -40,7 +41,7 @@ from .assembly import Plan
 from .findings import (cold_findings, derived_findings, exhausted_findings, sequence_amounts,
                        slack_findings)
 from .network import (INF, Coeffs, ItemPropertyError, Net, build, coefficients,
-                      header_inflows)
+                      header_inflows, pump_power)
 from .network import group_bounds as _group_bounds, power_row
 from .slack import beyond_limits, min_slack, slack_tolerance
 
@@ -64,9 +65,40 @@ class Solution:
         self.net, self.x, self.h, self.co = net, x, h, co
         self.modes, self.iterations, self.status = modes, iterations, status
         self.findings, self.message, self.seconds = findings, message, seconds
+        self.accel: list = []       # Anderson's differences at the end (a warm start)
 
 
 # --------------------------------------------------------------------------- modes
+def _pumps_consistent(net: Net, co: Coeffs, h, pumps, x, solve, rounds: int = 20):
+    """The flows of one solve with each pump-driving turbine's flow consistent with the
+    water its pump delivers in those same flows, at the enthalpies ``h``.
+
+    The pump's power (v dP / eta times the pumped water) sets the turbine's flow, a
+    small part of the flows it depends on: re-solving with the turbine flows of the last
+    solve contracts fast (by the turbine's share of the feedwater per kg pumped, about
+    a hundredth). Without this the enthalpy map would depend on the flows of the
+    iteration before, and the acceleration of the enthalpy iteration would not see it.
+    """
+    for _ in range(rounds):
+        xs = x.tolist()
+        moved = False
+        for k, t in pumps:
+            c = co.turb[k]
+            power = pump_power(net, t["pump"], h, xs)
+            flow = c["m0"] + c["k"] * power if c["willans"] \
+                else power / (t["eta_mg"] * c["dh"])
+            if abs(flow - c["flow"]) > 1e-14 * max(1.0, abs(flow)):
+                c["flow"] = flow
+                moved = True
+        if not moved:
+            return x
+        x_new = solve()
+        if x_new is None:
+            return x
+        x = x_new
+    return x
+
+
 def _initial_modes(net: Net) -> list[tuple[str, int]]:
     modes = []
     for hs in net.swing:
@@ -253,9 +285,132 @@ def _update_modes(net: Net, x: "np.ndarray | list[float]", modes, eff, tol: floa
     return new, exhausted
 
 
+class Anderson:
+    """Anderson's acceleration (type II, Walker and Ni 2011) of the fixed-point map of
+    the header enthalpies, h -> G(h) = mix(solve(coefficients(h))).
+
+    It keeps the differences of the last iterates' residuals f = G(h) - h (columns
+    of dF, scaled to unit length) and of their images G(h) (dG, scaled alike); the
+    next iterate is G(h_k) - dG gamma, where gamma minimises |f_k - dF gamma| (least
+    squares, by the normal equations): a quasi-Newton step whose
+    Jacobian is known on the directions the iterates have moved in. A difference too
+    small to rise above rounding (``noise``) is not kept. The columns may come from
+    the previous case of a sweep (``columns``, same modes): its map differs from this
+    one by little, so the first step already knows its slopes.
+
+    No step is made while the largest residual is above ``near`` [J/kg]: far from
+    the fixed point, where desuperheaters switch and states cross saturation, the map
+    is not nearly linear and the plain step is the safe one. A step is refused (None:
+    the caller takes the plain or relaxed step, and the memory starts afresh) when the
+    residual grew since the last step, or the step would move more than ``reach``
+    times the plain step away from G(h_k), or put a header below saturated liquid.
+    """
+
+    def __init__(self, floor: list[float], noise: float, columns=None, memory: int = 5,
+                 reach: float = 30.0, near: float = 2e3):
+        self.floor, self.noise, self.memory, self.reach = floor, noise, memory, reach
+        self.near = near
+        # the differences (dF, dG), newest last, and the dot products of the dFs
+        self.cols: list[tuple[list[float], list[float]]] = []
+        self.gram: list[list[float]] = []
+        for c in (columns or [])[-memory:]:
+            self._add(*c)
+        self.last: tuple[list[float], list[float]] | None = None
+        self.size = math.inf            # largest residual of the last step
+
+    def columns(self) -> list:
+        """The kept differences (dF, dG), for the next case of a sweep."""
+        return list(self.cols)
+
+    def _add(self, df: list[float], dg: list[float]) -> None:
+        if len(self.cols) == self.memory:
+            del self.cols[0], self.gram[0]
+            for row in self.gram:
+                del row[0]
+        dots = [sum(map(mul, c[0], df)) for c in self.cols]
+        for row, d in zip(self.gram, dots):
+            row.append(d)
+        self.gram.append(dots + [sum(map(mul, df, df))])
+        self.cols.append((df, dg))
+
+    def _clear(self) -> None:
+        self.cols, self.gram = [], []
+
+    def step(self, h: list[float], g: list[float], f: list[float],
+             reset: bool = False) -> list[float] | None:
+        # plain floats: for the few headers of a plant each numpy call would cost
+        # more than the arithmetic it does
+        if reset:
+            self._clear()
+            self.last, self.size = None, math.inf
+        size = max(map(abs, f), default=0.0)
+        if self.last is not None and size > self.size:
+            # the residual grew: the linear model does not hold here
+            self._clear()
+            self.last = None
+        self.size = size
+        if self.last is not None:
+            df = list(map(sub, f, self.last[0]))
+            norm = math.sqrt(sum(map(mul, df, df)))
+            if norm > self.noise:
+                # scaled to unit length: the steps of one solve span many decades
+                inv = 1.0 / norm
+                self._add([d * inv for d in df],
+                          [(a - b) * inv for a, b in zip(g, self.last[1])])
+        self.last = (f, g)
+        if not self.cols or not f or size > self.near:
+            return None
+        gamma = _solve_small([row[:] for row in self.gram],
+                             [sum(map(mul, c[0], f)) for c in self.cols])
+        out = list(g)
+        for gm, (_, dg) in zip(gamma, self.cols):
+            out = [o - gm * d for o, d in zip(out, dg)]
+        if (not all(map(math.isfinite, out))
+                or max(map(abs, map(sub, out, g))) > self.reach * size
+                or any(map(lt, out, self.floor))):
+            self._clear()
+            return None
+        return out
+
+
+def _solve_small(a: list[list[float]], b: list[float]) -> list[float]:
+    """Solve the small symmetric system a x = b, its diagonal raised by 1e-12 (of the
+    unit diagonal of scaled differences: nearly parallel ones then get a least-norm
+    share instead of a singular system), by Gaussian elimination with partial
+    pivoting."""
+    m = len(b)
+    for i in range(m):
+        a[i][i] += 1e-12
+    for k in range(m):
+        p = k
+        for i in range(k + 1, m):
+            if abs(a[i][k]) > abs(a[p][k]):
+                p = i
+        if p != k:
+            a[k], a[p], b[k], b[p] = a[p], a[k], b[p], b[k]
+        piv = a[k][k]
+        rk = a[k]
+        for i in range(k + 1, m):
+            r = a[i][k] / piv
+            if r:
+                ri = a[i]
+                for j in range(k, m):
+                    ri[j] -= r * rk[j]
+                b[i] -= r * b[k]
+    x = [0.0] * m
+    for k in range(m - 1, -1, -1):
+        acc = b[k]
+        rk = a[k]
+        for j in range(k + 1, m):
+            acc -= rk[j] * x[j]
+        x[k] = acc / rk[k]
+    return x
+
+
 def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
               tol_x: float = 1e-9, start: dict | None = None,
-              reference: bool = False, sequence_shortfall: bool = True) -> Solution:
+              reference: bool = False, accelerate: bool = True,
+              sequence_shortfall: bool = True) -> Solution:
     """Solve the balance of one case (see the module docstring).
 
     Parameters
@@ -270,11 +425,17 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
     tol_x : float
         Largest change of any flow between iterations at convergence [kg/s]
     start : dict, optional
-        ``{"h": [...], "modes": [...]}`` from a previous, similar case (warm start).
+        ``{"h": [...], "modes": [...]}`` from a previous, similar case (warm start),
+        and optionally ``"accel"``: the previous solution's ``accel`` (Anderson's
+        differences, used when the start's modes are taken).
     reference : bool
         Assemble the linear system with the reference code (:func:`steamnet.solver.reference.assemble`) instead
         of the compiled :class:`~steamnet.solver.assembly.Plan`; the systems, and so
         the answers, are the same [-]
+    accelerate : bool
+        Accelerate the enthalpy iteration (:class:`Anderson`); without, the plain
+        fixed-point steps, relaxed where they overshoot (the method before; the same
+        fixed point, within the tolerances) [-]
     sequence_shortfall : bool
         For a case that cannot balance, also find the imbalance with the swing elements
         in the order of their control sequences (one more linear programme); a study's
@@ -321,12 +482,22 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
     tol_mode = 1e-9 * scale
     it = 0
     relax, r_prev = 1.0, None
+    warm = bool(start) and len(start["h"]) == len(net.headers) and \
+        modes == list(start["modes"])
+    # turbines driving a pump: their power follows the pumped water, a flow of the
+    # same solve (_pumps_consistent)
+    pumps = [(k, t) for k, t in enumerate(net.turbines) if t["mode"] == "pump"]
+    accel = Anderson([s.hf for s in net.sat], noise=1e-2 * tol_h,
+                     columns=start.get("accel") if warm else None)
     recent: list[set] = []      # exhausted (header, side) of the last iterations
     still = 0                   # iterations in a row in which nothing moved
     for it in range(1, max_iter + 1):
         # before the first solve, bound the extractions as if the others were at zero
         eff = _extraction_bounds(net, co, xl if x is not None else [0.0] * n)
         x_new = solve_system(co, h, modes, eff)
+        if pumps and x_new is not None:
+            x_new = _pumps_consistent(net, co, h, pumps, x_new,
+                                      lambda: solve_system(co, h, modes, eff))
         if x_new is None:
             rescued = _rescue_modes(net, co, h, modes, eff, solve_system)
             if rescued is None:
@@ -356,7 +527,14 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
                 relax = -relax * sum(a * d for a, d in zip(r_prev, dr)) / den
                 relax = min(1.0, max(1 / 64, relax))
         r_prev = None if mode_changed else r
-        if relax < 1:
+        # Anderson's acceleration of the same map (docs/method.md, the enthalpy
+        # step): the next enthalpies combine the last few updates so that their
+        # residuals cancel as far as a linear model of the map says. Its memory is
+        # cleared when the modes change (the map changes with them).
+        h_acc = accel.step(h, h_new, r, reset=mode_changed) if accelerate else None
+        if h_acc is not None:
+            h_new = h_acc
+        elif relax < 1:
             h_new = [a + relax * d for a, d in zip(h, r)]
         x, xl, h = x_new, xl_new, h_new
         if mode_changed:
@@ -418,8 +596,10 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
     findings += cold_findings(net, co, x, cold)
     status = CaseStatus.INFEASIBLE if findings else CaseStatus.SOLVED
     msg = "; ".join(f["message"] for f in findings) if findings else "solved"
-    return Solution(net, x, h, co, modes, it, status, findings, msg,
-                    time.perf_counter() - t0)
+    sol = Solution(net, x, h, co, modes, it, status, findings, msg,
+                   time.perf_counter() - t0)
+    sol.accel = accel.columns()     # the slopes the iteration found, for the next case
+    return sol
 
 
 def _least_slack(net: Net, co: Coeffs, h: list[float], x, scale: float, modes=None,
