@@ -127,6 +127,8 @@ SteamRate = Q(Kind.STEAM_RATE)
 Area = Q(Kind.AREA)
 Density = Q(Kind.DENSITY)
 Velocity = Q(Kind.VELOCITY)
+#: mass per unit energy (an emission factor, kg of CO2 per J of fuel)
+MassPerEnergy = Q(Kind.STEAM_RATE)
 
 
 class _Item(BaseModel):
@@ -178,6 +180,20 @@ class Site(_Item):
     currency: str = Field("EUR", description="currency code used in prices, e.g. EUR, USD")
     makeup_temperature: Temperature = Field(
         description="temperature of make-up water entering the deaerator [K]")
+    power_demand: Power | None = Field(
+        None, description="electric demand of the site, met first by its generators: "
+        "power generated up to it saves prices.electricity, power above it is sold at "
+        "prices.electricity_export; none: every MW generated is worth "
+        "prices.electricity [W]")
+    max_power_export: Power | None = Field(
+        None, description="largest electric power the grid connection may take from "
+        "the site (export cap, a limit of `steamnet optimise`); needs power_demand [W]")
+
+    def check(self) -> None:
+        _check_nonneg(self, "power_demand", "max_power_export")
+        if self.max_power_export is not None and self.power_demand is None:
+            raise FieldError("max_power_export", "an export cap needs the site's "
+                             "power_demand (power is exported above it)")
 
 
 class Prices(_Item):
@@ -188,6 +204,13 @@ class Prices(_Item):
     electricity: PriceEnergy = Field(0.0, description="value of electric power generated "
                                      "(avoided purchase) [currency/J]")
     makeup_water: PriceMass = Field(0.0, description="treated make-up water [currency/kg]")
+    electricity_export: PriceEnergy | None = Field(
+        None, description="price received for electric power sold above the site's "
+        "power_demand; default the electricity price [currency/J]")
+    carbon: PriceMass = Field(0.0, description="price of the carbon dioxide emitted by "
+                              "the fired boilers, per mass of CO2, e.g. '80 EUR/t'; "
+                              "needs every fired boiler's emission_factor "
+                              "[currency/kg]")
 
 
 # --------------------------------------------------------------------------- header
@@ -304,9 +327,22 @@ class Boiler(_Item):
                                            "[currency/J]")
     blowdown_flash_header: Name | None = Field(
         None, description="header receiving flash steam from the blowdown, if any")
+    emission_factor: MassPerEnergy | None = Field(
+        None, description="CO2 emitted per unit of fuel energy (same basis as the "
+        "efficiency), from the fuel supplier's analysis or a published inventory "
+        "factor, e.g. '56.1 kg/GJ'; no default. Needed when prices.carbon is given "
+        "[kg/J]")
+    dispatchable: bool = Field(False, description="`steamnet optimise` may set its "
+                               "steam anywhere between min_steam and max_steam, "
+                               "whatever its mode (a swing boiler may move anyway)")
+    can_stop: bool = Field(False, description="`steamnet optimise` may also stop it "
+                           "(steam 0 instead of at least min_steam); needs max_steam")
     in_service: bool = True
 
     def check(self) -> None:
+        _check_nonneg(self, "emission_factor")
+        if self.can_stop and self.max_steam is None:
+            raise FieldError("can_stop", "a boiler that may stop needs its max_steam")
         _check_fraction(self.blowdown, "blowdown", allow_zero=True, allow_one=False)
         _check_fraction(self.efficiency, "efficiency")
         _check_nonneg(self, "steam", "min_steam", "max_steam")
@@ -333,6 +369,9 @@ class SteamTransfer(_Item):
                              "an export [currency/kg]")
     priority: int = Field(1, ge=1, le=99)
     share: Fraction | None = None
+    dispatchable: bool = Field(False, description="`steamnet optimise` may set its "
+                               "flow anywhere between min_flow and max_flow, whatever "
+                               "its mode")
     in_service: bool = True
 
     def check(self) -> None:
@@ -375,6 +414,9 @@ class Turbine(_Item):
     max_flow: Flow | None = None
     priority: int = Field(1, ge=1, le=99)
     share: Fraction | None = None
+    dispatchable: bool = Field(False, description="`steamnet optimise` may set its "
+                               "flow anywhere between min_flow and max_flow, whatever "
+                               "its mode")
     in_service: bool = True
 
     def check(self) -> None:
@@ -455,6 +497,9 @@ class ExtractionTurbine(_Item):
     condensate_temperature: Temperature | None = Field(
         None, description="temperature of the returned condensate; default saturation "
         "at the condenser pressure [K]")
+    dispatchable: bool = Field(False, description="`steamnet optimise` may set its "
+                               "throttle flow anywhere between min_flow and max_flow "
+                               "(within its exhaust limits), whatever its mode")
     in_service: bool = True
 
     def check(self) -> None:
@@ -609,6 +654,9 @@ class Letdown(_Item):
         "case-independent relief cover row [Pa]")
     max_inlet_temperature: Temperature | None = Field(
         None, description="highest upstream temperature the station is rated for [K]")
+    dispatchable: bool = Field(False, description="`steamnet optimise` may set its "
+                               "flow anywhere between min_flow and max_flow, whatever "
+                               "its mode")
     in_service: bool = True
 
     def check(self) -> None:
