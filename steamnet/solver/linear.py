@@ -9,7 +9,8 @@ programmes that need them: the balance of least header slack of an infeasible ca
 * :func:`header_rows`: one mass row per header, the users' flows on the right;
 * :func:`equality_rows`: the deaerator's mass and energy rows, the shares of the swing
   groups and the fixed-power extraction turbines at their shaft power;
-* :func:`exhaust_rows`: each extraction turbine's exhaust flow and its range;
+* :func:`exhaust_rows`: each extraction turbine's exhaust flow and its range (as
+  inequality rows: :func:`exhaust_inequalities`);
 * :func:`flow_bounds`: every flow's range as the balance holds it, or, for the flows
   named free, the element's own range whatever its mode;
 * :func:`sparse_rows`: rows of ``(column, coefficient)`` terms as a sparse matrix.
@@ -25,7 +26,8 @@ import scipy.sparse as sp
 from .network import Coeffs, Net
 from .reference import _da_rows, _header_terms
 
-__all__ = ["ENERGY_SCALE", "header_rows", "equality_rows", "exhaust_rows", "flow_bounds",
+__all__ = ["ENERGY_SCALE", "header_rows", "equality_rows", "exhaust_rows",
+           "exhaust_inequalities", "flow_bounds",
            "own_range", "sparse_rows"]
 
 #: The deaerator's energy row is divided by this so its coefficients are of the size of
@@ -76,6 +78,19 @@ def exhaust_rows(net: Net):
         out.append(([(t["in_var"], 1.0)] + [(e["var"], -1.0) for e in t["exts"]],
                     it.min_exhaust_flow, top))
     return out
+
+
+def exhaust_inequalities(net: Net):
+    """The extraction turbines' exhaust ranges as ``A_ub x <= b_ub`` rows: terms and
+    right-hand sides (the minimum, then the maximum where there is one)."""
+    rows_ub, b_ub = [], []
+    for terms, vmin, vmax in exhaust_rows(net):
+        rows_ub.append([(vi, -c) for vi, c in terms])
+        b_ub.append(-vmin)
+        if math.isfinite(vmax):
+            rows_ub.append(list(terms))
+            b_ub.append(vmax)
+    return rows_ub, b_ub
 
 
 def own_range(net: Net, vi: int) -> tuple[float, float]:

@@ -42,7 +42,8 @@ import numpy as np
 from scipy.optimize import linprog
 
 from .linear import ENERGY_SCALE as _ENERGY_SCALE
-from .linear import equality_rows, exhaust_rows, flow_bounds, header_rows, sparse_rows
+from .linear import (equality_rows, exhaust_inequalities, exhaust_rows, flow_bounds,
+                     header_rows, sparse_rows)
 from .network import Coeffs, Net, group_bounds
 
 __all__ = ["SlackBalance", "min_slack", "slack_tolerance", "beyond_limits"]
@@ -162,13 +163,7 @@ def min_slack(net: Net, co: Coeffs, h: list[float], x_last,
         rows_eq[nh] = rows_eq[nh] + [(n + 2 * nh, -1.0)]
         rows_eq[nh + 1] = rows_eq[nh + 1] + [(n + 2 * nh, -da["sat"].hf / _ENERGY_SCALE)]
     b_eq = np.array(list(hconst) + [rhs for _, rhs in eq], dtype=float)
-    rows_ub, b_ub = [], []
-    for terms, vmin, vmax in exhaust:
-        rows_ub.append([(vi, -c) for vi, c in terms])
-        b_ub.append(-vmin)
-        if math.isfinite(vmax):
-            rows_ub.append(list(terms))
-            b_ub.append(vmax)
+    rows_ub, b_ub = exhaust_inequalities(net)
     a_eq = sparse_rows(rows_eq, nc)
     bounds = ([(a if math.isfinite(a) else None, b if math.isfinite(b) else None)
                for a, b in zip(lo, hi)] + [(0.0, None)] * ns + [(0.0, 0.0)] * n)

@@ -29,7 +29,7 @@ from .stations import checks_table, station_summary_table, stations_table
 from .tables import (EQUIPMENT_KEYS, HEADER_KEYS, STREAM_KEYS, case_frame_table,
                      frame_table, overview_table)
 
-__all__ = ["write_workbook", "build_tables", "network_case_of", "SHEETS"]
+__all__ = ["write_workbook", "build_tables", "network_case_of", "SHEETS", "table_name"]
 
 #: What each fixed sheet holds (the cover's table of contents; docs/workbook.md).
 SHEETS = {
@@ -122,6 +122,11 @@ def build_tables(run: Run, *, for_csv: bool = False) -> list[Table]:
     return t
 
 
+def table_name(slug: str, used: set[str]) -> str:
+    """A unique Excel table name for ``slug`` (``used`` holds the names taken)."""
+    return _table_name(slug, used)
+
+
 def _table_name(slug: str, used: set[str]) -> str:
     base = "t_" + re.sub(r"[^0-9A-Za-z_]", "_", slug)
     name, i = base, 2
@@ -160,7 +165,8 @@ def write_workbook(path: str | Path, study, *, checks: pd.DataFrame | None = Non
                    envelopes: pd.DataFrame | None = None,
                    studies: dict[str, pd.DataFrame] | None = None,
                    network_case: str | None = None,
-                   gains: pd.DataFrame | None = None) -> Path:
+                   gains: pd.DataFrame | None = None,
+                   extra_sheets: list | None = None) -> Path:
     """Write the results workbook of ``study`` (a :class:`~steamnet.solve.StudyResult`).
 
     Parameters
@@ -176,6 +182,8 @@ def write_workbook(path: str | Path, study, *, checks: pd.DataFrame | None = Non
         case that balanced)
     gains : the station checks' control gain table (case, station, steam_t_h,
         gain_k_per_t_h, gain_per_ratio_k), charted against steam flow
+    extra_sheets : ``(name, description, write)`` of sheets a study writes itself,
+        before the findings: ``write(wb, run, used_table_names)`` adds the sheet
 
     Raises
     ------
@@ -197,7 +205,10 @@ def write_workbook(path: str | Path, study, *, checks: pd.DataFrame | None = Non
         order.insert(2, DIFFERENCES_SHEET)
     at = order.index("Findings")
     order.insert(at, "Station charts")
+    extra = {name: (text, write) for name, text, write in extra_sheets or ()}
+    order[at + 1:at + 1] = list(extra)
     what = {t.name: t.note.split(". ")[0] for t in tables}
+    what.update({name: text for name, (text, _) in extra.items()})
     contents = [(n, SHEETS.get(n) or what.get(n, "")) for n in order]
     now = datetime.now().astimezone()
     target = Path(path)
@@ -205,7 +216,7 @@ def write_workbook(path: str | Path, study, *, checks: pd.DataFrame | None = Non
         wb = Workbook(write_only=True)
         try:
             write_cover(wb, run, contents, now)
-            _write_sheets(wb, run, tables, order[1:])
+            _write_sheets(wb, run, tables, order[1:], extra)
             finish(wb, run.model)
             save_guarded(wb.save, tmp)
         except BaseException:
@@ -214,11 +225,14 @@ def write_workbook(path: str | Path, study, *, checks: pd.DataFrame | None = Non
     return target
 
 
-def _write_sheets(wb, run: Run, tables: list[Table], order: list[str]) -> None:
+def _write_sheets(wb, run: Run, tables: list[Table], order: list[str],
+                  extra: dict | None = None) -> None:
     used: set[str] = set()
     by_name = {t.name: t for t in tables}
     for name in order:
-        if name == "Network":
+        if extra and name in extra:
+            extra[name][1](wb, run, used)
+        elif name == "Network":
             _write_network(wb, run, network_case_of(run))
         elif name == "Station charts":
             write_charts(wb, run)
