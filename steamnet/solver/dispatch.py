@@ -29,8 +29,8 @@ from dataclasses import dataclass, field
 import numpy as np
 from scipy.optimize import Bounds, LinearConstraint, linprog, milp
 
-from .linear import (equality_rows, exhaust_inequalities, exhaust_rows, flow_bounds,
-                     header_rows, sparse_rows)
+from .linear import (duty_header_rows, equality_rows, exhaust_inequalities, exhaust_rows,
+                     flow_bounds, header_rows, sparse_rows)
 from .network import Coeffs, Net
 from .results import _boiler
 
@@ -201,14 +201,20 @@ def _bound_name(net: Net, vi: int, upper: bool, spray_capped: set) -> str:
 
 
 def solve_dispatch(net: Net, co: Coeffs, h: list[float], *,
-                   stop: bool = True) -> DispatchLP:
+                   stop: bool = True, energy: bool = True,
+                   around: tuple | None = None) -> DispatchLP:
     """The cheapest dispatch at the coefficients ``co`` of header enthalpies ``h``
-    (see the module docstring). ``stop`` lets ``can_stop`` boilers stop."""
+    (see the module docstring). ``stop`` lets ``can_stop`` boilers stop; without
+    ``energy`` every header has its mass row (the duty users' flows held), the
+    programme of a first, longer step. ``around = (x, radius)`` keeps every moved flow
+    (but a boiler's that may stop) within ``radius`` of ``x`` [kg/s]: a trust region,
+    never reported as a binding limit."""
     model = net.model
     pr, site = model.prices, model.site
     n, nh = len(net.vars), len(net.headers)
     free = movable(net)
     lo, hi = flow_bounds(net, co, free)
+    own_lo, own_hi = lo.copy(), hi.copy()
     # a desuperheater's spray cap bounds its let-down's steam at the spray ratio
     spray_capped = set()
     for s, k in zip(net.letdowns, co.ld):
@@ -218,13 +224,21 @@ def solve_dispatch(net: Net, co: Coeffs, h: list[float], *,
             if cap < hi[s["var"]]:
                 hi[s["var"]] = cap
                 spray_capped.add(s["var"])
+    own_hi = np.minimum(own_hi, hi)
     stoppable = []
     if stop:
         for b in net.boilers:
             if b["var"] in free and b["item"].can_stop and lo[b["var"]] > 0:
                 stoppable.append(b)
+    if around is not None:
+        xc, radius = around
+        skip = {b["var"] for b in stoppable}
+        for vi in free:
+            if vi not in skip:
+                lo[vi] = min(max(lo[vi], xc[vi] - radius), hi[vi])
+                hi[vi] = max(min(hi[vi], xc[vi] + radius), lo[vi])
     c, pw, p0 = cost_terms(net, co)
-    hrows, users = header_rows(net, co)
+    hrows, users = (duty_header_rows(net, co, h) if energy else header_rows(net, co))
     eq = equality_rows(net, co, h, shares=False, free=free)
     ex = exhaust_rows(net)
     # columns: flows (n), then power at the site (own use, sold) with a power demand,
@@ -323,7 +337,8 @@ def solve_dispatch(net: Net, co: Coeffs, h: list[float], *,
     x = np.where(np.abs(x) < 1e-12, 0.0, x)
     total = float(res.fun) + const * hours
     duals = [float(d) / 3.6 for d in res.eqlin.marginals[:nh]]
-    binding = _binding(net, res, x, lo_all[:n], hi_all[:n], free, spray_capped, stopped)
+    binding = _binding(net, res, x, lo_all[:n], hi_all[:n], free, spray_capped, stopped,
+                       own_lo, own_hi)
     if demand is not None and site.max_power_export is not None:
         sold = xs[n + 1]
         if sold >= site.max_power_export - 1e-3 and abs(res.upper.marginals[n + 1]) > 0:
@@ -342,8 +357,7 @@ def solve_dispatch(net: Net, co: Coeffs, h: list[float], *,
                                 "value": lim * 3.6, "unit": "t/h",
                                 "worth_per_h": abs(m) / 3.6})
     return DispatchLP("optimal", "optimal", x, cost_per_h=total, shadow_per_t=duals,
-                      binding=binding, gap=gap, stopped=stopped, lo=lo_all[:n].copy(),
-                      hi=hi_all[:n].copy())
+                      binding=binding, gap=gap, stopped=stopped, lo=own_lo, hi=own_hi)
 
 
 def _xt_label(net: Net, ti: int) -> str:
@@ -351,12 +365,18 @@ def _xt_label(net: Net, ti: int) -> str:
     return item_label("extraction_turbine", net.xturbines[ti]["name"])
 
 
-def _binding(net, res, x, lo, hi, free, spray_capped, stopped) -> list[dict]:
+def _binding(net, res, x, lo, hi, free, spray_capped, stopped, own_lo,
+             own_hi) -> list[dict]:
     out = []
     for vi in sorted(free):
         v = net.vars[vi]
-        if v.kind in ("da_steam", "da_makeup") or hi[vi] - lo[vi] <= FLOW_TOL:
+        if v.kind in ("da_steam", "da_makeup") or own_hi[vi] - own_lo[vi] <= FLOW_TOL \
+                or lo[vi] > own_lo[vi] + FLOW_TOL and hi[vi] < own_hi[vi] - FLOW_TOL:
             continue
+        if x[vi] >= hi[vi] - FLOW_TOL and hi[vi] < own_hi[vi] - FLOW_TOL or \
+                x[vi] <= lo[vi] + FLOW_TOL and lo[vi] > own_lo[vi] + FLOW_TOL \
+                and v.item not in stopped:
+            continue                # at the trust region's edge, not at a limit
         up = float(res.upper.marginals[vi])
         dn = float(res.lower.marginals[vi])
         if x[vi] >= hi[vi] - FLOW_TOL and abs(up) > _PRICE_TOL:
@@ -378,7 +398,7 @@ def _infeasible(net, co, h, free, lo, hi, why: str = "") -> DispatchLP:
     """No dispatch meets every limit: the least header slack that would let one (each
     header's slack supply and sink cost 1 per kg/s), to name the headers."""
     n, nh = len(net.vars), len(net.headers)
-    hrows, users = header_rows(net, co)
+    hrows, users = duty_header_rows(net, co, h)
     eq = equality_rows(net, co, h, shares=False, free=free)
     nc = n + 2 * nh
     rows_eq = [list(t) + [(n + i, 1.0), (n + nh + i, -1.0)] for i, t in enumerate(hrows)]

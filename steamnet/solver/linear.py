@@ -6,7 +6,8 @@ the balance is linear in the flows. This module writes them once, for the linear
 programmes that need them: the balance of least header slack of an infeasible case
 (:mod:`steamnet.solver.slack`) and the cheapest dispatch (:mod:`steamnet.studies.optimise`).
 
-* :func:`header_rows`: one mass row per header, the users' flows on the right;
+* :func:`header_rows`: one mass row per header, the users' flows on the right
+  (:func:`duty_header_rows`: in energy form on the headers with duty users);
 * :func:`equality_rows`: the deaerator's mass and energy rows, the shares of the swing
   groups and the fixed-power extraction turbines at their shaft power;
 * :func:`exhaust_rows`: each extraction turbine's exhaust flow and its range (as
@@ -23,10 +24,11 @@ import math
 import numpy as np
 import scipy.sparse as sp
 
-from .network import Coeffs, Net
+from .network import Coeffs, Net, header_inflows
 from .reference import _da_rows, _header_terms
 
-__all__ = ["ENERGY_SCALE", "header_rows", "equality_rows", "exhaust_rows",
+__all__ = ["ENERGY_SCALE", "header_rows", "duty_header_rows", "equality_rows",
+           "exhaust_rows",
            "exhaust_inequalities", "flow_bounds",
            "own_range", "sparse_rows"]
 
@@ -39,6 +41,52 @@ def header_rows(net: Net, co: Coeffs):
     """Per header (``net.headers`` order): its mass-balance terms ``[(var,
     coefficient)]`` (inflows positive) and the users' flow on it [kg/s]."""
     return _header_terms(net, co)
+
+
+def duty_header_rows(net: Net, co: Coeffs, h: list[float]):
+    """:func:`header_rows`, with the row of every header that has a duty user in its
+    energy form: subtracting ``h_f`` times the mass balance from the energy balance of
+    the header (``h`` its enthalpy, ``h_f`` saturated liquid) and dividing by
+    ``h - h_f``,
+
+        sum in  m (h_in - h_f) / (h - h_f)  -  sum out m  =  users + heat loss / (h - h_f)
+
+    where a duty user's flow, ``Q / (h - h_f)``, is exact whatever ``h``. At fixed
+    ``h`` the row is linear in the flows and carries what the mass row leaves out: an
+    inflow of lower enthalpy serves the duty users less. At the enthalpy the header
+    mixes to it holds together with the mass row, which it replaces (the duty users'
+    flow closes the mass)."""
+    rows, const = header_rows(net, co)
+    duty = sorted({u["header"] for u in net.users if u["duty"] is not None})
+    if not duty:
+        return rows, const
+    n = len(net.vars)
+    dh = {k: h[k] - net.sat[k].hf for k in duty}
+    if any(not d > 0 for d in dh.values()):
+        return rows, const              # a condensed header: keep the mass rows
+    inflow = {k: {} for k in duty}      # header -> var -> sum of m (h_in - h_f)
+    inmass = {k: {} for k in duty}      # header -> var -> inflow mass coefficient
+    unit = [0.0] * n
+    for vi in range(n):
+        unit[vi] = 1.0
+        ins = header_inflows(net, co, unit, labels=False)
+        unit[vi] = 0.0
+        for k in duty:
+            for _, f, hh in ins[k]:
+                if f:
+                    inflow[k][vi] = inflow[k].get(vi, 0.0) + f * (hh - net.sat[k].hf)
+                    inmass[k][vi] = inmass[k].get(vi, 0.0) + f
+    for k in duty:
+        terms: dict[int, float] = {}
+        for vi, c in rows[k]:               # outflows: what the mass row has beyond
+            terms[vi] = terms.get(vi, 0.0) + c   # the inflows, leaving at h
+        for vi, c in inmass[k].items():
+            terms[vi] = terms.get(vi, 0.0) - c
+        for vi, e in inflow[k].items():
+            terms[vi] = terms.get(vi, 0.0) + e / dh[k]
+        rows[k] = [(vi, c) for vi, c in terms.items() if c != 0.0]
+        const[k] += net.q_loss[k] / dh[k]
+    return rows, const
 
 
 def equality_rows(net: Net, co: Coeffs, h: list[float], *, shares: bool = True,

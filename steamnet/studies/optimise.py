@@ -10,10 +10,13 @@ programme where boilers may stop). That dispatch goes back to the ordinary balan
 fixed flows, as the changes of a case (:func:`fixed_dispatch_changes`): every moved
 element fixed at its flow, except one per header, which holds the header in swing (a
 matching of headers to the elements the programme left inside their range) and so takes
-up what the enthalpies of the new balance change. Its enthalpies give the coefficients
-of the next programme; the rounds stop when the dispatch moves less than
-:data:`DISPATCH_TOL` between two programmes. The final point is an ordinary balance of
-the case and is evaluated like every other (:func:`steamnet.evaluate.evaluate`): the
+up what the enthalpies of the new balance change. A round is accepted only when that
+balance costs less than the last accepted one; its enthalpies give the coefficients of
+the next programme. A rejected round shrinks a trust region around the accepted
+dispatch (each moved flow within a quarter of the rejected move). The rounds stop when
+the programme moves the dispatch by less than :data:`DISPATCH_TOL` from the accepted
+one, or the trust region is smaller than that. The final point is an ordinary balance
+of the case and is evaluated like every other (:func:`steamnet.evaluate.evaluate`): the
 balance, its flags and every station check.
 
 Per case the answer is the control-philosophy dispatch beside the optimal one, the cost
@@ -226,11 +229,10 @@ def _flows_by_name(sol) -> dict:
     return {(v.kind, v.item): float(sol.x[v.index]) for v in sol.net.vars}
 
 
-def _resolve(control: CaseResult, net, lp: DispatchLP, lo, hi, free, tables: bool,
-             h_start):
-    """The ordinary balance of the case with the programme's dispatch as fixed flows."""
-    closing = _closing(net, lp.x, lo, hi, free)
-    changes = fixed_dispatch_changes(net, lp.x, closing)
+def _resolve(control: CaseResult, net, x, lo, hi, free, tables: bool, h_start):
+    """The ordinary balance of the case with the dispatch ``x`` as fixed flows."""
+    closing = _closing(net, x, lo, hi, free)
+    changes = fixed_dispatch_changes(net, x, closing)
     m = net.model.with_changes(changes, origin=f"optimal dispatch of case "
                                                f"'{control.case}'")
     validate_model(m)
@@ -238,10 +240,99 @@ def _resolve(control: CaseResult, net, lp: DispatchLP, lo, hi, free, tables: boo
                        streams=False)
 
 
+@dataclass
+class _Run:
+    """One run of rounds from a start: the last programme and the accepted balance."""
+
+    lp: DispatchLP | None = None
+    res: CaseResult | None = None
+    rounds: int = 0
+    move: float = math.inf
+    settled: bool = False
+    failed: CaseOptimum | None = None
+
+    @property
+    def cost(self) -> float:
+        return _cost(self.res) if self.failed is None and self.res is not None \
+            else math.inf
+
+
+#: A round is accepted when the balance's cost falls by more than this fraction [-]
+_ACCEPT_REL = 1e-9
+
+
+def _rounds(control: CaseResult, net, free, *, first_mass: bool, tol: float,
+            max_rounds: int, tables: bool) -> _Run:
+    """Rounds of programme and re-solve from the control balance, each accepted only
+    when the re-solved balance costs less than the last accepted one; a rejected round
+    shrinks the trust region around the accepted dispatch to a quarter of its move.
+    Settled when the programme moves the dispatch by less than ``tol``, or the trust
+    region is smaller than that. With ``first_mass`` the first programme holds the
+    duty users' flows (a longer first step, see :func:`optimise_result`)."""
+    sol = control.solution
+    h, co = list(sol.h), sol.co
+    x = np.array(sol.x, dtype=float)
+    best = _cost(control) if control.status == CaseStatus.SOLVED else math.inf
+    order = sorted(free)
+    radius = math.inf
+    run = _Run()
+    for run.rounds in range(1, max_rounds + 1):
+        around = None if math.isinf(radius) else (x, radius)
+        lp = solve_dispatch(net, co, h, energy=not (first_mass and run.rounds == 1),
+                            around=around)
+        if lp.status != "optimal":
+            if around is None and run.res is None:
+                run.failed = CaseOptimum(control.case, lp.status if lp.status ==
+                                         "infeasible" else "error", lp.message, control,
+                                         rounds=run.rounds)
+                return run
+            radius = radius / 4 if math.isfinite(radius) else tol
+            continue
+        run.move = float(np.abs(lp.x[order] - x[order]).max(initial=0.0))
+        if run.move < tol:
+            run.lp, run.settled = lp, True
+            break
+        res = _resolve(control, net, lp.x, lp.lo, lp.hi, free, tables, h)
+        cost = _cost(res)
+        if cost < best - _ACCEPT_REL * abs(best) or (math.isinf(best) and
+                                                     math.isfinite(cost)):
+            run.lp, run.res, best = lp, res, cost
+            named = _flows_by_name(res.solution)
+            x = np.array([named.get((v.kind, v.item), 0.0) for v in net.vars])
+            h = list(res.solution.h)
+            co = coefficients(net, h, list(x))
+            if math.isfinite(radius):
+                radius = max(radius, 2 * run.move)
+        else:
+            radius = run.move / 4
+            if radius < tol:
+                run.settled = True
+                break
+    if not run.settled:
+        return run
+    if run.lp is None or run.res is None or run.move >= tol:
+        # settled by a shrunk trust region (or nothing lowered the cost): the
+        # programme held around the accepted dispatch gives its duals and limits
+        run.lp = solve_dispatch(net, co, h, around=(x, tol))
+        if run.lp.status == "optimal":
+            run.move = float(np.abs(run.lp.x[order] - x[order]).max(initial=0.0))
+    if run.res is None:
+        # the control dispatch is the optimum: re-solved as fixed flows like any other
+        run.res = _resolve(control, net, x, run.lp.lo, run.lp.hi, free, tables, h)
+    return run
+
+
 def optimise_result(control: CaseResult, *, tol: float = DISPATCH_TOL,
                     max_rounds: int = MAX_ROUNDS, tables: bool = True) -> CaseOptimum:
     """The cheapest dispatch of the case balanced as ``control`` (its raw solution
-    kept), by successive linear programming (see the module docstring)."""
+    kept), by successive linear programming (see the module docstring).
+
+    The enthalpies couple the flows in a way that is not convex (a let-down's
+    desuperheated steam serves a duty user less than a turbine's hotter exhaust), so
+    the rounds can settle on a local optimum. Two runs start from the control
+    balance: one with every header's programme in energy form from the first round,
+    one whose first programme holds the duty users' flows (a longer first step); the
+    cheaper settled optimum is kept."""
     sol = control.solution
     if sol is None or control.status not in (CaseStatus.SOLVED, CaseStatus.INFEASIBLE) \
             or not np.isfinite(sol.x).all():
@@ -249,40 +340,25 @@ def optimise_result(control: CaseResult, *, tol: float = DISPATCH_TOL,
                            f"from: {control.status}: {control.message}", control)
     net = sol.net
     free = movable(net)
-    h, co = list(sol.h), sol.co
-    x_prev = None
-    best = None
-    rounds = 0
-    move = math.inf
+    opts = {"tol": tol, "max_rounds": max_rounds, "tables": tables}
     try:
-        for rounds in range(1, max_rounds + 1):
-            lp = solve_dispatch(net, co, h)
-            if lp.status != "optimal":
-                return CaseOptimum(control.case, lp.status if lp.status == "infeasible"
-                                   else "error", lp.message, control, rounds=rounds)
-            xf = np.array([lp.x[vi] for vi in sorted(free)])
-            move = math.inf if x_prev is None else float(np.abs(xf - x_prev).max(
-                initial=0.0))
-            x_prev = xf
-            res = _resolve(control, net, lp, lp.lo, lp.hi, free, tables, h)
-            best = (lp, res)
-            if res.status != CaseStatus.SOLVED or res.solution is None:
-                break
-            if move < tol:
-                break
-            named = _flows_by_name(res.solution)
-            xr = [named.get((v.kind, v.item), 0.0) for v in net.vars]
-            h = list(res.solution.h)
-            co = coefficients(net, h, xr)
+        runs = [_rounds(control, net, free, first_mass=False, **opts)]
+        if runs[0].failed is None and any(u["duty"] is not None for u in net.users):
+            runs.append(_rounds(control, net, free, first_mass=True, **opts))
     except ModelError as exc:
         return CaseOptimum(control.case, "error", f"the optimal dispatch could not be "
-                           f"balanced: {exc}", control, rounds=rounds)
-    lp, res = best
-    status = _STATUS_OK if res.status == CaseStatus.SOLVED and move < tol else (
+                           f"balanced: {exc}", control)
+    if runs[0].failed is not None:
+        return runs[0].failed
+    settled = [r for r in runs if r.settled and math.isfinite(r.cost)]
+    run = min(settled, key=lambda r: r.cost) if settled else runs[0]
+    lp, res, move = run.lp, run.res, run.move
+    rounds = sum(r.rounds for r in runs)
+    status = _STATUS_OK if settled else (
         "not_settled" if res.status == CaseStatus.SOLVED else "error")
     msg = {_STATUS_OK: "optimal",
            "not_settled": f"the dispatch still moved {move * 3.6:.3g} t/h after "
-                          f"{rounds} rounds (limit {tol * 3.6:g} t/h)",
+                          f"{run.rounds} rounds (limit {tol * 3.6:g} t/h)",
            }.get(status, f"the optimal dispatch does not balance: {res.status}: "
                          f"{res.message}")
     return CaseOptimum(
