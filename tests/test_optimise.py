@@ -28,7 +28,7 @@ import pytest
 from click.testing import CliRunner
 
 import if97_ref as ref
-from helpers import barg, degc, model, t_h
+from helpers import barg, degc, model, plant_head, t_h
 from steamnet.cli import main
 from steamnet.model.schema import SI
 from steamnet.solve import solve_case
@@ -38,31 +38,28 @@ PRICE_FUEL = 10.0 / 1e9            # 10 EUR/GJ in EUR/J
 
 
 # -------------------------------------------------------- (1) closed-form break-even
-def _parallel_plant(p_el_mwh: float) -> str:
-    return f"""
-format_version = 1
-[site]
-name = "Break-even bench"
-makeup_temperature = "15 degC"
-[prices]
-fuel = "10 EUR/GJ"
-electricity = "{p_el_mwh!r} EUR/MWh"
-[[header]]
-name = "HP"
-pressure = "40 bar(g)"
+def _plant(name: str, headers: str, body: str, electricity: float | None = None):
+    """A test plant: helpers.plant_head (site, fuel at 10 EUR/GJ, HP at 40 bar(g),
+    external feedwater BFW at 50 bar(g) and 105 degC), then ``body``; with an
+    electricity price [EUR/MWh]."""
+    m = model(plant_head(name, headers) + body)
+    if electricity is not None:
+        m = m.with_changes({"prices.electricity": f"{electricity!r} EUR/MWh"})
+    return m
+
+
+_LP = """
 [[header]]
 name = "LP"
 pressure = "4 bar(g)"
-[[water_supply]]
-name = "FW"
-source = "external"
-pressure = "50 bar(g)"
-temperature = "105 degC"
+"""
+
+PARALLEL = """
 [[boiler]]
 name = "B1"
 header = "HP"
 steam_temperature = "400 degC"
-feedwater = "FW"
+feedwater = "BFW"
 efficiency = "90 %"
 [[turbine]]
 name = "T1"
@@ -110,7 +107,7 @@ def _closed_form_cost(m_t: float, p_el: float) -> float:
 def test_turbine_against_letdown_both_sides_of_break_even(side):
     p_star = _break_even()[0]
     p_el = side * p_star
-    res = optimise(model(_parallel_plant(p_el * 3.6e9)))
+    res = optimise(_plant("Break-even bench", _LP, PARALLEL, p_el * 3.6e9))
     o = res.cases[0]
     assert o.status == "optimal", o.message
     flows = {d["item"]: d["optimal_t_h"] for d in o.dispatch}
@@ -126,17 +123,7 @@ def test_turbine_against_letdown_both_sides_of_break_even(side):
 
 
 # ------------------------------------------------------------- (2) brute-force grid
-GRID_PLANT = """
-format_version = 1
-[site]
-name = "Grid bench"
-makeup_temperature = "15 degC"
-[prices]
-fuel = "10 EUR/GJ"
-electricity = "110 EUR/MWh"
-[[header]]
-name = "HP"
-pressure = "40 bar(g)"
+GRID_HEADERS = """
 [[header]]
 name = "MP"
 pressure = "12 bar(g)"
@@ -144,22 +131,19 @@ pressure = "12 bar(g)"
 name = "LP"
 pressure = "3 bar(g)"
 heat_loss = "150 kW"
-[[water_supply]]
-name = "FW"
-source = "external"
-pressure = "50 bar(g)"
-temperature = "105 degC"
+"""
+GRID_PLANT = """
 [[boiler]]
 name = "B1"
 header = "HP"
 steam_temperature = "400 degC"
-feedwater = "FW"
+feedwater = "BFW"
 efficiency = "90 %"
 [[boiler]]
 name = "B2"
 header = "HP"
 steam_temperature = "400 degC"
-feedwater = "FW"
+feedwater = "BFW"
 efficiency = "85 %"
 fuel_price = "6 EUR/GJ"
 mode = "fixed"
@@ -198,7 +182,7 @@ flow = "3 t/h"
 max_flow = "6 t/h"
 dispatchable = true
 [letdown.desuperheater]
-spray_supply = "FW"
+spray_supply = "BFW"
 approach = "10 K"
 [[letdown]]
 name = "L3"
@@ -225,7 +209,7 @@ _FIXED_MODE = {"boiler": "fixed", "turbine": "fixed_flow", "letdown": "fixed_flo
 
 
 def test_optimum_against_brute_force_grid():
-    m = model(GRID_PLANT)
+    m = _plant("Grid bench", GRID_HEADERS, GRID_PLANT, 110.0)
     res = optimise(m)
     o = res.cases[0]
     assert o.status == "optimal", o.message
@@ -260,7 +244,7 @@ def test_optimum_against_brute_force_grid():
 
 # ----------------------------------------------------- (3) duals against differences
 def test_shadow_prices_against_finite_difference():
-    m = model(GRID_PLANT)
+    m = _plant("Grid bench", GRID_HEADERS, GRID_PLANT, 110.0)
     o = optimise(m).cases[0]
     step = 0.2                                             # t/h
     for hdr, dual in o.shadow_per_t.items():
@@ -279,7 +263,7 @@ def test_shadow_prices_against_finite_difference():
 
 # ------------------------------------------- (4) the optimum re-solved, infeasible
 def test_optimum_resolved_with_fixed_flows_and_within_limits():
-    m = model(GRID_PLANT)
+    m = _plant("Grid bench", GRID_HEADERS, GRID_PLANT, 110.0)
     o = optimise(m).cases[0]
     flows = {d["item"]: d["optimal_t_h"] for d in o.dispatch}
     ch = {}
@@ -310,7 +294,7 @@ name = "too much"
 [case.changes]
 "boiler.B1.max_steam" = "20 t/h"
 """
-    res = optimise(model(text), ["too much"])
+    res = optimise(_plant("Grid bench", GRID_HEADERS, text, 110.0), ["too much"])
     o = res.cases[0]
     assert o.status == "infeasible"
     assert "header 'HP' short" in o.message
@@ -318,7 +302,7 @@ name = "too much"
 
 
 def test_cli_infeasible_exit_code(tmp_path):
-    text = GRID_PLANT + """
+    text = plant_head("Grid bench", GRID_HEADERS) + GRID_PLANT + """
 [[case]]
 name = "too much"
 [case.changes]
@@ -335,25 +319,11 @@ name = "too much"
 
 # ------------------------------------------------------------ (5) a boiler stops
 STOP_PLANT = """
-format_version = 1
-[site]
-name = "Stop bench"
-makeup_temperature = "15 degC"
-[prices]
-fuel = "10 EUR/GJ"
-[[header]]
-name = "HP"
-pressure = "30 bar(g)"
-[[water_supply]]
-name = "FW"
-source = "external"
-pressure = "40 bar(g)"
-temperature = "105 degC"
 [[boiler]]
 name = "B1"
 header = "HP"
 steam_temperature = "380 degC"
-feedwater = "FW"
+feedwater = "BFW"
 efficiency = "90 %"
 fuel_price = "6 EUR/GJ"
 max_steam = "30 t/h"
@@ -362,7 +332,7 @@ priority = 2
 name = "B2"
 header = "HP"
 steam_temperature = "380 degC"
-feedwater = "FW"
+feedwater = "BFW"
 efficiency = "90 %"
 min_steam = "10 t/h"
 max_steam = "40 t/h"
@@ -376,21 +346,21 @@ demand = "25 t/h"
 
 
 def test_boiler_stops_where_the_cheaper_one_carries_the_load():
-    o = optimise(model(STOP_PLANT)).cases[0]
+    o = optimise(_plant("Stop bench", "", STOP_PLANT)).cases[0]
     assert o.status == "optimal", o.message
     flows = {d["item"]: d["optimal_t_h"] for d in o.dispatch}
     assert flows["B2"] == 0.0 and flows["B1"] == pytest.approx(25.0, abs=1e-6)
     assert o.stopped == ("B2",)
     # closed form: 25 t/h from B1 at 6 EUR/GJ, fuel = m (h_s - h_fw) / efficiency
-    h_s = ref.h_pt(barg(30), degc(380))
-    h_fw = ref.liquid_h(barg(40), degc(105))
+    h_s = ref.h_pt(barg(40), degc(380))
+    h_fw = ref.liquid_h(barg(50), degc(105))
     cost = t_h(25) * (h_s - h_fw) / 0.90 * 6e-9 * 3600
     assert o.optimal_cost_per_h == pytest.approx(cost, rel=1e-6)
     # the control philosophy runs B2 first (priority 1) down to B1's share
     assert o.control_cost_per_h > o.optimal_cost_per_h
     # without can_stop B2 stays at its minimum, 10 t/h
-    o2 = optimise(model(STOP_PLANT.replace("can_stop = true", "dispatchable = true"))
-                  ).cases[0]
+    o2 = optimise(_plant("Stop bench", "", STOP_PLANT.replace(
+        "can_stop = true", "dispatchable = true"))).cases[0]
     flows2 = {d["item"]: d["optimal_t_h"] for d in o2.dispatch}
     assert flows2["B2"] == pytest.approx(10.0, abs=1e-6)
     assert flows2["B1"] == pytest.approx(15.0, abs=1e-6)
