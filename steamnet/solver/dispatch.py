@@ -30,7 +30,7 @@ import numpy as np
 from scipy.optimize import Bounds, LinearConstraint, linprog, milp
 
 from .linear import (duty_header_rows, equality_rows, exhaust_inequalities, exhaust_rows,
-                     flow_bounds, header_rows, sparse_rows)
+                     dense_rows, flow_bounds, header_rows)
 from .network import Coeffs, Net
 from .results import _boiler
 
@@ -281,19 +281,16 @@ def solve_dispatch(net: Net, co: Coeffs, h: list[float], *,
     scale = np.ones(nc)
     if demand is not None:
         scale[n:n + 2] = 1e6
-    a_eq = sparse_rows(rows_eq, nc)
-    a_ub = sparse_rows(rows_ub, nc) if rows_ub else None
+    a_eq = dense_rows(rows_eq, nc)
+    a_ub = dense_rows(rows_ub, nc) if rows_ub else None
     hours = 3600.0
     if demand is not None:
-        # rows and bounds of the power columns in MW
-        a_eq = a_eq @ _diag(scale)
-        if a_ub is not None:
-            a_ub = a_ub @ _diag(scale)
+        # the power columns and the power row in MW
+        a_eq[:, n:n + 2] *= 1e6
+        a_eq[-1] *= 1e-6
+        b_eq[-1] = p0 / 1e6
         cost = cost * scale
         lo_all, hi_all = lo_all / scale, hi_all / scale
-        b_eq[-1] = p0 / 1e6
-        a_eq = _scale_row(a_eq, len(b_eq) - 1, 1e-6)
-        # (the power row in MW: every term over 1e6, the MW columns at 1)
     bounds = list(zip(_none(lo_all), _none(hi_all)))
     if lo_all.size and (lo_all > hi_all + 1e-12).any():
         return _infeasible(net, co, h, free, lo, hi, "a flow's range is empty")
@@ -410,8 +407,8 @@ def _infeasible(net, co, h, free, lo, hi, why: str = "") -> DispatchLP:
     bounds = list(zip(_none(lo), _none(hi))) + [(0.0, None)] * (2 * nh)
     res = None
     if not (lo > hi + 1e-12).any():
-        res = linprog(cost, A_ub=sparse_rows(rows_ub, nc) if rows_ub else None,
-                      b_ub=b_ub or None, A_eq=sparse_rows(rows_eq, nc),
+        res = linprog(cost, A_ub=dense_rows(rows_ub, nc) if rows_ub else None,
+                      b_ub=b_ub or None, A_eq=dense_rows(rows_eq, nc),
                       b_eq=np.array(b_eq), bounds=bounds, method="highs")
     if res is None or res.status != 0:
         return DispatchLP("infeasible", "no dispatch meets every limit" +
@@ -435,13 +432,3 @@ def _none(a):
     return [v if math.isfinite(v) else None for v in a]
 
 
-def _diag(s):
-    import scipy.sparse as sp
-    return sp.diags(s)
-
-
-def _scale_row(a, i, f):
-    import scipy.sparse as sp
-    d = np.ones(a.shape[0])
-    d[i] = f
-    return sp.diags(d) @ a

@@ -14,7 +14,8 @@ programmes that need them: the balance of least header slack of an infeasible ca
   inequality rows: :func:`exhaust_inequalities`);
 * :func:`flow_bounds`: every flow's range as the balance holds it, or, for the flows
   named free, the element's own range whatever its mode;
-* :func:`sparse_rows`: rows of ``(column, coefficient)`` terms as a sparse matrix.
+* :func:`sparse_rows`, :func:`dense_rows`: rows of ``(column, coefficient)`` terms as a
+  sparse or a dense matrix.
 """
 
 from __future__ import annotations
@@ -30,7 +31,7 @@ from .reference import _da_rows, _header_terms
 __all__ = ["ENERGY_SCALE", "header_rows", "duty_header_rows", "equality_rows",
            "exhaust_rows",
            "exhaust_inequalities", "flow_bounds",
-           "own_range", "sparse_rows"]
+           "own_range", "sparse_rows", "dense_rows"]
 
 #: The deaerator's energy row is divided by this so its coefficients are of the size of
 #: the mass rows' (enthalpies of about 1e6 J/kg) [J/kg]
@@ -193,6 +194,15 @@ def flow_bounds(net: Net, co: Coeffs, free: frozenset = frozenset()):
     for vi in free:
         lo[vi], hi[vi] = own_range(net, vi)
     return lo, hi
+
+
+def dense_rows(rows, n_cols: int) -> np.ndarray:
+    """Rows of ``(column, coefficient)`` terms as a dense array (small programmes)."""
+    a = np.zeros((len(rows), n_cols))
+    for i, terms in enumerate(rows):
+        for col, val in terms:
+            a[i, col] += val
+    return a
 
 
 def sparse_rows(rows, n_cols: int):

@@ -15,7 +15,11 @@ balance costs less than the last accepted one; its enthalpies give the coefficie
 the next programme. A rejected round shrinks a trust region around the accepted
 dispatch (each moved flow within a quarter of the rejected move). The rounds stop when
 the programme moves the dispatch by less than :data:`DISPATCH_TOL` from the accepted
-one, or the trust region is smaller than that. The final point is an ordinary balance
+one, when the trust region is smaller than that, or after :data:`MAX_REJECTED` rejected
+rounds in a row: the programme holds the enthalpies, so near some dispatches its
+slopes point to a cheaper one that the balance does not confirm. The answer is a
+dispatch no dearer than the control philosophy's at which the programme finds no
+cheaper one that balances: a local optimum of the method, not a proven global one. The final point is an ordinary balance
 of the case and is evaluated like every other (:func:`steamnet.evaluate.evaluate`): the
 balance, its flags and every station check.
 
@@ -56,6 +60,10 @@ __all__ = ["optimise", "optimise_result", "fixed_dispatch_changes", "CaseOptimum
 DISPATCH_TOL = 1e-4
 #: Most rounds of programme and balance before a case is reported not settled [-]
 MAX_ROUNDS = 30
+#: Rounds in a row that do not lower the balance's cost after which the accepted
+#: dispatch stands: the programme, which holds the enthalpies, finds no cheaper one
+#: near it [-]
+MAX_REJECTED = 2
 #: A flow inside its range by more than this may hold its header in the re-solve [kg/s]
 _INSIDE = 1e-6
 
@@ -110,6 +118,7 @@ class CaseOptimum:
     binding: tuple = ()
     shadow_per_t: dict = field(default_factory=dict)
     stopped: tuple = ()
+    start_flows: tuple = ()
 
     @property
     def control_cost_per_h(self) -> float:
@@ -122,6 +131,14 @@ class CaseOptimum:
     @property
     def saving_per_h(self) -> float:
         return self.control_cost_per_h - self.optimal_cost_per_h
+
+    @property
+    def flows(self) -> dict:
+        """The optimal flows of the moved elements by (kind, name) [kg/s] (a start for
+        a similar case), empty unless optimal."""
+        if self.status != _STATUS_OK:
+            return {}
+        return dict(self.start_flows)
 
     def lean(self) -> "CaseOptimum":
         """A copy without raw solutions (small to pickle from a worker)."""
@@ -262,20 +279,38 @@ _ACCEPT_REL = 1e-9
 
 
 def _rounds(control: CaseResult, net, free, *, first_mass: bool, tol: float,
-            max_rounds: int, tables: bool) -> _Run:
+            max_rounds: int, tables: bool, start: dict | None = None,
+            max_rejected: int = None) -> _Run:
     """Rounds of programme and re-solve from the control balance, each accepted only
     when the re-solved balance costs less than the last accepted one; a rejected round
     shrinks the trust region around the accepted dispatch to a quarter of its move.
-    Settled when the programme moves the dispatch by less than ``tol``, or the trust
-    region is smaller than that. With ``first_mass`` the first programme holds the
-    duty users' flows (a longer first step, see :func:`optimise_result`)."""
+    Settled when the programme moves the dispatch by less than ``tol``, the trust
+    region is smaller than that, or :data:`MAX_REJECTED` rounds in a row were rejected. With ``first_mass`` the first programme holds the
+    duty users' flows (a longer first step, see :func:`optimise_result`). With
+    ``start`` (moved flows by kind and name, the optimum of a similar case) that
+    dispatch, balanced for this case, is the first accepted point when it costs less
+    than the control's; a start that does not is left. ``max_rejected`` (default
+    :data:`MAX_REJECTED`) rejected rounds in a row end the rounds."""
     sol = control.solution
     h, co = list(sol.h), sol.co
     x = np.array(sol.x, dtype=float)
     best = _cost(control) if control.status == CaseStatus.SOLVED else math.inf
     order = sorted(free)
     radius = math.inf
+    rejected = 0
     run = _Run()
+    if start is not None:
+        x0 = np.array([start.get((v.kind, v.item), x[v.index]) if v.index in free
+                       else x[v.index] for v in net.vars])
+        lo, hi = _own_bounds(net, co, free)
+        res = _resolve(control, net, x0, lo, hi, free, tables, h)
+        cost = _cost(res)
+        if cost < best:
+            run.res, best = res, cost
+            named = _flows_by_name(res.solution)
+            x = np.array([named.get((v.kind, v.item), 0.0) for v in net.vars])
+            h = list(res.solution.h)
+            co = coefficients(net, h, list(x))
     for run.rounds in range(1, max_rounds + 1):
         around = None if math.isinf(radius) else (x, radius)
         lp = solve_dispatch(net, co, h, energy=not (first_mass and run.rounds == 1),
@@ -303,9 +338,11 @@ def _rounds(control: CaseResult, net, free, *, first_mass: bool, tol: float,
             co = coefficients(net, h, list(x))
             if math.isfinite(radius):
                 radius = max(radius, 2 * run.move)
+            rejected = 0
         else:
             radius = run.move / 4
-            if radius < tol:
+            rejected += 1
+            if radius < tol or rejected >= (max_rejected or MAX_REJECTED):
                 run.settled = True
                 break
     if not run.settled:
@@ -322,8 +359,15 @@ def _rounds(control: CaseResult, net, free, *, first_mass: bool, tol: float,
     return run
 
 
+def _own_bounds(net, co, free):
+    """The flows' ranges as the programme holds them (without a trust region)."""
+    from ..solver.linear import flow_bounds
+    return flow_bounds(net, co, free)
+
+
 def optimise_result(control: CaseResult, *, tol: float = DISPATCH_TOL,
-                    max_rounds: int = MAX_ROUNDS, tables: bool = True) -> CaseOptimum:
+                    max_rounds: int = MAX_ROUNDS, tables: bool = True,
+                    start: dict | None = None) -> CaseOptimum:
     """The cheapest dispatch of the case balanced as ``control`` (its raw solution
     kept), by successive linear programming (see the module docstring).
 
@@ -332,7 +376,11 @@ def optimise_result(control: CaseResult, *, tol: float = DISPATCH_TOL,
     the rounds can settle on a local optimum. Two runs start from the control
     balance: one with every header's programme in energy form from the first round,
     one whose first programme holds the duty users' flows (a longer first step); the
-    cheaper settled optimum is kept."""
+    cheaper settled optimum is kept. With ``start`` (:attr:`CaseOptimum.flows` of the
+    case before: the hours of a profile within a chunk of the sweep) one run starts
+    from that dispatch instead, balanced for this case, when it costs less than the
+    control's, and one rejected round ends it; otherwise the two runs from the control
+    balance are made as without a start."""
     sol = control.solution
     if sol is None or control.status not in (CaseStatus.SOLVED, CaseStatus.INFEASIBLE) \
             or not np.isfinite(sol.x).all():
@@ -342,9 +390,16 @@ def optimise_result(control: CaseResult, *, tol: float = DISPATCH_TOL,
     free = movable(net)
     opts = {"tol": tol, "max_rounds": max_rounds, "tables": tables}
     try:
-        runs = [_rounds(control, net, free, first_mass=False, **opts)]
-        if runs[0].failed is None and any(u["duty"] is not None for u in net.users):
-            runs.append(_rounds(control, net, free, first_mass=True, **opts))
+        runs = []
+        if start is not None:
+            warm = _rounds(control, net, free, first_mass=False, start=start,
+                           max_rejected=1, **opts)
+            if warm.settled and math.isfinite(warm.cost) and warm.failed is None:
+                runs = [warm]
+        if not runs:
+            runs = [_rounds(control, net, free, first_mass=False, **opts)]
+            if runs[0].failed is None and any(u["duty"] is not None for u in net.users):
+                runs.append(_rounds(control, net, free, first_mass=True, **opts))
     except ModelError as exc:
         return CaseOptimum(control.case, "error", f"the optimal dispatch could not be "
                            f"balanced: {exc}", control)
@@ -367,7 +422,9 @@ def optimise_result(control: CaseResult, *, tol: float = DISPATCH_TOL,
         dispatch=tuple(_dispatch_rows(net, control, res, free)),
         binding=tuple(lp.binding),
         shadow_per_t={name: d for name, d in zip(net.headers, lp.shadow_per_t)},
-        stopped=tuple(lp.stopped))
+        stopped=tuple(lp.stopped), start_flows=tuple(
+            ((net.vars[vi].kind, net.vars[vi].item), float(lp.x[vi])) for vi in
+            sorted(free)))
 
 
 def _dispatch_rows(net, control: CaseResult, res: CaseResult, free) -> list[dict]:
@@ -388,7 +445,10 @@ def _dispatch_rows(net, control: CaseResult, res: CaseResult, free) -> list[dict
 def _chunk_optimise(data: dict, opts: dict, results: list) -> tuple:
     """The sweep extra: the optimum of every case of a solved chunk (made where the
     chunk was solved) and the findings of the optimal balances."""
-    found = [optimise_result(r, **opts) for r in results]
+    found = []
+    for r in results:        # each case starts from the optimum of the one before
+        start = found[-1].flows if found else None
+        found.append(optimise_result(r, start=start or None, **opts))
     optima = [o.optimum for o in found if o.optimum is not None]
     blocks = chunk_findings(data, optima)
     return [o.lean() for o in found], blocks
