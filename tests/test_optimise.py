@@ -364,3 +364,34 @@ def test_boiler_stops_where_the_cheaper_one_carries_the_load():
     flows2 = {d["item"]: d["optimal_t_h"] for d in o2.dispatch}
     assert flows2["B2"] == pytest.approx(10.0, abs=1e-6)
     assert flows2["B1"] == pytest.approx(15.0, abs=1e-6)
+
+
+# ------------------------------------------------------------------ workbook, months
+def test_profile_workbook_has_the_dispatch_sheets_and_the_monthly_chart(tmp_path):
+    import zipfile
+
+    from openpyxl import load_workbook
+
+    from conftest import DEMO, ROOT
+    from steamnet.model.load import load_model
+    from steamnet.studies import read_case_table
+    from steamnet.workbook.dispatch import write_optimise_workbook
+    m = load_model(DEMO)
+    cs = read_case_table(ROOT / "cases" / "orlewick_hourly.csv", m, base="winter")
+    names = list(cs)
+    at = names.index("2025-01-31 23:00")                  # the last hour of January
+    res = optimise(m, cs.select(names[at:at + 3]))
+    assert list(res.monthly["month"]) == ["2025-01", "2025-02"]
+    assert list(res.monthly["hours"]) == [1, 2]
+    t = res.table
+    assert res.monthly["saving"].sum() == pytest.approx(t["saving_per_h"].sum(), rel=1e-12)
+    path = write_optimise_workbook(tmp_path / "best.xlsx", res)
+    wb = load_workbook(path, read_only=True)
+    for sheet in ("Cheapest dispatch", "Dispatch moves", "Dispatch limits",
+                  "Shadow prices", "Saving per month", "Findings"):
+        assert sheet in wb.sheetnames, sheet
+    assert wb.sheetnames.index("Saving per month") < wb.sheetnames.index("Findings")
+    with zipfile.ZipFile(path) as z:
+        charts = [z.read(n).decode() for n in z.namelist()
+                  if n.startswith("xl/charts/chart")]
+    assert any("Saving per month" in c for c in charts)
