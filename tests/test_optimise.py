@@ -395,3 +395,41 @@ def test_profile_workbook_has_the_dispatch_sheets_and_the_monthly_chart(tmp_path
         charts = [z.read(n).decode() for n in z.namelist()
                   if n.startswith("xl/charts/chart")]
     assert any("Saving per month" in c for c in charts)
+
+
+def test_optimum_has_the_findings_of_its_balance_written_as_a_case():
+    """One verdict per balance: the findings of the demo's summer optimum are those
+    `steamnet stations` gives for the same dispatch written as a case of the model
+    file (the bark boiler and PRV-ML fixed at the optimum's flows, the rest by the
+    control philosophy)."""
+    from conftest import DEMO
+    from steamnet.evaluate import evaluate
+    from steamnet.model.load import load_model
+    from steamnet.sweep import solve_cases
+    m = load_model(DEMO)
+    res = optimise(m, ["summer"])
+    flows = {d["item"]: d["optimal_t_h"] for d in res.cases[0].dispatch}
+    text = DEMO.read_text(encoding="utf-8") + f"""
+[[case]]
+name = "summer written"
+based_on = "summer"
+[case.changes]
+"boiler.B1-bark.steam" = "{flows['B1-bark']!r} t/h"
+"letdown.PRV-ML.mode" = "fixed_flow"
+"letdown.PRV-ML.flow" = "{flows['PRV-ML']!r} t/h"
+"""
+    from steamnet.model.load import loads_model
+    written = loads_model(text, source="written.toml")
+    study = solve_cases(written, ["summer written"], station_checks=True)
+    got = study.cases[0]
+    assert got.summary["cost_per_h"] == pytest.approx(
+        res.cases[0].optimal_cost_per_h, rel=1e-6)
+    eq = got.equipment.set_index("item")
+    for item, f in flows.items():
+        assert eq.loc[item, "flow_t_h"] == pytest.approx(f, abs=1e-4), item
+
+    def problems(findings, case):
+        f = findings[(findings["case"] == case) & (findings["status"] != "ok")]
+        return set(zip(f["item"], f["check"], f["status"]))
+    assert problems(res.evaluation.findings, "summer") == \
+        problems(evaluate(study).findings, "summer written")
