@@ -433,3 +433,17 @@ based_on = "summer"
         return set(zip(f["item"], f["check"], f["status"]))
     assert problems(res.evaluation.findings, "summer") == \
         problems(evaluate(study).findings, "summer written")
+
+
+def test_profile_gives_the_same_answers_in_two_workers():
+    """The sweep's chunks do not depend on the workers (docs/performance.md), and each
+    hour starts only from the hour before within its chunk: the same table, exactly."""
+    from conftest import DEMO, ROOT
+    from steamnet.model.load import load_model
+    from steamnet.studies import read_case_table
+    m = load_model(DEMO)
+    cs = read_case_table(ROOT / "cases" / "orlewick_hourly.csv", m, base="winter")
+    cs = cs.select(list(cs)[:30])                         # two chunks of the sweep
+    one = optimise(m, cs).table
+    two = optimise(m, cs, workers=2).table
+    assert one.equals(two)

@@ -84,9 +84,8 @@ class DispatchLP:
 
 
 def _dispatchable(net: Net, v) -> bool:
-    it = net.model.table(v.table).get(v.item.split("/", 1)[0]) if v.table else None
-    if v.kind == "xt_ext":
-        return False
+    """Whether the element of flow ``v`` is marked dispatchable or may stop."""
+    it = net.model.table(v.table).get(v.item)
     return bool(getattr(it, "dispatchable", False) or getattr(it, "can_stop", False))
 
 
@@ -103,11 +102,10 @@ def movable(net: Net) -> frozenset:
     return frozenset(out)
 
 
-def supplied_header(net: Net, vi: int) -> tuple[int, str] | None:
+def supplied_header(net: Net, vi: int) -> tuple[str, int] | None:
     """The header whose balance flow ``vi`` can close, and how: ``("supply", h)`` for
     a boiler, an import, a turbine, a let-down or an extraction feeding header ``h``,
     ``("absorb", h)`` for a vent or an export on it; None for others."""
-    v = net.vars[vi]
     for b in net.boilers:
         if b["var"] == vi:
             return "supply", b["header"]
@@ -127,7 +125,6 @@ def supplied_header(net: Net, vi: int) -> tuple[int, str] | None:
     for t in net.vents:
         if t["var"] == vi:
             return "absorb", t["header"]
-    del v
     return None
 
 
