@@ -447,3 +447,42 @@ def test_profile_gives_the_same_answers_in_two_workers():
     one = optimise(m, cs).table
     two = optimise(m, cs, workers=2).table
     assert one.equals(two)
+
+
+def test_letdown_valve_travel_fail_limit_is_a_bound():
+    """Below the break-even price the let-down would carry all it can; its valve may
+    open only to the fail limit of its travel (95 %, docs/checks/letdown_valve_travel.md):
+    with a linear characteristic, Kv = 0.95 Kv_rated. The flow at that Kv is computed
+    here with fluids' IEC 60534-2-1 gas sizing (size_control_valve_g) from CoolProp
+    IF97 inlet properties; the required Kv is proportional to the flow at a given
+    inlet state."""
+    from fluids.control_valve import size_control_valve_g
+    from CoolProp.CoolProp import PropsSI
+    rated = 80.0                                            # m3/h
+    valve = f"""
+[letdown.valve]
+rated_coefficient = "{rated} Kv"
+characteristic = "linear"
+xt = 0.70
+fl = 0.90
+"""
+    body = PARALLEL.replace('priority = 2\n', 'priority = 2\n' + valve, 1)
+    p_star = _break_even()[0]
+    o = optimise(_plant("Travel bench", _LP, body, 0.9 * p_star * 3.6e9)).cases[0]
+    assert o.status == "optimal", o.message
+    p1, p2, t1 = barg(40), barg(4), degc(400)
+    f = "IF97::Water"
+    cp, cv, rho = (PropsSI(k, "P", p1, "T", t1, f) for k in ("CPMASS", "CVMASS", "D"))
+    r_w = 8.314462618 / 0.01801528                          # J/(kg K), CODATA R / M
+    z = p1 / (rho * r_w * t1)
+    rho_n = 101325.0 / (r_w * 273.15)                       # the standard's reference
+    # (the viscosity enters only with diameters, through the Reynolds factor)
+    kv_per_kg_s = size_control_valve_g(t1, 18.01528, 2.5e-5, cp / cv, z, p1, p2,
+                                       1.0 / rho_n, FL=0.90, xT=0.70)
+    m_cap = 0.95 * rated / kv_per_kg_s                      # kg/s
+    flows = {d["item"]: d["optimal_t_h"] for d in o.dispatch}
+    # 1e-6 relative: two IF97 implementations and the balance's closure
+    assert flows["L1"] == pytest.approx(m_cap * 3.6, rel=1e-6)
+    assert any(b["item"] == "letdown 'L1'" and b["limit"] == "valve_travel_fail_high"
+               for b in o.binding)
+    assert flows["T1"] > 5.0                                # above its minimum now

@@ -12,7 +12,8 @@ element, every vent and swing export, and every element marked ``dispatchable``;
 others keep the values the balance gives them. The shares of the swing groups do not
 hold (the optimiser replaces the control philosophy); every element's range, the
 extraction turbines' joint limits, each desuperheater's ``max_spray`` (a bound on its
-let-down's steam at the present spray ratio) and the export cap do. Boilers marked
+let-down's steam at the present spray ratio), the export cap and the caps the caller
+gives (the let-down valves' travel, :func:`steamnet.studies.optimise.station_caps`) do. Boilers marked
 ``can_stop`` either run within their range or stop: a mixed-integer programme
 (scipy.optimize.milp), after which the linear programme with the chosen boilers gives
 the duals.
@@ -189,23 +190,25 @@ def _label(net: Net, vi: int) -> str:
 _LIMIT_WORDS = {"boiler": ("min_steam", "max_steam")}
 
 
-def _bound_name(net: Net, vi: int, upper: bool, spray_capped: set) -> str:
+def _bound_name(net: Net, vi: int, upper: bool, spray_capped) -> str:
     v = net.vars[vi]
     if upper and vi in spray_capped:
-        return "max_spray"
+        return spray_capped[vi]
     lo, hi = _LIMIT_WORDS.get(v.kind, ("min_flow", "max_flow"))
     return hi if upper else lo
 
 
 def solve_dispatch(net: Net, co: Coeffs, h: list[float], *,
                    stop: bool = True, energy: bool = True,
-                   around: tuple | None = None) -> DispatchLP:
+                   around: tuple | None = None, caps: dict | None = None) -> DispatchLP:
     """The cheapest dispatch at the coefficients ``co`` of header enthalpies ``h``
     (see the module docstring). ``stop`` lets ``can_stop`` boilers stop; without
     ``energy`` every header has its mass row (the duty users' flows held), the
     programme of a first, longer step. ``around = (x, radius)`` keeps every moved flow
     (but a boiler's that may stop) within ``radius`` of ``x`` [kg/s]: a trust region,
-    never reported as a binding limit."""
+    never reported as a binding limit. ``caps`` (flow -> (largest flow, limit name))
+    adds limits found elsewhere, such as a station check's fail limit written as a
+    bound [kg/s]."""
     model = net.model
     pr, site = model.prices, model.site
     n, nh = len(net.vars), len(net.headers)
@@ -213,14 +216,18 @@ def solve_dispatch(net: Net, co: Coeffs, h: list[float], *,
     lo, hi = flow_bounds(net, co, free)
     own_lo, own_hi = lo.copy(), hi.copy()
     # a desuperheater's spray cap bounds its let-down's steam at the spray ratio
-    spray_capped = set()
+    spray_capped: dict[int, str] = {}
     for s, k in zip(net.letdowns, co.ld):
         d = s["item"].desuperheater
         if d is not None and d.max_spray is not None and k["r"] > 0:
             cap = d.max_spray / k["r"]
             if cap < hi[s["var"]]:
                 hi[s["var"]] = cap
-                spray_capped.add(s["var"])
+                spray_capped[s["var"]] = "max_spray"
+    for vi, (cap, name) in (caps or {}).items():
+        if vi in free and cap < hi[vi]:
+            hi[vi] = max(cap, lo[vi])
+            spray_capped[vi] = name
     own_hi = np.minimum(own_hi, hi)
     stoppable = []
     if stop:
@@ -290,7 +297,8 @@ def solve_dispatch(net: Net, co: Coeffs, h: list[float], *,
         lo_all, hi_all = lo_all / scale, hi_all / scale
     bounds = list(zip(_none(lo_all), _none(hi_all)))
     if lo_all.size and (lo_all > hi_all + 1e-12).any():
-        return _infeasible(net, co, h, free, lo, hi, "a flow's range is empty")
+        return _infeasible(net, co, h, free, lo, hi, "a flow's range is empty",
+                           spray_capped)
     gap = 0.0
     stopped: list[str] = []
     if stoppable:
@@ -303,7 +311,7 @@ def solve_dispatch(net: Net, co: Coeffs, h: list[float], *,
                    bounds=Bounds(np.nan_to_num(lo_all, neginf=-np.inf),
                                  np.nan_to_num(hi_all, posinf=np.inf)))
         if res.status == 2:
-            return _infeasible(net, co, h, free, lo, hi)
+            return _infeasible(net, co, h, free, lo, hi, named=spray_capped)
         if res.x is None:
             return DispatchLP("failed", f"the mixed-integer programme failed: "
                               f"{res.message}", np.full(n, np.nan))
@@ -316,7 +324,7 @@ def solve_dispatch(net: Net, co: Coeffs, h: list[float], *,
     res = linprog(cost * hours, A_ub=a_ub, b_ub=b_ub or None, A_eq=a_eq,
                   b_eq=np.array(b_eq), bounds=bounds, method="highs")
     if res.status == 2:
-        return _infeasible(net, co, h, free, lo, hi)
+        return _infeasible(net, co, h, free, lo, hi, named=spray_capped)
     if res.status == 3:
         open_ = [_label(net, vi) for vi in sorted(free) if not math.isfinite(hi[vi])]
         return DispatchLP("unbounded", "the cost falls without end: a flow without a "
@@ -388,9 +396,12 @@ def _binding(net, res, x, lo, hi, free, spray_capped, stopped, own_lo,
     return out
 
 
-def _infeasible(net, co, h, free, lo, hi, why: str = "") -> DispatchLP:
+def _infeasible(net, co, h, free, lo, hi, why: str = "",
+                named: dict | None = None) -> DispatchLP:
     """No dispatch meets every limit: the least header slack that would let one (each
-    header's slack supply and sink cost 1 per kg/s), to name the headers."""
+    header's slack supply and sink cost 1 per kg/s), to name the headers, and the
+    limits of ``named`` (flow -> limit name: spray caps, station checks' fail limits)
+    at which that balance holds its flows."""
     n, nh = len(net.vars), len(net.headers)
     hrows, users = duty_header_rows(net, co, h)
     eq = equality_rows(net, co, h, shares=False, free=free)
@@ -420,6 +431,11 @@ def _infeasible(net, co, h, free, lo, hi, why: str = "") -> DispatchLP:
             parts.append(f"header '{name}' short by {short[i] * 3.6:.3g} t/h")
         if long[i] > 1e-6:
             parts.append(f"header '{name}' long by {long[i] * 3.6:.3g} t/h")
+    held = [f"{_label(net, vi)} at {name} ({hi[vi] * 3.6:.3g} t/h)"
+            for vi, name in sorted((named or {}).items())
+            if res.x[vi] >= hi[vi] - 1e-6]
+    if held:
+        parts.append("with " + ", ".join(held))
     return DispatchLP("infeasible", "no dispatch meets every limit: " +
                       ("; ".join(parts) or "the limits conflict"), res.x[:n],
                       short=short, long=long)

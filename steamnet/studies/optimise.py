@@ -6,7 +6,8 @@ Successive linear programming on the balance. The case is first balanced by its 
 philosophy (swing orders and shares). At the enthalpies of that balance every relation
 is linear in the flows, and :func:`steamnet.solver.dispatch.solve_dispatch` finds the
 cheapest flows of the elements that may move (HiGHS through scipy; a mixed-integer
-programme where boilers may stop). That dispatch goes back to the ordinary balance as
+programme where boilers may stop), each let-down valve held at most at the fail limit
+of its travel (:func:`station_caps`). That dispatch goes back to the ordinary balance as
 fixed flows, as the changes of a case (:func:`fixed_dispatch_changes`): every moved
 element fixed at its flow, except one per header, which holds the header in swing (a
 matching of headers to the elements the programme left inside their range) and so takes
@@ -278,6 +279,48 @@ class _Run:
 _ACCEPT_REL = 1e-9
 
 
+#: Steam flow at which a let-down valve is sized to find its flow at the fail limit of
+#: its travel (the required Kv is proportional to the flow at a given inlet state) [kg/s]
+_KV_REF_FLOW = 1.0
+
+
+def station_caps(net, h: list[float]) -> dict:
+    """Per let-down flow, the station checks' fail limits that depend on the flow,
+    written as a largest steam flow at the inlet state of enthalpies ``h``: the
+    let-down valve at the fail limit of its travel (``valve_travel_fail_high``,
+    IEC 60534-2-1 as the check sizes it, docs/checks/letdown_valve_travel.md). A
+    valve without the data the check needs, or with wet inlet steam, gives none; the
+    spray capacity is the desuperheater's ``max_spray`` (a bound of the programme
+    itself)."""
+    from .. import properties as props
+    from ..calc.valve import size_steam_valve
+    from ..errors import PropertyRangeError
+    out = {}
+    stations = net.model.stations
+    for s in net.letdowns:
+        data = stations.get(s["name"])
+        v = data.valve if data is not None else None
+        if v is None or v.xt is None or v.rated_kv is None or v.characteristic is None \
+                or (v.characteristic == "equal_percentage" and v.rangeability is None):
+            continue
+        fail = data.limits.valve_travel_fail_high
+        full = v.diameter is not None and v.fl is not None and v.fd is not None
+        p_in, p_out = net.p[s["inlet"]], net.p[s["outlet"]]
+        try:
+            sizing = size_steam_valve(p_in, p_out, _KV_REF_FLOW,
+                                      props.state_ph(p_in, h[s["inlet"]]), fl=v.fl,
+                                      xt=v.xt, fd=v.fd if full else None,
+                                      d_valve=v.diameter if full else None)
+        except (ModelError, PropertyRangeError):
+            continue
+        if not sizing.kv > 0:
+            continue
+        kv_fail = v.rated_kv * (fail if v.characteristic == "linear"
+                                else v.rangeability ** (fail - 1.0))
+        out[s["var"]] = (_KV_REF_FLOW * kv_fail / sizing.kv, "valve_travel_fail_high")
+    return out
+
+
 def _rounds(control: CaseResult, net, free, *, first_mass: bool, tol: float,
             max_rounds: int, tables: bool, start: dict | None = None,
             max_rejected: int = None) -> _Run:
@@ -314,7 +357,7 @@ def _rounds(control: CaseResult, net, free, *, first_mass: bool, tol: float,
     for run.rounds in range(1, max_rounds + 1):
         around = None if math.isinf(radius) else (x, radius)
         lp = solve_dispatch(net, co, h, energy=not (first_mass and run.rounds == 1),
-                            around=around)
+                            around=around, caps=station_caps(net, h))
         if lp.status != "optimal":
             if around is None and run.res is None:
                 run.failed = CaseOptimum(control.case, lp.status if lp.status ==
@@ -350,7 +393,7 @@ def _rounds(control: CaseResult, net, free, *, first_mass: bool, tol: float,
     if run.lp is None or run.res is None or run.move >= tol:
         # settled by a shrunk trust region (or nothing lowered the cost): the
         # programme held around the accepted dispatch gives its duals and limits
-        run.lp = solve_dispatch(net, co, h, around=(x, tol))
+        run.lp = solve_dispatch(net, co, h, around=(x, tol), caps=station_caps(net, h))
         if run.lp.status == "optimal":
             run.move = float(np.abs(run.lp.x[order] - x[order]).max(initial=0.0))
     if run.res is None:
