@@ -6,8 +6,10 @@ Public API::
     model = steamnet.load_model("cases/orlewick.toml")
     study = steamnet.solve_cases(model)          # every case of the model
     study.summary, study.headers, study.equipment, study.streams, study.water
+    best = steamnet.optimise(model)              # the cheapest dispatch of each case
+    best.table, best.dispatch, best.binding, best.shadow, best.evaluation
 
-The names below are imported where they are first used (``import steamnet`` itself
+The names above are imported where they are first used (``import steamnet`` itself
 loads no numerical library; see docs/performance.md, start-up).
 """
 
@@ -19,7 +21,7 @@ from .errors import ModelError, ModelErrors, PropertyRangeError, SteamnetError
 __all__ = [
     "__version__", "FORMAT_VERSION", "load_model", "loads_model", "Model", "solve_case",
     "solve_cases", "CaseResult", "StudyResult", "SteamnetError", "ModelError",
-    "ModelErrors", "PropertyRangeError",
+    "ModelErrors", "PropertyRangeError", "optimise",
 ]
 
 #: Public names kept in submodules, imported on first use: name -> module.
@@ -40,3 +42,11 @@ def __getattr__(name: str):
 
 def __dir__():
     return sorted(set(globals()) | set(__all__))
+
+
+
+def optimise(model, cases=None, **options):
+    """The cheapest dispatch of every case of ``model`` within every limit
+    (:func:`steamnet.studies.optimise.optimise`, docs/howto-optimise.md)."""
+    from .studies.optimise import optimise as _optimise
+    return _optimise(model, cases, **options)

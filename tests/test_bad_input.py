@@ -142,6 +142,21 @@ BAD = [
      "vent 'U1'", "name", "used by user 'U1' too"),
     ("missing format version", _sub("format_version = 1\n", ""),
      "format_version", None, "missing format_version"),
+    ("carbon price without an emission factor",
+     _sub('makeup_temperature = "10 degC"\n',
+          'makeup_temperature = "10 degC"\n[prices]\ncarbon = "80 EUR/t"\n'),
+     "boiler 'B1'", "emission_factor", "there is no default"),
+    ("export cap without the site's power demand",
+     _sub('makeup_temperature = "10 degC"\n',
+          'makeup_temperature = "10 degC"\nmax_power_export = "2 MW"\n'),
+     "site", "max_power_export", "needs the site's power_demand"),
+    ("export price without the site's power demand",
+     _sub('makeup_temperature = "10 degC"\n',
+          'makeup_temperature = "10 degC"\n[prices]\nelectricity_export = "60 EUR/MWh"\n'),
+     "prices", "electricity_export", "needs the site's power_demand"),
+    ("a boiler that may stop without its maximum",
+     _sub('max_steam = "80 t/h"', 'can_stop = true'),
+     "boiler 'B1'", "can_stop", "needs its max_steam"),
 ]
 
 
@@ -280,3 +295,15 @@ def test_header_with_nothing_connected_says_so(tmp_path):
     with _pytest.raises(ModelErrors) as ei:
         steamnet.load_model(p)
     assert "header 'Spare'" in str(ei.value) and "nothing is connected" in str(ei.value)
+
+
+def test_optimise_refuses_an_export_price_above_the_electricity_price(tmp_path):
+    text = _sub('makeup_temperature = "10 degC"\n',
+                'makeup_temperature = "10 degC"\npower_demand = "5 MW"\n[prices]\n'
+                'electricity = "80 EUR/MWh"\nelectricity_export = "90 EUR/MWh"\n')(BASE)
+    path = tmp_path / "dear export.toml"
+    path.write_text(text, encoding="utf-8")
+    result = CliRunner().invoke(main, ["optimise", str(path)])
+    assert result.exit_code == 2, result.output
+    assert "Traceback" not in result.output
+    assert f"error: {path}: prices: field 'electricity_export'" in result.stderr

@@ -219,6 +219,8 @@ def test_inputs_sheet_holds_every_field_of_the_file(study, book):
                     assert rows[(table, name, field)] == str(value).lower()
                     expected += 1
                 else:
+                    if isinstance(value, bool):      # as TOML writes it
+                        value = "true" if value else "false"
                     assert rows[(table, name, field)] == value, (table, name, field)
                     expected += 1
     for case in doc["case"]:

@@ -130,6 +130,7 @@ from . import studies  # noqa: E402,F401  (study subcommands)
 from . import report  # noqa: E402,F401  (the results workbook)
 from . import stations  # noqa: E402,F401  (the station checks)
 from . import compare  # noqa: E402,F401  (case differences)
+from . import optimise  # noqa: E402,F401  (the cheapest dispatch)
 
 __all__ = ["main", "EXIT_OK", "EXIT_FAIL", "EXIT_INPUT", "EXIT_OUTPUT", "EXIT_INTERNAL"]
 

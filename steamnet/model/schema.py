@@ -127,6 +127,8 @@ SteamRate = Q(Kind.STEAM_RATE)
 Area = Q(Kind.AREA)
 Density = Q(Kind.DENSITY)
 Velocity = Q(Kind.VELOCITY)
+#: mass per unit energy (an emission factor, kg of CO2 per J of fuel)
+MassPerEnergy = Q(Kind.STEAM_RATE)
 
 
 class _Item(BaseModel):
@@ -181,6 +183,20 @@ class Site(_Item):
     invented: bool = Field(False, description="true when the plant and its numbers are "
                            "invented (a demo or a training model): the workbook then "
                            "says \"invented demo plant\" on its first sheet and drawings")
+    power_demand: Power | None = Field(
+        None, description="electric demand of the site, met first by its generators: "
+        "power generated up to it saves prices.electricity, power above it is sold at "
+        "prices.electricity_export; none: every MW generated is worth "
+        "prices.electricity [W]")
+    max_power_export: Power | None = Field(
+        None, description="largest electric power the grid connection may take from "
+        "the site (export cap, a limit of `steamnet optimise`); needs power_demand [W]")
+
+    def check(self) -> None:
+        _check_nonneg(self, "power_demand", "max_power_export")
+        if self.max_power_export is not None and self.power_demand is None:
+            raise FieldError("max_power_export", "an export cap needs the site's "
+                             "power_demand (power is exported above it)")
 
 
 class Prices(_Item):
@@ -191,6 +207,13 @@ class Prices(_Item):
     electricity: PriceEnergy = Field(0.0, description="value of electric power generated "
                                      "(avoided purchase) [currency/J]")
     makeup_water: PriceMass = Field(0.0, description="treated make-up water [currency/kg]")
+    electricity_export: PriceEnergy | None = Field(
+        None, description="price received for electric power sold above the site's "
+        "power_demand; default the electricity price [currency/J]")
+    carbon: PriceMass = Field(0.0, description="price of the carbon dioxide emitted by "
+                              "the fired boilers, per mass of CO2, e.g. '80 EUR/t'; "
+                              "needs every fired boiler's emission_factor "
+                              "[currency/kg]")
 
 
 # --------------------------------------------------------------------------- header
@@ -330,9 +353,22 @@ class Boiler(_Item):
         "saturated water (its enthalpy and its flash follow from it); default the "
         "header pressure (the drum runs above it by the superheater's and the line's "
         "pressure drop) [Pa]")
+    emission_factor: MassPerEnergy | None = Field(
+        None, description="CO2 emitted per unit of fuel energy (same basis as the "
+        "efficiency), from the fuel supplier's analysis or a published inventory "
+        "factor, e.g. '56.1 kg/GJ'; no default. Needed when prices.carbon is given "
+        "[kg/J]")
+    dispatchable: bool = Field(False, description="`steamnet optimise` may set its "
+                               "steam anywhere between min_steam and max_steam, "
+                               "whatever its mode (a swing boiler may move anyway)")
+    can_stop: bool = Field(False, description="`steamnet optimise` may also stop it "
+                           "(steam 0 instead of at least min_steam); needs max_steam")
     in_service: bool = True
 
     def check(self) -> None:
+        _check_nonneg(self, "emission_factor")
+        if self.can_stop and self.max_steam is None:
+            raise FieldError("can_stop", "a boiler that may stop needs its max_steam")
         _check_fraction(self.blowdown, "blowdown", allow_zero=True, allow_one=False)
         _check_fraction(self.efficiency, "efficiency")
         _check_nonneg(self, "steam", "min_steam", "max_steam")
@@ -359,6 +395,9 @@ class SteamTransfer(_Item):
                              "an export [currency/kg]")
     priority: int = Field(1, ge=1, le=99)
     share: Fraction | None = None
+    dispatchable: bool = Field(False, description="`steamnet optimise` may set its "
+                               "flow anywhere between min_flow and max_flow, whatever "
+                               "its mode")
     in_service: bool = True
 
     def check(self) -> None:
@@ -402,6 +441,9 @@ class Turbine(_Item):
     max_flow: Flow | None = None
     priority: int = Field(1, ge=1, le=99)
     share: Fraction | None = None
+    dispatchable: bool = Field(False, description="`steamnet optimise` may set its "
+                               "flow anywhere between min_flow and max_flow, whatever "
+                               "its mode")
     in_service: bool = True
 
     def check(self) -> None:
@@ -500,6 +542,9 @@ class ExtractionTurbine(_Item):
         "expansion, 1 % per 1 % of the mean of its inlet and outlet moisture (Baumann "
         "rule, common practice; the maker's wet-stage data win); condensing turbines "
         "only; off by default")
+    dispatchable: bool = Field(False, description="`steamnet optimise` may set its "
+                               "throttle flow anywhere between min_flow and max_flow "
+                               "(within its exhaust limits), whatever its mode")
     in_service: bool = True
 
     def check(self) -> None:
@@ -680,6 +725,9 @@ class Letdown(_Item):
         "case-independent relief cover row [Pa]")
     max_inlet_temperature: Temperature | None = Field(
         None, description="highest upstream temperature the station is rated for [K]")
+    dispatchable: bool = Field(False, description="`steamnet optimise` may set its "
+                               "flow anywhere between min_flow and max_flow, whatever "
+                               "its mode")
     in_service: bool = True
 
     def check(self) -> None:

@@ -274,6 +274,7 @@ def validate_model(model: Model) -> None:
         _user_checks(err, model, n, u)
     for n, v in model.table("vent").items():
         need_header("vent", n, "header", v.header)
+    errs.extend(_price_errors(model, case))
     if errs:
         raise ModelErrors(errs)
     _check_degrees_of_freedom(model, errs, case)
@@ -503,6 +504,23 @@ def _check_willans(err, model: Model, name: str, t, p_in: float, p_out: float) -
             f"efficiency of {eta:.3g} {where}, even from the hottest steam of the plant: "
             "more power than an ideal expansion gives; check willans_no_load, "
             "willans_slope and their units (e.g. t/MWh)")
+def _price_errors(model: Model, case: str = "") -> list[ModelError]:
+    """A carbon price needs every running fired boiler's emission factor (there is no
+    default factor); an export price needs the site's power demand."""
+    out = []
+    if model.prices.carbon > 0:
+        for n, b in model.table("boiler").items():
+            if b.kind == "fired" and b.emission_factor is None and _on(b):
+                out.append(ModelError(
+                    "prices.carbon is given but this fired boiler has no emission_factor "
+                    "(kg of CO2 per unit of fuel energy, from the fuel's analysis or a "
+                    "published inventory factor; there is no default)",
+                    file=model.source, item=f"{case}boiler '{n}'", field="emission_factor"))
+    if model.prices.electricity_export is not None and model.site.power_demand is None:
+        out.append(ModelError("an export price needs the site's power_demand (power is "
+                              "sold above it)", file=model.source, item=f"{case}prices",
+                              field="electricity_export"))
+    return out
 
 
 def _check_liquid_temperature(err, table, name, t) -> None:

@@ -579,13 +579,20 @@ def totals(sol: Solution) -> dict:
 def case_cost(model, water: dict, sol: Solution, tot: dict | None = None) -> dict:
     """Operating cost per hour and its parts, in the site currency.
 
-    cost = fuel + make-up and external water + imported steam + pump power
-    - exported steam - electric power generated (valued at the electricity price).
+    cost = fuel + CO2 of the fuel + make-up and external water + imported steam
+    - exported steam - value of the net electric power (generated less the pumps' power).
+
+    The net power is worth the electricity price (a purchase avoided) up to the site's
+    ``power_demand``, and the export price above it, up to the export cap (power beyond
+    the cap earns nothing); without a power demand all of it is worth the electricity
+    price. The purchase of the whole demand, which no dispatch changes, is left out.
     """
     pr = model.prices
     net = sol.net
     tot = tot or totals(sol)
-    fuel = sum(_boiler(b, sol.x[b["var"]]).fuel * b["fuel_price"] for b in net.boilers)
+    fuels = [(b, _boiler(b, sol.x[b["var"]]).fuel) for b in net.boilers]
+    fuel = sum(f * b["fuel_price"] for b, f in fuels)
+    carbon = sum(f * (b["item"].emission_factor or 0.0) for b, f in fuels) * pr.carbon
     water_cost = (water["makeup_kg_s"] + water["external_water_kg_s"]) * pr.makeup_water
     imp = sum(sol.x[t["var"]] * t["price"] for t in net.transfers if t["dir"] == "import")
     exp = sum(sol.x[t["var"]] * t["price"] for t in net.transfers if t["dir"] == "export")
@@ -593,12 +600,29 @@ def case_cost(model, water: dict, sol: Solution, tot: dict | None = None) -> dic
     # a pump driven by a running turbine costs steam (in the balance), not electricity
     pump = sum(ws["pump_work"] * _supply_flow(sol, name)
                for name, ws in net.supplies.items() if "pump_turbine" not in ws)
-    per_s = fuel + water_cost + imp - exp - gen * pr.electricity + pump * pr.electricity
+    power_value = power_worth(model, gen - pump)
+    per_s = fuel + carbon + water_cost + imp - exp - power_value
     return {"cost_per_h": per_s * 3600, "fuel_cost_per_h": fuel * 3600,
+            "carbon_cost_per_h": carbon * 3600,
             "water_cost_per_h": water_cost * 3600, "power_value_per_h": gen * pr.electricity
             * 3600, "pump_power_kw": pump / 1e3,
             "import_cost_per_h": imp * 3600, "export_credit_per_h": exp * 3600,
             "pump_power_cost_per_h": pump * pr.electricity * 3600}
+
+
+def power_worth(model, p_net: float) -> float:
+    """Value of a net electric power ``p_net`` [W] (generated less used by the plant's
+    pumps) [currency/s]: at the electricity price up to the site's power demand, at the
+    export price above it up to the export cap (see :func:`case_cost`)."""
+    pr, site = model.prices, model.site
+    if site.power_demand is None:
+        return p_net * pr.electricity
+    own = min(p_net, site.power_demand)
+    sold = max(0.0, p_net - site.power_demand)
+    if site.max_power_export is not None:
+        sold = min(sold, site.max_power_export)
+    p_exp = pr.electricity if pr.electricity_export is None else pr.electricity_export
+    return own * pr.electricity + sold * p_exp
 
 
 def _supply_flow(sol: Solution, name: str) -> float:

@@ -39,11 +39,12 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-import scipy.sparse as sp
 from scipy.optimize import linprog
 
-from .network import Coeffs, Net, group_bounds, power_row
-from .reference import _da_rows, _header_terms
+from .linear import ENERGY_SCALE as _ENERGY_SCALE
+from .linear import (equality_rows, exhaust_inequalities, exhaust_rows, flow_bounds,
+                     header_rows, sparse_rows)
+from .network import Coeffs, Net, group_bounds
 
 __all__ = ["SlackBalance", "min_slack", "slack_tolerance", "beyond_limits"]
 
@@ -58,9 +59,6 @@ SLACK_TOL_REL = 1e-6
 #: excess steam is not hidden by condensing it in the deaerator with make-up and
 #: overflowing the water.
 OVERFLOW_COST = 0.5
-#: The deaerator's energy row is divided by this so its coefficients are of the size of
-#: the mass rows' (enthalpies of about 1e6 J/kg) [J/kg]
-_ENERGY_SCALE = 1e6
 
 
 def slack_tolerance(scale: float) -> float:
@@ -97,79 +95,6 @@ class SlackBalance:
     lo: np.ndarray
     hi: np.ndarray
     exhaust: list[tuple[float, float, float]]
-
-
-def _bounds(net: Net, co: Coeffs) -> tuple[np.ndarray, np.ndarray]:
-    """Bounds of every flow: its own limits, fixed flows fixed, fixed-power turbines at
-    their power flow (held within their range: a power the range cannot give is a
-    finding of its own), extraction-turbine throttle flows within their range, and
-    the flows the balance holds at zero (boilers, transfers and let-downs that are
-    neither fixed nor in a sequence)."""
-    lo = np.array([v.lo for v in net.vars], dtype=float)
-    hi = np.array([v.hi for v in net.vars], dtype=float)
-    held = {vi for hs in net.swing for g in hs.groups for vi in g.members}
-    held.update(vi for hs in net.swing for vi in hs.absorbers)
-    for v in net.vars:
-        if v.fixed is not None:
-            lo[v.index] = hi[v.index] = v.fixed
-        elif v.kind in ("boiler", "transfer", "letdown") and v.index not in held:
-            lo[v.index] = hi[v.index] = 0.0
-    for t, c in zip(net.turbines, co.turb):
-        if t["mode"] in ("fixed_power", "pump") and t["var"] not in held:
-            it = t["item"]
-            top = math.inf if it.max_flow is None else it.max_flow
-            lo[t["var"]] = hi[t["var"]] = min(max(c["flow"], it.min_flow), top)
-    for t in net.xturbines:
-        it, vi = t["item"], t["in_var"]
-        if net.vars[vi].fixed is None:
-            lo[vi] = max(lo[vi], it.min_flow)
-            if it.max_flow is not None:
-                hi[vi] = min(hi[vi], it.max_flow)
-    return lo, hi
-
-
-def _rows(net: Net, co: Coeffs, h: list[float]):
-    """Equality rows (terms, rhs) besides the header balances: the deaerator's, the
-    shares of the swing groups, the fixed-power extraction turbines."""
-    eq: list[tuple[list[tuple[int, float]], float]] = []
-    if net.deaerator is not None:
-        (mass, r_mass), (energy, r_energy) = _da_rows(net, co, h)
-        eq.append((mass, r_mass))
-        eq.append(([(vi, c / _ENERGY_SCALE) for vi, c in energy], r_energy / _ENERGY_SCALE))
-    for hs in net.swing:
-        for g in hs.groups:
-            first = g.members[0]
-            for vi, w in zip(g.members[1:], g.weights[1:]):
-                eq.append(([(vi, 1.0), (first, -w / g.weights[0])], 0.0))
-    for t, c in zip(net.xturbines, co.xturb):
-        if t["mode"] == "fixed_power":
-            dh, rhs = power_row(t, c)
-            terms = [(t["in_var"], sum(dh))]
-            terms += [(e["var"], -sum(dh[i + 1:])) for i, e in enumerate(t["exts"])]
-            eq.append((terms, rhs))
-    return eq
-
-
-def _exhaust_rows(net: Net):
-    """Per extraction turbine: the terms of its exhaust flow (throttle less the
-    extractions), its minimum and maximum [kg/s]."""
-    out = []
-    for t in net.xturbines:
-        it = t["item"]
-        top = math.inf if it.max_exhaust_flow is None else it.max_exhaust_flow
-        out.append(([(t["in_var"], 1.0)] + [(e["var"], -1.0) for e in t["exts"]],
-                    it.min_exhaust_flow, top))
-    return out
-
-
-def _matrix(rows, n_cols: int):
-    r, c, v = [], [], []
-    for i, terms in enumerate(rows):
-        for col, val in terms:
-            r.append(i)
-            c.append(col)
-            v.append(val)
-    return sp.csr_matrix((v, (r, c)), shape=(len(rows), n_cols))
 
 
 def _hold_sequence(net: Net, modes, lo: np.ndarray, hi: np.ndarray) -> None:
@@ -219,13 +144,13 @@ def min_slack(net: Net, co: Coeffs, h: list[float], x_last,
         when HiGHS fails.
     """
     n, nh = len(net.vars), len(net.headers)
-    lo, hi = _bounds(net, co)
+    lo, hi = flow_bounds(net, co)
     if modes is not None:
         _hold_sequence(net, modes, lo, hi)
     if (lo > hi).any():
         return None
-    hrows, hconst = _header_terms(net, co)
-    eq, exhaust = _rows(net, co, h), _exhaust_rows(net)
+    hrows, hconst = header_rows(net, co)
+    eq, exhaust = equality_rows(net, co, h), exhaust_rows(net)
     # columns: flows x (n), slack supply s+ (nh), slack sink s- (nh), the deaerator's
     # water overflow (1, with a deaerator), deviations d (n)
     da = net.deaerator
@@ -238,14 +163,8 @@ def min_slack(net: Net, co: Coeffs, h: list[float], x_last,
         rows_eq[nh] = rows_eq[nh] + [(n + 2 * nh, -1.0)]
         rows_eq[nh + 1] = rows_eq[nh + 1] + [(n + 2 * nh, -da["sat"].hf / _ENERGY_SCALE)]
     b_eq = np.array(list(hconst) + [rhs for _, rhs in eq], dtype=float)
-    rows_ub, b_ub = [], []
-    for terms, vmin, vmax in exhaust:
-        rows_ub.append([(vi, -c) for vi, c in terms])
-        b_ub.append(-vmin)
-        if math.isfinite(vmax):
-            rows_ub.append(list(terms))
-            b_ub.append(vmax)
-    a_eq = _matrix(rows_eq, nc)
+    rows_ub, b_ub = exhaust_inequalities(net)
+    a_eq = sparse_rows(rows_eq, nc)
     bounds = ([(a if math.isfinite(a) else None, b if math.isfinite(b) else None)
                for a, b in zip(lo, hi)] + [(0.0, None)] * ns + [(0.0, 0.0)] * n)
     # Each kg/s of slack costs 1, and a millionth more on each header down the
@@ -259,7 +178,7 @@ def min_slack(net: Net, co: Coeffs, h: list[float], x_last,
     rank = 1e-6 * np.arange(nh) / max(1, nh)
     cost[n:n + nh] += rank
     cost[n + nh:n + 2 * nh] += rank
-    a_ub = _matrix(rows_ub, nc) if rows_ub else None
+    a_ub = sparse_rows(rows_ub, nc) if rows_ub else None
     first = linprog(cost, A_ub=a_ub, b_ub=b_ub or None, A_eq=a_eq, b_eq=b_eq,
                     bounds=bounds, method="highs")
     if first.status != 0:
@@ -280,7 +199,7 @@ def min_slack(net: Net, co: Coeffs, h: list[float], x_last,
     bounds2 = bounds[:n] + [(v, v) for v in first.x[n:n + ns]] + [(0.0, None)] * n
     cost2 = np.zeros(nc)
     cost2[n + ns:] = 1.0
-    second = linprog(cost2, A_ub=_matrix(rows2, nc), b_ub=b2, A_eq=a_eq, b_eq=b_eq,
+    second = linprog(cost2, A_ub=sparse_rows(rows2, nc), b_ub=b2, A_eq=a_eq, b_eq=b_eq,
                      bounds=bounds2, method="highs")
     res = second if second.status == 0 else first
     # HiGHS holds bounds to its feasibility tolerance: clip, so no flow is reported
@@ -310,13 +229,13 @@ def beyond_limits(net: Net, co: Coeffs, x, tol: float) -> bool:
     extraction turbine's exhaust outside its range, by more than ``tol`` [kg/s]; the
     deaerator's steam and make-up are left out (:func:`~steamnet.solver.findings.
     derived_findings` reports them)."""
-    lo, hi = _bounds(net, co)
+    lo, hi = flow_bounds(net, co)
     if net.deaerator is not None:    # its negative flows are findings of their own
         for key in ("steam_var", "makeup_var"):
             lo[net.deaerator[key]] = -math.inf
     xa = np.asarray(x, dtype=float)
     if (xa < lo - tol).any() or (xa > hi + tol).any():
         return True
-    exhaust = _exhaust_rows(net)
+    exhaust = exhaust_rows(net)
     return any(not (vmin - tol <= sum(c * xa[vi] for vi, c in terms) <= vmax + tol)
                for terms, vmin, vmax in exhaust)

@@ -33,7 +33,7 @@ from .tables import (EQUIPMENT_KEYS, HEADER_KEYS, STREAM_KEYS, case_frame_table,
                      frame_table, overview_table)
 
 __all__ = ["write_workbook", "build_tables", "network_case_of", "SHEETS", "ORDER",
-           "STUDY_SHEETS", "WORST_SHEET"]
+           "STUDY_SHEETS", "WORST_SHEET", "table_name"]
 
 #: What each fixed sheet holds (the cover's table of contents; docs/workbook.md).
 SHEETS = {
@@ -158,6 +158,11 @@ def build_tables(run: Run, *, for_csv: bool = False) -> list[Table]:
     return t
 
 
+def table_name(slug: str, used: set[str]) -> str:
+    """A unique Excel table name for ``slug`` (``used`` holds the names taken)."""
+    return _table_name(slug, used)
+
+
 def _table_name(slug: str, used: set[str]) -> str:
     base = "t_" + re.sub(r"[^0-9A-Za-z_]", "_", slug)
     name, i = base, 2
@@ -201,7 +206,8 @@ def write_workbook(path: str | Path, study, *, checks: pd.DataFrame | None = Non
                    envelopes: pd.DataFrame | None = None,
                    studies: dict[str, pd.DataFrame] | None = None,
                    network_case: str | None = None,
-                   gains: pd.DataFrame | None = None) -> Path:
+                   gains: pd.DataFrame | None = None,
+                   extra_sheets: list | None = None) -> Path:
     """Write the results workbook of ``study`` (a :class:`~steamnet.solve.StudyResult`).
 
     Parameters
@@ -217,6 +223,8 @@ def write_workbook(path: str | Path, study, *, checks: pd.DataFrame | None = Non
         case that balanced)
     gains : the station checks' control gain table (case, station, steam_t_h,
         gain_k_per_t_h, gain_per_ratio_k), charted against steam flow
+    extra_sheets : ``(name, description, write)`` of sheets a study writes itself,
+        with the studies' sheets: ``write(wb, run, used_table_names)`` adds the sheet
 
     Raises
     ------
@@ -232,8 +240,10 @@ def write_workbook(path: str | Path, study, *, checks: pd.DataFrame | None = Non
         raise ValueError(f"network_case '{network_case}' is not a case of this study "
                          f"(cases: {', '.join(names)})")
     tables = build_tables(run)
-    order = _reading_order(run, tables)
+    extra = {name: (text, write) for name, text, write in extra_sheets or ()}
+    order = _reading_order(run, tables, list(extra))
     what = {t.name: t.note.split(". ")[0] for t in tables}
+    what.update({name: text for name, (text, _) in extra.items()})
     contents = [(n, SHEETS.get(n) or what.get(n, "")) for n in order]
     now = datetime.now().astimezone()
     target = Path(path)
@@ -241,7 +251,7 @@ def write_workbook(path: str | Path, study, *, checks: pd.DataFrame | None = Non
         wb = Workbook(write_only=True)
         try:
             write_cover(wb, run, contents, now)
-            _write_sheets(wb, run, tables, order[1:])
+            _write_sheets(wb, run, tables, order[1:], extra)
             finish(wb, run.model)
             save_guarded(wb.save, tmp)
         except BaseException:
@@ -250,13 +260,14 @@ def write_workbook(path: str | Path, study, *, checks: pd.DataFrame | None = Non
     return target
 
 
-def _reading_order(run: Run, tables: list[Table]) -> list[str]:
-    """Every sheet in :data:`ORDER`, the studies' sheets where they stand."""
+def _reading_order(run: Run, tables: list[Table], extra: list[str]) -> list[str]:
+    """Every sheet in :data:`ORDER`, the studies' sheets (and ``extra``, the sheets a
+    study writes itself) where they stand."""
     have = {t.name for t in tables} | {"Cover", "Network", "Station charts"}
     if worst_case_of(run) is not None:
         have.add(WORST_SHEET)
     fixed = set(ORDER)
-    studies = [t.name for t in tables if t.name not in fixed]
+    studies = [t.name for t in tables if t.name not in fixed] + extra
     out = []
     for name in ORDER:
         if name == STUDIES_AT:
@@ -266,11 +277,14 @@ def _reading_order(run: Run, tables: list[Table]) -> list[str]:
     return out
 
 
-def _write_sheets(wb, run: Run, tables: list[Table], order: list[str]) -> None:
+def _write_sheets(wb, run: Run, tables: list[Table], order: list[str],
+                  extra: dict | None = None) -> None:
     used: set[str] = set()
     by_name = {t.name: t for t in tables}
     for name in order:
-        if name == "Network":
+        if extra and name in extra:
+            extra[name][1](wb, run, used)
+        elif name == "Network":
             _write_network(wb, run, network_case_of(run))
         elif name == WORST_SHEET:
             _write_network(wb, run, worst_case_of(run), sheet=WORST_SHEET)
