@@ -212,8 +212,9 @@ def _balance_limit(evaluate, lo: float, hi, cap: float, acc: float):
     balance that fails just above it, solves).
 
     A balance that fails short of steam by s at an added demand b balances, to first
-    order, at b - s: that grid point is tried first, then the one above it; the
-    bracket then closes by bisection. Every probe narrows the same bracket, so the
+    order, at b - s (or where the secant through the last two shortfalls reaches zero):
+    that grid point is tried first, then the one above it; the bracket then closes by
+    bisection. Every probe narrows the same bracket, so the
     answer is the bisection's, in fewer balances."""
     n = 0
     a = lo
@@ -222,16 +223,22 @@ def _balance_limit(evaluate, lo: float, hi, cap: float, acc: float):
     if top.result.status == CaseStatus.SOLVED:
         return cap, f"balances up to the cap {cap * TH:.1f} t/h", n
     b, b_res = cap, top.result
+    short = [(b, _shortfall(b_res))]     # (added demand, shortfall) of failed balances
     guesses, step_up = 4, False
     while b - a > acc:
         mid = None
         if step_up:
             mid, step_up = a + acc, False
-        elif guesses > 0:
+        elif guesses > 0 and short[-1][1] > 0:
             guesses -= 1
-            s = _shortfall(b_res)
-            if s > 0:
-                mid = math.floor((b - s) / acc + 1e-9) * acc
+            (d1, s1), (d2, s2) = short[-2:] if len(short) > 1 else ((None, None),
+                                                                    short[-1])
+            # the secant through the last two shortfalls where there are two (the
+            # shortfall may fall on another header, at another rate), else slope 1
+            root = d2 - s2 * (d2 - d1) / (s2 - s1) if d1 is not None and s2 != s1 \
+                else d2 - s2
+            if math.isfinite(root):
+                mid = math.floor(root / acc + 1e-9) * acc
         if mid is None or not (a < mid < b):
             mid = math.floor((a + b) / 2 / acc) * acc
             if mid <= a:
@@ -248,6 +255,7 @@ def _balance_limit(evaluate, lo: float, hi, cap: float, acc: float):
             step_up = guessed
         else:
             b, b_res = mid, p.result
+            short.append((b, _shortfall(b_res)))
     return a, f"with {b * TH:.1f} t/h added: {b_res.message}", n
 
 
