@@ -69,6 +69,12 @@ class Solution:
 
 
 # --------------------------------------------------------------------------- modes
+#: Largest change of a pump-driving turbine's flow between two solves of one iteration
+#: at which it is taken as consistent [kg/s]: a hundredth of the iteration's own flow
+#: tolerance (tol_x, 1e-9 kg/s), so the enthalpy map sees no lag above its noise.
+_PUMP_TOL = 1e-11
+
+
 def _pumps_consistent(net: Net, co: Coeffs, h, pumps, x, solve, rounds: int = 20):
     """The flows of one solve with each pump-driving turbine's flow consistent with the
     water its pump delivers in those same flows, at the enthalpies ``h``.
@@ -87,7 +93,7 @@ def _pumps_consistent(net: Net, co: Coeffs, h, pumps, x, solve, rounds: int = 20
             power = pump_power(net, t["pump"], h, xs)
             flow = c["m0"] + c["k"] * power if c["willans"] \
                 else power / (t["eta_mg"] * c["dh"])
-            if abs(flow - c["flow"]) > 1e-14 * max(1.0, abs(flow)):
+            if abs(flow - c["flow"]) > _PUMP_TOL:
                 c["flow"] = flow
                 moved = True
         if not moved:
