@@ -18,7 +18,7 @@ from .atomic import write_atomic
 __all__ = ["study_to_dict", "write_json", "JSON_LAYOUT_VERSION"]
 
 #: Version of the JSON layout written here.
-JSON_LAYOUT_VERSION = 1
+JSON_LAYOUT_VERSION = 2
 
 
 #: Verdict and status words, as the console and the workbook write them (docs/results.md:
