@@ -251,6 +251,7 @@ def _summary(name, status, message, sol, tot, wb, res, cost) -> dict:
         "vented_t_h": wb["vented_kg_s"] * TH,
         "condensate_returned_t_h": wb["condensate_returned_kg_s"] * TH,
         "cost_per_h": cost["cost_per_h"], "fuel_cost_per_h": cost["fuel_cost_per_h"],
+        "carbon_cost_per_h": cost["carbon_cost_per_h"],
         "water_cost_per_h": cost["water_cost_per_h"],
         "import_cost_per_h": cost["import_cost_per_h"],
         "power_bought_per_h": cost["pump_power_cost_per_h"],

@@ -489,3 +489,29 @@ fl = 0.90
     assert any(b["item"] == "letdown 'L1'" and b["limit"] == "valve_travel_fail_high"
                for b in o.binding)
     assert flows["T1"] > 5.0                                # above its minimum now
+
+
+def test_cost_parts_add_up_with_carbon_and_export_above_the_site_demand():
+    """The case summary's cost parts add up to its cost when the fuel has a CO2 price
+    and the power generated exceeds the site's demand (the rest sold at the export
+    price): CO2 part = fuel duty x emission factor x carbon price, power credit = demand
+    x electricity price + the excess x export price (docs/results.md, summary)."""
+    body = PARALLEL.replace('mode = "swing"\npriority = 1\nmin_flow = "5 t/h"\n'
+                            'max_flow = "20 t/h"', 'mode = "fixed_flow"\nflow = "20 t/h"')
+    body = body.replace('efficiency = "90 %"\n', 'efficiency = "90 %"\n'
+                        'emission_factor = "56 kg/GJ"\n', 1)
+    m = _plant("cost parts (written for this test)", _LP, body, electricity=100.0)
+    m = m.with_changes({"prices.carbon": "80 EUR/t", "prices.electricity_export":
+                        "40 EUR/MWh", "site.power_demand": "0.5 MW"})
+    s = solve_case(m).summary
+    gen_mw = s["power_generated_mw"]
+    assert gen_mw > 0.5                                   # the test reaches the export
+    # 56 kg/GJ x 80 EUR/t = 4.48 EUR/GJ of fuel; MW x 3.6 = GJ/h
+    assert s["carbon_cost_per_h"] == pytest.approx(s["fuel_mw"] * 3.6 * 56e-3 * 80,
+                                                   rel=1e-12)
+    assert s["power_credit_per_h"] == pytest.approx(0.5 * 100 + (gen_mw - 0.5) * 40,
+                                                    rel=1e-12)
+    parts = (s["fuel_cost_per_h"] + s["carbon_cost_per_h"] + s["water_cost_per_h"]
+             + s["import_cost_per_h"] + s["power_bought_per_h"]
+             - s["export_credit_per_h"] - s["power_credit_per_h"])
+    assert s["cost_per_h"] == pytest.approx(parts, rel=1e-12)

@@ -138,7 +138,7 @@ def test_cost_shown_with_its_parts_net_of_the_power_credit(study, checked):  # n
     note = ws["A2"].value
     assert "net of the power credit" in note
     parts = {k: v for k, v in rows.items() if k.startswith("Cost part")}
-    assert len(parts) == 6
+    assert len(parts) == 7
     for i, c in enumerate(study.cases):
         net = rows["Operating cost, net of the power credit [EUR/h]"][i]
         p = {k: v[i] for k, v in parts.items()}
@@ -150,6 +150,8 @@ def test_cost_shown_with_its_parts_net_of_the_power_credit(study, checked):  # n
                    float(b.get("fuel_price", f"{fuel_eur_gj} EUR/GJ").split()[0])
                    for b in boilers)
         assert p["Cost part: fuel [EUR/h]"] == pytest.approx(fuel, rel=1e-9)
+        # the demo gives no carbon price and no emission factors: no CO2 cost
+        assert "carbon" not in prices and p["Cost part: CO2 of the fuel [EUR/h]"] == 0
         credit = c.summary["power_generated_mw"] * power_eur_mwh
         assert p["Cost part: power generated (credit, subtracted) [EUR/h]"] == \
             pytest.approx(credit, rel=1e-9)

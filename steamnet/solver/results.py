@@ -604,8 +604,12 @@ def case_cost(model, water: dict, sol: Solution, tot: dict | None = None) -> dic
     per_s = fuel + carbon + water_cost + imp - exp - power_value
     return {"cost_per_h": per_s * 3600, "fuel_cost_per_h": fuel * 3600,
             "carbon_cost_per_h": carbon * 3600,
-            "water_cost_per_h": water_cost * 3600, "power_value_per_h": gen * pr.electricity
-            * 3600, "pump_power_kw": pump / 1e3,
+            # the credit for the power generated, so that the parts add up to the cost:
+            # the value of the net power plus the pumps' power at the electricity price
+            # (gen x price when no power demand is given)
+            "water_cost_per_h": water_cost * 3600,
+            "power_value_per_h": (power_value + pump * pr.electricity) * 3600,
+            "pump_power_kw": pump / 1e3,
             "import_cost_per_h": imp * 3600, "export_credit_per_h": exp * 3600,
             "pump_power_cost_per_h": pump * pr.electricity * 3600}
 

@@ -114,6 +114,7 @@ _TOTALS = [
     ("condensate_returned_t_h", "Condensate returned", "t/h"),
     ("cost_per_h", "Operating cost, net of the power credit", "{cur}/h"),
     ("fuel_cost_per_h", "Cost part: fuel", "{cur}/h"),
+    ("carbon_cost_per_h", "Cost part: CO2 of the fuel", "{cur}/h"),
     ("water_cost_per_h", "Cost part: make-up water", "{cur}/h"),
     ("import_cost_per_h", "Cost part: steam imported", "{cur}/h"),
     ("power_bought_per_h", "Cost part: power bought (pumps)", "{cur}/h"),
@@ -122,10 +123,12 @@ _TOTALS = [
 ]
 
 #: The note that goes with every operating cost the workbook shows.
-COST_NOTE = ("Operating cost is net of the power credit: fuel + make-up water + steam "
-             "imported + power bought for pumps, less the steam exported and less the "
-             "electric power generated, valued at the electricity price. The average cost "
-             "of steam is that net cost divided by the steam raised.")
+COST_NOTE = ("Operating cost is net of the power credit: fuel (and its CO2 at the carbon "
+             "price, when the model gives one) + make-up water + steam imported + power "
+             "bought for motor-driven pumps, less the steam exported and less the "
+             "electric power generated, valued at the electricity price (above the site's "
+             "power demand, when given, at the export price). The average cost of steam "
+             "is that net cost divided by the steam raised.")
 
 
 def average_cost_per_t(summary: dict, *, credit: bool = True) -> float | None:
