@@ -15,7 +15,7 @@ extraction turbines' joint limits, each desuperheater's ``max_spray`` (a bound o
 let-down's steam at the present spray ratio), the export cap and the caps the caller
 gives (the let-down valves' travel, :func:`steamnet.studies.optimise.station_caps`) do. Boilers marked
 ``can_stop`` either run within their range or stop: a mixed-integer programme
-(scipy.optimize.milp), after which the linear programme with the chosen boilers gives
+(HiGHS, :func:`steamnet.solver.lp.solve_lp`), after which the linear programme with the chosen boilers gives
 the duals.
 
 The duals of the header rows are the shadow prices of steam: the cost of one more t/h
@@ -28,11 +28,12 @@ import math
 from dataclasses import dataclass, field
 
 import numpy as np
-from scipy.optimize import Bounds, LinearConstraint, linprog, milp
 
 from .linear import (duty_header_rows, equality_rows, exhaust_inequalities, exhaust_rows,
                      dense_rows, flow_bounds, header_rows)
+from .lp import solve_lp
 from .network import Coeffs, Net
+from .slack import slack_costs
 from .results import _boiler
 
 __all__ = ["DispatchLP", "movable", "cost_terms", "solve_dispatch", "supplied_header",
@@ -306,12 +307,9 @@ def solve_dispatch(net: Net, co: Coeffs, h: list[float], *,
     if stoppable:
         integrality = np.zeros(nc)
         integrality[col_on:] = 1
-        cons = [LinearConstraint(a_eq, np.array(b_eq), np.array(b_eq))]
-        if a_ub is not None:
-            cons.append(LinearConstraint(a_ub, -np.inf, np.array(b_ub)))
-        res = milp(cost * hours, constraints=cons, integrality=integrality,
-                   bounds=Bounds(np.nan_to_num(lo_all, neginf=-np.inf),
-                                 np.nan_to_num(hi_all, posinf=np.inf)))
+        res = solve_lp(cost * hours, A_ub=a_ub, b_ub=b_ub or None, A_eq=a_eq,
+                       b_eq=np.array(b_eq), lo=lo_all, hi=hi_all,
+                       integrality=integrality)
         if res.status == 2:
             return _infeasible(net, co, h, free, lo, hi, named=spray_capped)
         if res.x is None:
@@ -323,8 +321,8 @@ def solve_dispatch(net: Net, co: Coeffs, h: list[float], *,
             bounds[col_on + j] = (on[j], on[j])
             if on[j] == 0:
                 stopped.append(b["name"])
-    res = linprog(cost * hours, A_ub=a_ub, b_ub=b_ub or None, A_eq=a_eq,
-                  b_eq=np.array(b_eq), bounds=bounds, method="highs")
+    res = solve_lp(cost * hours, A_ub=a_ub, b_ub=b_ub or None, A_eq=a_eq,
+                   b_eq=np.array(b_eq), bounds=bounds)
     if res.status == 2:
         return _infeasible(net, co, h, free, lo, hi, named=spray_capped)
     if res.status == 3:
@@ -401,7 +399,8 @@ def _binding(net, res, x, lo, hi, free, spray_capped, stopped, own_lo,
 def _infeasible(net, co, h, free, lo, hi, why: str = "",
                 named: dict | None = None) -> DispatchLP:
     """No dispatch meets every limit: the least header slack that would let one (each
-    header's slack supply and sink cost 1 per kg/s), to name the headers, and the
+    header's slack supply and sink cost about 1 per kg/s, a little more down the
+    pressures: :func:`~steamnet.solver.slack.slack_costs`), to name the headers, and the
     limits of ``named`` (flow -> limit name: spray caps, station checks' fail limits)
     at which that balance holds its flows."""
     n, nh = len(net.vars), len(net.headers)
@@ -413,13 +412,13 @@ def _infeasible(net, co, h, free, lo, hi, why: str = "",
     b_eq = list(users) + [r for _, r in eq]
     rows_ub, b_ub = exhaust_inequalities(net)
     cost = np.zeros(nc)
-    cost[n:] = 1.0
+    cost[n:] = slack_costs(nh)
     bounds = list(zip(_none(lo), _none(hi))) + [(0.0, None)] * (2 * nh)
     res = None
     if not (lo > hi + 1e-12).any():
-        res = linprog(cost, A_ub=dense_rows(rows_ub, nc) if rows_ub else None,
-                      b_ub=b_ub or None, A_eq=dense_rows(rows_eq, nc),
-                      b_eq=np.array(b_eq), bounds=bounds, method="highs")
+        res = solve_lp(cost, A_ub=dense_rows(rows_ub, nc) if rows_ub else None,
+                       b_ub=b_ub or None, A_eq=dense_rows(rows_eq, nc),
+                       b_eq=np.array(b_eq), bounds=bounds)
     if res is None or res.status != 0:
         return DispatchLP("infeasible", "no dispatch meets every limit" +
                           (f" ({why})" if why else " (not even with header slack: the "

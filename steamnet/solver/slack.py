@@ -20,7 +20,7 @@ balance is linear in the flows, and the linear programme
                 their power flow, throttle flows within range, vents within capacity,
                 deaerator steam and make-up >= 0)
 
-is solved with HiGHS (scipy.optimize.linprog). A second programme, with the slacks of the first
+is solved with HiGHS (:func:`steamnet.solver.lp.solve_lp`). A second programme, with the slacks of the first
 held, picks the flows nearest (in the sum of absolute differences) to the last iterate
 held within the bounds, so the split the control sequence made is kept where the limits
 allow. The headers with slack above :func:`slack_tolerance` are short
@@ -39,14 +39,14 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-from scipy.optimize import linprog
 
 from .linear import ENERGY_SCALE as _ENERGY_SCALE
 from .linear import (equality_rows, exhaust_inequalities, exhaust_rows, flow_bounds,
                      header_rows, sparse_rows)
+from .lp import solve_lp
 from .network import Coeffs, Net, group_bounds
 
-__all__ = ["SlackBalance", "min_slack", "slack_tolerance", "beyond_limits"]
+__all__ = ["SlackBalance", "min_slack", "slack_tolerance", "slack_costs", "beyond_limits"]
 
 #: Slack below this fraction of the plant's size is no imbalance: the closure a solved
 #: case is allowed (1e-6 relative, docs/method.md), far above the 1e-7 kg/s to which
@@ -65,6 +65,17 @@ def slack_tolerance(scale: float) -> float:
     """Smallest slack reported as an imbalance, for a plant of size ``scale`` (at least
     1 kg/s) [kg/s]."""
     return SLACK_TOL_REL * max(1.0, scale)
+
+
+def slack_costs(nh: int) -> np.ndarray:
+    """Costs of the slack supplies and then the slack sinks of ``nh`` headers.
+
+    Each kg/s of slack costs 1, and a millionth more on each header down the
+    pressures: where an imbalance can sit on either of two headers alike (a let-down
+    without a maximum between them), it is put on the higher one, whose suppliers are
+    the limit (the let-down would pass what the lower one needs)."""
+    rank = 1.0 + 1e-6 * np.arange(nh) / max(1, nh)
+    return np.concatenate([rank, rank])
 
 
 @dataclass
@@ -167,20 +178,13 @@ def min_slack(net: Net, co: Coeffs, h: list[float], x_last,
     a_eq = sparse_rows(rows_eq, nc)
     bounds = ([(a if math.isfinite(a) else None, b if math.isfinite(b) else None)
                for a, b in zip(lo, hi)] + [(0.0, None)] * ns + [(0.0, 0.0)] * n)
-    # Each kg/s of slack costs 1, and a millionth more on each header down the
-    # pressures: where an imbalance can sit on either of two headers alike (a let-down
-    # without a maximum between them), it is put on the higher one, whose suppliers
-    # are the limit (the let-down would pass what the lower one needs).
     cost = np.zeros(nc)
-    cost[n:n + ns] = 1.0
+    cost[n:n + 2 * nh] = slack_costs(nh)
     if da is not None:
         cost[n + 2 * nh] = OVERFLOW_COST
-    rank = 1e-6 * np.arange(nh) / max(1, nh)
-    cost[n:n + nh] += rank
-    cost[n + nh:n + 2 * nh] += rank
     a_ub = sparse_rows(rows_ub, nc) if rows_ub else None
-    first = linprog(cost, A_ub=a_ub, b_ub=b_ub or None, A_eq=a_eq, b_eq=b_eq,
-                    bounds=bounds, method="highs")
+    first = solve_lp(cost, A_ub=a_ub, b_ub=b_ub or None, A_eq=a_eq, b_eq=b_eq,
+                    bounds=bounds)
     if first.status != 0:
         return None
     # second programme: the slacks of the first held, the flows nearest to the last
@@ -199,8 +203,8 @@ def min_slack(net: Net, co: Coeffs, h: list[float], x_last,
     bounds2 = bounds[:n] + [(v, v) for v in first.x[n:n + ns]] + [(0.0, None)] * n
     cost2 = np.zeros(nc)
     cost2[n + ns:] = 1.0
-    second = linprog(cost2, A_ub=sparse_rows(rows2, nc), b_ub=b2, A_eq=a_eq, b_eq=b_eq,
-                     bounds=bounds2, method="highs")
+    second = solve_lp(cost2, A_ub=sparse_rows(rows2, nc), b_ub=b2, A_eq=a_eq, b_eq=b_eq,
+                     bounds=bounds2)
     res = second if second.status == 0 else first
     # HiGHS holds bounds to its feasibility tolerance: clip, so no flow is reported
     # past its limit by a rounding

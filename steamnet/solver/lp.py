@@ -1,0 +1,192 @@
+"""Linear and mixed-integer programmes, solved with HiGHS through its own Python
+binding (the highspy package).
+
+:func:`solve_lp` takes a programme in the form of ``scipy.optimize.linprog`` (cost,
+inequality rows ``A_ub x <= b_ub``, equality rows ``A_eq x = b_eq``, column bounds) and
+answers with the fields of its result that steamnet reads (``status``, ``x``, ``fun``,
+``message``, the duals of the rows and of the bounds), with scipy's status numbers and
+sign conventions. It passes the matrix to HiGHS as it is and reuses one HiGHS object
+per thread: scipy's checking and conversion of the inputs cost about three times
+HiGHS's own solve on the programmes of a steam balance (docs/performance.md).
+"""
+
+from __future__ import annotations
+
+import math
+import os
+import sys
+import threading
+from dataclasses import dataclass
+
+import numpy as np
+from scipy import sparse
+
+__all__ = ["LPResult", "solve_lp", "OPTIMAL", "INFEASIBLE", "UNBOUNDED", "FAILED"]
+
+#: Status numbers, as scipy.optimize.linprog gives them
+OPTIMAL, FAILED, INFEASIBLE, UNBOUNDED = 0, 1, 2, 3
+
+_local = threading.local()
+_first = threading.Lock()
+_made = False
+
+
+def _highs():
+    """This thread's HiGHS object, silent (its banner, which HiGHS prints on the first
+    object a process makes, kept off the console)."""
+    global _made
+    h = getattr(_local, "highs", None)
+    if h is None:
+        import highspy
+        with _first:
+            if not _made:
+                h = _quietly(highspy.Highs)
+                _made = True
+            else:
+                h = highspy.Highs()
+        h.setOptionValue("output_flag", False)
+        _local.highs = h
+    return h
+
+
+def _quietly(make):
+    """``make()`` with the process's standard output sent nowhere at the level of the
+    file descriptor (HiGHS writes from C++)."""
+    try:
+        sys.stdout.flush()
+        fd = sys.stdout.fileno()
+    except (AttributeError, OSError, ValueError):
+        return make()           # no real standard output (captured): nothing to hide
+    saved = os.dup(fd)
+    try:
+        with open(os.devnull, "w") as null:
+            os.dup2(null.fileno(), fd)
+            try:
+                return make()
+            finally:
+                os.dup2(saved, fd)
+    finally:
+        os.close(saved)
+
+
+@dataclass
+class Marginals:
+    """Duals of one kind of constraint, named as scipy names them."""
+
+    marginals: np.ndarray
+
+
+@dataclass
+class LPResult:
+    """The answer of :func:`solve_lp` (the fields of scipy's ``OptimizeResult`` that
+    steamnet reads).
+
+    Attributes
+    ----------
+    status : int
+        0 optimal, 2 infeasible, 3 unbounded, 1 any other outcome (as scipy, which
+        counts "unbounded or infeasible" as neither).
+    x : numpy.ndarray or None
+        The columns' values (None unless optimal).
+    fun : float
+        The cost at ``x``.
+    eqlin, ineqlin : Marginals
+        Duals of the equality and the inequality rows: the change of the cost per unit
+        added to the row's right-hand side.
+    lower, upper : Marginals
+        Duals of the columns' lower and upper bounds (zero where the column is not at
+        that bound).
+    mip_gap : float
+        Relative gap of a mixed-integer programme (0 for a linear one).
+    """
+
+    status: int
+    message: str
+    x: np.ndarray | None = None
+    fun: float = math.nan
+    eqlin: Marginals | None = None
+    ineqlin: Marginals | None = None
+    lower: Marginals | None = None
+    upper: Marginals | None = None
+    mip_gap: float = 0.0
+
+
+def _rows(a, n: int):
+    if a is None:
+        return sparse.csr_matrix((0, n))
+    return a.tocsr() if sparse.issparse(a) else sparse.csr_matrix(np.asarray(a, float))
+
+
+def _bounds(bounds, n: int) -> tuple[np.ndarray, np.ndarray]:
+    if bounds is None:
+        return np.zeros(n), np.full(n, np.inf)
+    lo = np.array([-np.inf if b[0] is None else b[0] for b in bounds], dtype=float)
+    hi = np.array([np.inf if b[1] is None else b[1] for b in bounds], dtype=float)
+    return lo, hi
+
+
+def solve_lp(c, A_ub=None, b_ub=None, A_eq=None, b_eq=None, bounds=None, *,
+             lo=None, hi=None, integrality=None) -> LPResult:
+    """Minimise ``c @ x`` subject to ``A_ub @ x <= b_ub``, ``A_eq @ x == b_eq`` and the
+    bounds (a list of ``(low, high)`` pairs, None for no bound, as for
+    ``scipy.optimize.linprog``; or the arrays ``lo`` and ``hi``, infinite for none).
+    ``integrality`` (1 for an integer column) makes it a mixed-integer programme."""
+    import highspy
+    c = np.asarray(c, dtype=float)
+    n = c.size
+    if lo is None:
+        lo, hi = _bounds(bounds, n)
+    aub, aeq = _rows(A_ub, n), _rows(A_eq, n)
+    bub = np.asarray(b_ub if b_ub is not None else [], dtype=float)
+    beq = np.asarray(b_eq if b_eq is not None else [], dtype=float)
+    a = sparse.vstack([aub, aeq], format="csr") if aub.shape[0] else aeq
+    m_ub = aub.shape[0]
+    inf = highspy.kHighsInf
+    lp = highspy.HighsLp()
+    lp.num_col_, lp.num_row_ = n, a.shape[0]
+    lp.col_cost_ = c
+    lp.col_lower_ = np.where(np.isfinite(lo), lo, -inf)
+    lp.col_upper_ = np.where(np.isfinite(hi), hi, inf)
+    lp.row_lower_ = np.concatenate([np.full(m_ub, -inf), beq])
+    lp.row_upper_ = np.concatenate([np.where(np.isfinite(bub), bub, inf), beq])
+    lp.a_matrix_.format_ = highspy.MatrixFormat.kRowwise
+    lp.a_matrix_.start_ = a.indptr
+    lp.a_matrix_.index_ = a.indices
+    lp.a_matrix_.value_ = a.data
+    mip = integrality is not None and np.any(integrality)
+    if mip:
+        lp.integrality_ = [highspy.HighsVarType.kInteger if v else
+                           highspy.HighsVarType.kContinuous for v in integrality]
+    h = _highs()
+    h.clearModel()
+    h.passModel(lp)
+    h.run()
+    st = h.getModelStatus()
+    S = highspy.HighsModelStatus
+    if st == S.kOptimal:
+        status = OPTIMAL
+    elif st in (S.kInfeasible, S.kModelError):    # an empty range is a model error
+        status = INFEASIBLE
+    elif st == S.kUnbounded:
+        status = UNBOUNDED
+    else:
+        status = FAILED
+    message = h.modelStatusToString(st)
+    if status != OPTIMAL:
+        return LPResult(status, message)
+    sol, info = h.getSolution(), h.getInfo()
+    x = np.array(sol.col_value)
+    res = LPResult(status, message, x=x, fun=float(info.objective_function_value),
+                   mip_gap=float(info.mip_gap) if mip else 0.0)
+    if not mip:
+        row = np.array(sol.row_dual)
+        col = np.array(sol.col_dual)
+        basis = h.getBasis().col_status
+        B = highspy.HighsBasisStatus
+        at_lo = np.array([s == B.kLower for s in basis], dtype=bool)
+        at_hi = np.array([s == B.kUpper for s in basis], dtype=bool)
+        res.ineqlin = Marginals(row[:m_ub])
+        res.eqlin = Marginals(row[m_ub:])
+        res.lower = Marginals(np.where(at_lo, col, 0.0))
+        res.upper = Marginals(np.where(at_hi, col, 0.0))
+    return res
