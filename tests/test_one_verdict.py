@@ -101,6 +101,37 @@ def test_headroom_ends_where_the_stations_check_starts_to_fail():
     assert row["headroom_t_h"] <= row["balance_headroom_t_h"]
 
 
+TRICKLE = (DATA / "trickle_turndown.toml").read_text()
+
+
+def test_headroom_ends_at_a_check_that_fails_over_a_middle_range_only():
+    """LP is fed by T1 (first in its sequence, 25 of at most 30 t/h) and then by PRV1.
+    Past 30 - 25 = 5 t/h added (closed form, the turbine's maximum less the user), PRV1
+    opens from closed and its desuperheater passes less than its rated minimum 3 t/h:
+    `stations` fails its turndown there, and passes it again once the let-down carries
+    more (10 t/h added). The headline ends where the check first fails, not where a
+    bisection over the whole range happens to land."""
+    m = loads_model(TRICKLE, source="trickle")
+    row = header_headroom(m, ["normal"], headers=["LP"], accuracy="0.1 t/h").iloc[0]
+    assert row["headroom_t_h"] == pytest.approx(5.0, abs=0.1 + 1e-9)
+    assert (row["ends_item"], row["ends_with"]) == ("PRV1", "steam_turndown")
+    assert row["balance_headroom_t_h"] > 30
+
+    def fails(d):
+        text = TRICKLE.replace("[[case]]", f'''[[user]]
+name = "Added"
+header = "LP"
+demand = "{d:.6f} t/h"
+
+[[case]]''', 1)
+        return {(i, c) for i, c, s in _problems(_stations_findings(text), "normal")
+                if s == "fail"}
+
+    assert not fails(row["headroom_t_h"])
+    assert ("PRV1", "steam_turndown") in fails(row["headroom_t_h"] + 0.1)
+    assert not fails(10.0)          # past the middle range the check passes again
+
+
 # ---------------------------------------------------------------- exit codes
 CLEAN = TEXT.replace('max_spray = "4 t/h"', 'max_spray = "8 t/h"')
 INFEASIBLE = TEXT.replace('max_steam = "80 t/h"', 'max_steam = "25 t/h"')

@@ -1,44 +1,35 @@
-"""Headroom: how much more steam each header can take before a limit binds.
+"""Headroom: how much more steam each header can take while the case stays sound.
 
-Method
-------
+Method (docs/howto-headroom.md)
+-------------------------------
 For one header of one case, a steam user is added on that header (condensate return as
-stated, default 0 %) and its demand ``d`` is raised from zero. A limit *binds* at ``d``
-when, in the balance with the added demand, a limit that had margin in the case itself
-has none left (see :mod:`steamnet.solver.limits`):
+stated, default 0 %) and its demand ``d`` is raised from zero on a grid of the accuracy
+(default 0.1 t/h), each trial a full balance warm-started from the case. Three searches
+share the balances they make:
 
-* a swing boiler at ``max_steam`` (or ``min_steam``), a swing import at its limit;
-* a let-down station at ``max_flow``; its desuperheater needing more spray than
-  ``max_spray`` or passing more than ``rated_max_steam`` (the balance itself keeps the
-  outlet at its setpoint and reports the spray it needs, so these count here although
-  the balance still holds);
-* a turbine at its ``max_flow``/``min_flow``; an extraction turbine's throttle, exhaust
-  or extraction at its limit;
-* a vent that closes (it was venting) or reaches its capacity;
-* a desuperheater whose inlet steam becomes too cold for its setpoint, a header whose
-  steam reaches saturation;
-* the balance becoming infeasible (or failing to solve).
+1. **First limit** (context): the largest ``d`` before a limit that had margin in the
+   case has none left (:mod:`steamnet.solver.limits`): a swing element at its limit
+   (even when the next of its sequence takes over), a let-down at ``max_flow``, a
+   desuperheater needing more than ``max_spray`` or passing more than
+   ``rated_max_steam``, a turbine or extraction range, a vent closing or full, an
+   inlet too cold for the setpoint, a header reaching saturation, the balance failing.
+   The margins are close to linear in ``d`` while the operating mode holds, so each
+   step extrapolates (or, with a bracket, interpolates) them to zero and tries the grid
+   points on either side of the crossing, halving when that stalls.
+2. **Balance headroom**: the largest ``d`` at which the case still balances at all, from
+   the first limit to the cap; a balance short of steam by s at ``b`` balances, to first
+   order, at ``b - s`` (or where the secant of the last two shortfalls reaches zero),
+   then bisection.
+3. **Headline**: the largest ``d`` at which the case balances and no check fails that
+   passed at zero addition (:func:`steamnet.evaluate.new_fails` on the one evaluation
+   of every balance). The balances of the first two searches in the bracket are judged
+   first, lowest first, then bisection; so a check that fails over a middle range of
+   ``d`` only (a let-down opening from closed below its turndown) ends the headline at
+   the start of the range wherever one of the balances falls in it.
 
-A swing element reaching its limit counts even when the next element of the header's
-sequence takes over: the answer is the first limit met, which is what an engineer sizing
-a new consumer asks for. Beside it, ``balance_headroom_t_h`` is the largest added demand
-at which the case still balances at all (the sequences taking over), found by bisection
-between the first binding limit and the cap, with the message of the balance that fails
-just above it. The headroom is the largest ``d`` at which nothing binds,
-found by bracketing and bisection on ``d``:
-
-1. balance the case, then the case with 1 t/h added (warm starts from the case);
-2. the margin of every limit is close to linear in ``d`` while the operating mode holds,
-   so extrapolate each margin to zero and try the grid point just beyond the nearest
-   crossing, then the one just before it; with a bracket known, interpolate the margins
-   of the limits that bind at its upper end (regula falsi), falling back to halving;
-3. all trial demands lie on a grid of the accuracy (default 0.1 t/h); stop when a grid
-   point where nothing binds and the next one where a limit binds are known, and report
-   the first: the reported headroom keeps every limit, and the reported headroom plus
-   the accuracy binds the named limit (or leaves the balance infeasible).
-
-The search is capped (default 200 t/h); a header that takes the cap without a limit
-binding is reported as ``capped``.
+The reported headline keeps every check as it was at zero, and one accuracy step more
+makes the named check fail or the balance fail. The search is capped (default
+200 t/h); a header that takes the cap soundly is reported as ``capped``.
 """
 
 from __future__ import annotations
@@ -259,11 +250,23 @@ def _balance_limit(evaluate, lo: float, hi, cap: float, acc: float):
     return a, f"with {b * TH:.1f} t/h added: {b_res.message}", n
 
 
-def _sound_limit(point, lo: float, hi: float, acc: float):
+def _sound_limit(point, lo: float, hi: float, acc: float, known=()):
     """Largest added demand on the grid ``k * acc`` between ``lo`` (sound) and ``hi``
     (not sound) at which the balance closes and no check fails that passed at zero
-    addition, by bisection; returns (sound point, first unsound point, solves)."""
+    addition; returns (sound point, first unsound point, solves).
+
+    The balances of the other searches that lie between the two (``known``) are judged
+    first, lowest first, without a new balance: the first that is not sound closes the
+    bracket from above and the last sound one below it opens it. Bisection closes the
+    rest. Where a check fails only over a middle range of added demands, the answer
+    is the first such range's lower end among those balances."""
     a, b = point(lo), point(hi)
+    for p in sorted((p for p in known if a.d < p.d < b.d), key=lambda p: p.d):
+        if p.sound:
+            a = p
+        else:
+            b = p
+            break
     n = 0
     while b.d - a.d > acc * (1 + 1e-9):
         mid = math.floor((a.d + b.d) / 2 / acc + 1e-9) * acc
@@ -403,7 +406,8 @@ def header_headroom(model: Model, cases: CaseSet | list[str] | str | None = None
             else:
                 start_ok = lo if lo.sound else evaluate(0.0)
                 upper = evaluate(bal + acc) if top.sound else top
-                good, bad, n3 = _sound_limit(evaluate, start_ok.d, upper.d, acc)
+                good, bad, n3 = _sound_limit(evaluate, start_ok.d, upper.d, acc,
+                                             list(seen.values()))
                 w, item, msg = _ends(bad)
                 row.update(ends_with=w, ends_item=item, ends_message=msg)
             row["headroom_t_h"] = round(good.d * TH, 9)
