@@ -173,7 +173,8 @@ def validate_model(model: Model) -> None:
                 err("boiler", n, "drum_pressure", f"{b.drum_pressure / 1e5:.4g} bar(a) "
                     "is not below the critical pressure 220.64 bar(a): a drum holds "
                     "water and steam at saturation (IAPWS-IF97)")
-        if b.mode == "fixed" and b.max_steam is not None and b.steam > b.max_steam:
+        if b.mode == "fixed" and b.max_steam is not None and \
+                beyond(b.steam, b.max_steam, above=True):     # not by a rounding
             err("boiler", n, "steam", "fixed steam is above max_steam")
     for n, t in model.table("steam_transfer").items():
         ok = need_header("steam_transfer", n, "header", t.header)
@@ -187,7 +188,8 @@ def validate_model(model: Model) -> None:
         if a and b and p(t.outlet) >= p(t.inlet):
             err("turbine", n, "outlet", f"outlet header '{t.outlet}' is not below the "
                 f"inlet header '{t.inlet}'")
-        if t.mode == "fixed_flow" and t.max_flow is not None and t.flow > t.max_flow:
+        if t.mode == "fixed_flow" and t.max_flow is not None and \
+                beyond(t.flow, t.max_flow, above=True):
             err("turbine", n, "flow", "fixed flow is above max_flow")
         if a and b and t.willans_slope is not None and p(t.outlet) < p(t.inlet):
             _check_willans(err, model, n, t, p(t.inlet), p(t.outlet))
@@ -266,7 +268,8 @@ def validate_model(model: Model) -> None:
                 except PropertyRangeError as exc:
                     err("letdown", n, "desuperheater.approach", f"the setpoint is not "
                         f"a state of steam: {exc}")
-        if s.mode == "fixed_flow" and s.max_flow is not None and s.flow > s.max_flow:
+        if s.mode == "fixed_flow" and s.max_flow is not None and \
+                beyond(s.flow, s.max_flow, above=True):
             err("letdown", n, "flow", "fixed flow is above max_flow")
     # ---------------------------------------------------------------- users, vents
     for n, u in model.table("user").items():
