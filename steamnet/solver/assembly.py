@@ -233,6 +233,8 @@ class Plan:
                 rows.append([(v.index, 1.0)])
                 rhs.append(v.fixed if v.fixed is not None else 0.0)
         self.row_tail = self.row_mode + self.n_mode_rows
+        #: turbine index -> row of the system whose right-hand side is its flow
+        self.flow_row = {k: self.row_tail + row for row, k in self.t_flow}
         r, c, v, slots = _flat(rows, self.row_tail)
         self.t_r, self.t_c, self.t_v = _arrays(r, c, v)
         self.t_rhs = rhs

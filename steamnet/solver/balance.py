@@ -41,7 +41,7 @@ from .assembly import Plan
 from .findings import (cold_findings, derived_findings, exhausted_findings, sequence_amounts,
                        slack_findings)
 from .network import (INF, Coeffs, ItemPropertyError, Net, build, coefficients,
-                      header_inflows, pump_power)
+                      header_inflows, pump_power, pump_weights)
 from .network import group_bounds as _group_bounds, power_row
 from .slack import beyond_limits, min_slack, slack_tolerance
 
@@ -105,6 +105,50 @@ def _pumps_consistent(net: Net, co: Coeffs, h, pumps, x, solve, rounds: int = 20
     return x
 
 
+def _pump_solve(net: Net, co: Coeffs, h, pumps, a: np.ndarray, b: np.ndarray,
+                flow_row: dict) -> np.ndarray | None:
+    """The flows of the dense system ``a x = b`` with each pump-driving turbine's flow
+    consistent with the water its pump delivers in those same flows, at the enthalpies
+    ``h``, in one factorisation.
+
+    At fixed coefficients the flows are affine in the turbines' flows, which are the
+    right-hand sides of their rows: ``x = x0 + E (f - f0)``, ``E`` the columns of the
+    inverse at those rows (solved with ``b`` as more right-hand sides). A turbine's
+    flow is affine in its pump's power, ``f = A0 + A1 w.x`` (its Willans line, or
+    power / (eta dh)), and the power linear in the flows (:func:`pump_weights`); the
+    consistent flows solve a system of one row per such turbine."""
+    rows = [flow_row[k] for k, _ in pumps]
+    rhs = np.zeros((len(b), 1 + len(rows)))
+    rhs[:, 0] = b
+    for j, r in enumerate(rows):
+        rhs[r, 1 + j] = 1.0
+    sol = _dense_solve(a, rhs)
+    if sol is None:
+        return None
+    x0, e = sol[:, 0], sol[:, 1:]
+    f0 = np.array([co.turb[k]["flow"] for k, _ in pumps])
+    w = np.array([pump_weights(net, t["pump"], h) for _, t in pumps])
+    a0, a1 = [], []
+    for k, t in pumps:
+        c = co.turb[k]
+        if c["willans"]:
+            a0.append(c["m0"])
+            a1.append(c["k"])
+        else:
+            a0.append(0.0)
+            a1.append(1.0 / (t["eta_mg"] * c["dh"]))
+    a0, a1 = np.array(a0), np.array(a1)
+    we = w @ e
+    rhs_f = a0 + a1 * (w @ x0 - we @ f0)
+    if len(rows) == 1:                  # one such turbine (the usual plant): a division
+        f = rhs_f / (1.0 - a1 * we[0])
+    else:
+        f = np.linalg.solve(np.eye(len(rows)) - a1[:, None] * we, rhs_f)
+    for (k, _), fk in zip(pumps, f.tolist()):
+        co.turb[k]["flow"] = fk
+    return x0 + e @ (f - f0)
+
+
 def _initial_modes(net: Net) -> list[tuple[str, int]]:
     modes = []
     for hs in net.swing:
@@ -125,9 +169,15 @@ def _linear_solve(n: int, triplets, b: np.ndarray) -> np.ndarray | None:
         if not np.isfinite(x).all():
             return None
         return np.asarray(x)
+    return _dense_solve(_dense(n, triplets), b)
+
+
+def _dense(n: int, triplets) -> np.ndarray:
+    """The dense matrix of the triplets (entries in one place summed)."""
+    r, c, v = triplets
     a = np.zeros((n, n))
     np.add.at(a, (r, c), v)
-    return _dense_solve(a, b)
+    return a
 
 
 def _dense_solve(a: np.ndarray, b: np.ndarray) -> np.ndarray | None:
@@ -453,8 +503,14 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
         def assemble(co, h, modes, eff):
             return _reference.assemble(net, co, h, modes, eff)
 
-        def solve_system(co, h, modes, eff):
+        def solve_system(co, h, modes, eff, pumps_too: bool = False):
             trip, b = _reference.assemble(net, co, h, modes, eff)
+            if pumps_too and n <= _SPARSE_ABOVE:
+                # the same rows as the plan's (the systems are the same)
+                rows = (net.plan or Plan(net)).flow_row
+                if all(k in rows for k, _ in pumps):
+                    consistent[0] = True
+                    return _pump_solve(net, co, h, pumps, _dense(n, trip), b, rows)
             return _linear_solve(n, trip, b)
     else:
         if net.plan is None:
@@ -464,11 +520,14 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
         def assemble(co, h, modes, eff):
             return plan.assemble(net, co, h, modes, eff)
 
-        def solve_system(co, h, modes, eff):
+        def solve_system(co, h, modes, eff, pumps_too: bool = False):
             dense = plan.dense(net, co, h, modes, eff) if n <= _SPARSE_ABOVE else None
             if dense is None:
                 trip, b = plan.assemble(net, co, h, modes, eff)
                 return _linear_solve(n, trip, b)
+            if pumps_too and all(k in plan.flow_row for k, _ in pumps):
+                consistent[0] = True
+                return _pump_solve(net, co, h, pumps, *dense, plan.flow_row)
             return _dense_solve(*dense)
     if tol_h is None:
         tol_h = TOL_H_REL * max(abs(s.hg) for s in net.sat)
@@ -491,8 +550,9 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
     warm = bool(start) and len(start["h"]) == len(net.headers) and \
         modes == list(start["modes"])
     # turbines driving a pump: their power follows the pumped water, a flow of the
-    # same solve (_pumps_consistent)
+    # same solve (_pump_solve on the dense system, else _pumps_consistent)
     pumps = [(k, t) for k, t in enumerate(net.turbines) if t["mode"] == "pump"]
+    consistent = [False]        # whether the last solve made the pump flows consistent
     accel = Anderson([s.hf for s in net.sat], noise=1e-2 * tol_h,
                      columns=start.get("accel") if warm else None)
     recent: list[set] = []      # exhausted (header, side) of the last iterations
@@ -500,8 +560,9 @@ def solve_net(net: Net, *, max_iter: int = 200, tol_h: float | None = None,
     for it in range(1, max_iter + 1):
         # before the first solve, bound the extractions as if the others were at zero
         eff = _extraction_bounds(net, co, xl if x is not None else [0.0] * n)
-        x_new = solve_system(co, h, modes, eff)
-        if pumps and x_new is not None:
+        consistent[0] = False
+        x_new = solve_system(co, h, modes, eff, bool(pumps))
+        if pumps and x_new is not None and not consistent[0]:
             x_new = _pumps_consistent(net, co, h, pumps, x_new,
                                       lambda: solve_system(co, h, modes, eff))
         if x_new is None:

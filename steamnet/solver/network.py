@@ -14,6 +14,8 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field, replace
 
+import numpy as np
+
 from .. import properties as props
 from ..calc.desuperheater import spray_ratio
 from ..calc.pump import pump_work
@@ -567,12 +569,9 @@ def supply_flow(net: Net, name: str, x, ratios) -> float:
     return m
 
 
-def pump_power(net: Net, supply: dict, h: list[float], x) -> float:
-    """Power of the pump of ``supply`` (a Net entry) at the header enthalpies ``h`` and
-    the flows ``x``: its pump work v dP / efficiency times the water it delivers [W];
-    0 before the first flows are known."""
-    if x is None:
-        return 0.0
+def pump_ratios(net: Net, supply: dict, h: list[float]) -> list[float]:
+    """Spray per unit steam of every let-down (``net.letdowns`` order) that ``supply``
+    feeds at the header enthalpies ``h``; 0 for the others [-]."""
     ratios = []
     for s in net.letdowns:
         ds = s["ds"]
@@ -580,7 +579,32 @@ def pump_power(net: Net, supply: dict, h: list[float], x) -> float:
         if ds is not None and ds["supply"] is supply and h[s["inlet"]] > ds["h_set"]:
             r = spray_ratio(h[s["inlet"]], ds["h_set"], supply["h"])
         ratios.append(r)
-    return supply["pump_work"] * supply_flow(net, supply["name"], x, ratios)
+    return ratios
+
+
+def pump_power(net: Net, supply: dict, h: list[float], x) -> float:
+    """Power of the pump of ``supply`` (a Net entry) at the header enthalpies ``h`` and
+    the flows ``x``: its pump work v dP / efficiency times the water it delivers [W];
+    0 before the first flows are known."""
+    if x is None:
+        return 0.0
+    return supply["pump_work"] * supply_flow(net, supply["name"], x,
+                                             pump_ratios(net, supply, h))
+
+
+def pump_weights(net: Net, supply: dict, h: list[float]) -> np.ndarray:
+    """The power of the pump of ``supply`` per kg/s of every flow at the header
+    enthalpies ``h``: :func:`pump_power` is ``pump_weights(...) @ x`` [W per kg/s]."""
+    w = np.zeros(len(net.vars))
+    ratios = pump_ratios(net, supply, h)
+    name = supply["name"]
+    for b in net.boilers:
+        if b["supply"]["name"] == name:
+            w[b["var"]] += 1 / (1 - b["bd"])
+    for s, r in zip(net.letdowns, ratios):
+        if s["ds"] is not None and s["ds"]["supply"]["name"] == name:
+            w[s["var"]] += r
+    return supply["pump_work"] * w
 
 
 # ------------------------------------------------------------------ header inflows
