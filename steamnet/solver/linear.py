@@ -207,10 +207,13 @@ def dense_rows(rows, n_cols: int) -> np.ndarray:
 
 def sparse_rows(rows, n_cols: int):
     """Rows of ``(column, coefficient)`` terms as a CSR matrix."""
-    r, c, v = [], [], []
-    for i, terms in enumerate(rows):
+    cols, vals, starts = [], [], [0]
+    for terms in rows:
         for col, val in terms:
-            r.append(i)
-            c.append(col)
-            v.append(val)
-    return sp.csr_matrix((v, (r, c)), shape=(len(rows), n_cols))
+            cols.append(col)
+            vals.append(val)
+        starts.append(len(cols))
+    a = sp.csr_matrix((np.array(vals, dtype=float), np.array(cols, dtype=np.int32),
+                       np.array(starts, dtype=np.int32)), shape=(len(rows), n_cols))
+    a.sum_duplicates()          # a column named twice in a row: its terms add
+    return a

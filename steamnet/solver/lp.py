@@ -111,10 +111,20 @@ class LPResult:
     mip_gap: float = 0.0
 
 
-def _rows(a, n: int):
+def _rows(a, n: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(row starts, columns, values) of the non-zero entries of ``a`` (dense or
+    sparse), row by row."""
     if a is None:
-        return sparse.csr_matrix((0, n))
-    return a.tocsr() if sparse.issparse(a) else sparse.csr_matrix(np.asarray(a, float))
+        return np.zeros(1, dtype=np.int32), np.zeros(0, dtype=np.int32), np.zeros(0)
+    if sparse.issparse(a):
+        a = a.tocsr()
+        a.sum_duplicates()
+        return a.indptr, a.indices, a.data
+    a = np.asarray(a, dtype=float).reshape(-1, n)
+    r, c = np.nonzero(a)
+    starts = np.zeros(a.shape[0] + 1, dtype=np.int32)
+    np.cumsum(np.bincount(r, minlength=a.shape[0]), out=starts[1:])
+    return starts, c.astype(np.int32), a[r, c]
 
 
 def _bounds(bounds, n: int) -> tuple[np.ndarray, np.ndarray]:
@@ -136,23 +146,24 @@ def solve_lp(c, A_ub=None, b_ub=None, A_eq=None, b_eq=None, bounds=None, *,
     n = c.size
     if lo is None:
         lo, hi = _bounds(bounds, n)
-    aub, aeq = _rows(A_ub, n), _rows(A_eq, n)
     bub = np.asarray(b_ub if b_ub is not None else [], dtype=float)
     beq = np.asarray(b_eq if b_eq is not None else [], dtype=float)
-    a = sparse.vstack([aub, aeq], format="csr") if aub.shape[0] else aeq
-    m_ub = aub.shape[0]
+    (s1, c1, v1), (s2, c2, v2) = _rows(A_ub, n), _rows(A_eq, n)
+    m_ub = len(s1) - 1
+    starts = np.concatenate([s1[:-1], s2 + s1[-1]])
+    cols, vals = np.concatenate([c1, c2]), np.concatenate([v1, v2])
     inf = highspy.kHighsInf
     lp = highspy.HighsLp()
-    lp.num_col_, lp.num_row_ = n, a.shape[0]
+    lp.num_col_, lp.num_row_ = n, len(starts) - 1
     lp.col_cost_ = c
     lp.col_lower_ = np.where(np.isfinite(lo), lo, -inf)
     lp.col_upper_ = np.where(np.isfinite(hi), hi, inf)
     lp.row_lower_ = np.concatenate([np.full(m_ub, -inf), beq])
     lp.row_upper_ = np.concatenate([np.where(np.isfinite(bub), bub, inf), beq])
     lp.a_matrix_.format_ = highspy.MatrixFormat.kRowwise
-    lp.a_matrix_.start_ = a.indptr
-    lp.a_matrix_.index_ = a.indices
-    lp.a_matrix_.value_ = a.data
+    lp.a_matrix_.start_ = starts
+    lp.a_matrix_.index_ = cols
+    lp.a_matrix_.value_ = vals
     mip = integrality is not None and np.any(integrality)
     if mip:
         lp.integrality_ = [highspy.HighsVarType.kInteger if v else

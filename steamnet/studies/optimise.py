@@ -148,6 +148,12 @@ class CaseOptimum:
                        else self.optimum.without_solution())
 
 
+def _cost_or_inf(r: CaseResult) -> float:
+    """The cost of a balance to beat: the control's, or infinite when it has none."""
+    c = _cost(r)
+    return c if math.isfinite(c) else math.inf
+
+
 def _cost(r: CaseResult | None) -> float:
     if r is None or r.status != CaseStatus.SOLVED:
         return math.nan
@@ -247,15 +253,52 @@ def _flows_by_name(sol) -> dict:
     return {(v.kind, v.item): float(sol.x[v.index]) for v in sol.net.vars}
 
 
-def _resolve(control: CaseResult, net, x, lo, hi, free, tables: bool, h_start):
+#: Fields of a fixed dispatch that set a flow (the others set a mode or a priority).
+_FLOW_FIELDS = ("flow", "steam")
+
+
+class DispatchModels:
+    """The models of fixed dispatches of one run (a case, or a chunk of an hourly
+    profile), made and validated with as little repeated work as gives the same models.
+
+    A dispatch's changes are modes and priorities (which element holds each header,
+    which boiler stops) and flows. :func:`~steamnet.model.validate.validate_model` runs
+    in full the first time a set of modes is met on a case structure (the case's network
+    graph, shared by the hours of a profile that change only values); a dispatch with
+    the same modes on the same structure differs only in flows, each within the range
+    its element allows (the programme's bounds lie inside it), and the checks that read
+    flows (a fixed flow above its maximum, a Willans line at the fixed flow) pass for
+    such flows when they passed for the element swinging over that range. ``net`` is the
+    last Net solved, the template of the next (:func:`steamnet.solver.network.build`).
+    """
+
+    def __init__(self):
+        self._valid: dict = {}
+        self.net = None
+
+    def model(self, base, changes: dict, origin: str):
+        m = base.with_changes(changes, origin=origin)
+        modes = tuple(sorted((k, str(v)) for k, v in changes.items()
+                             if k.rsplit(".", 1)[-1] not in _FLOW_FIELDS))
+        key = (id(base.graph), modes)
+        if key not in self._valid:
+            validate_model(m)
+            self._valid[key] = base.graph       # kept, so that the id stays its own
+        return m
+
+
+def _resolve(control: CaseResult, net, x, lo, hi, free, tables: bool, h_start,
+             models: DispatchModels | None = None):
     """The ordinary balance of the case with the dispatch ``x`` as fixed flows."""
     closing = _closing(net, x, lo, hi, free)
     changes = fixed_dispatch_changes(net, x, closing)
-    m = net.model.with_changes(changes, origin=f"optimal dispatch of case "
-                                               f"'{control.case}'")
-    validate_model(m)
-    return solve_model(m, control.case, start={"h": h_start, "modes": []}, tables=tables,
-                       streams=False)
+    models = models or DispatchModels()
+    m = models.model(net.model, changes, f"optimal dispatch of case '{control.case}'")
+    r = solve_model(m, control.case, start={"h": h_start, "modes": []}, tables=tables,
+                    streams=False, like=models.net)
+    if r.solution is not None:
+        models.net = r.solution.net
+    return r
 
 
 @dataclass
@@ -323,7 +366,7 @@ def station_caps(net, h: list[float]) -> dict:
 
 def _rounds(control: CaseResult, net, free, *, first_mass: bool, tol: float,
             max_rounds: int, tables: bool, start: dict | None = None,
-            max_rejected: int = None) -> _Run:
+            max_rejected: int = None, models: DispatchModels | None = None) -> _Run:
     """Rounds of programme and re-solve from the control balance, each accepted only
     when the re-solved balance costs less than the last accepted one; a rejected round
     shrinks the trust region around the accepted dispatch to a quarter of its move.
@@ -346,7 +389,7 @@ def _rounds(control: CaseResult, net, free, *, first_mass: bool, tol: float,
         x0 = np.array([start.get((v.kind, v.item), x[v.index]) if v.index in free
                        else x[v.index] for v in net.vars])
         lo, hi = _own_bounds(net, co, free)
-        res = _resolve(control, net, x0, lo, hi, free, tables, h)
+        res = _resolve(control, net, x0, lo, hi, free, tables, h, models)
         cost = _cost(res)
         if cost < best:
             run.res, best = res, cost
@@ -370,7 +413,7 @@ def _rounds(control: CaseResult, net, free, *, first_mass: bool, tol: float,
         if run.move < tol:
             run.lp, run.settled = lp, True
             break
-        res = _resolve(control, net, lp.x, lp.lo, lp.hi, free, tables, h)
+        res = _resolve(control, net, lp.x, lp.lo, lp.hi, free, tables, h, models)
         cost = _cost(res)
         if cost < best - _ACCEPT_REL * abs(best) or (math.isinf(best) and
                                                      math.isfinite(cost)):
@@ -398,7 +441,8 @@ def _rounds(control: CaseResult, net, free, *, first_mass: bool, tol: float,
             run.move = float(np.abs(run.lp.x[order] - x[order]).max(initial=0.0))
     if run.res is None:
         # the control dispatch is the optimum: re-solved as fixed flows like any other
-        run.res = _resolve(control, net, x, run.lp.lo, run.lp.hi, free, tables, h)
+        run.res = _resolve(control, net, x, run.lp.lo, run.lp.hi, free, tables, h,
+                           models)
     return run
 
 
@@ -410,7 +454,8 @@ def _own_bounds(net, co, free):
 
 def optimise_result(control: CaseResult, *, tol: float = DISPATCH_TOL,
                     max_rounds: int = MAX_ROUNDS, tables: bool = True,
-                    start: dict | None = None) -> CaseOptimum:
+                    start: dict | None = None,
+                    models: DispatchModels | None = None) -> CaseOptimum:
     """The cheapest dispatch of the case balanced as ``control`` (its raw solution
     kept), by successive linear programming (see the module docstring).
 
@@ -431,13 +476,15 @@ def optimise_result(control: CaseResult, *, tol: float = DISPATCH_TOL,
                            f"from: {control.status}: {control.message}", control)
     net = sol.net
     free = movable(net)
-    opts = {"tol": tol, "max_rounds": max_rounds, "tables": tables}
+    opts = {"tol": tol, "max_rounds": max_rounds, "tables": tables,
+            "models": models or DispatchModels()}
     try:
         runs = []
         if start is not None:
             warm = _rounds(control, net, free, first_mass=False, start=start,
                            max_rejected=1, **opts)
-            if warm.settled and math.isfinite(warm.cost) and warm.failed is None:
+            if warm.settled and math.isfinite(warm.cost) and warm.failed is None \
+                    and warm.cost <= _cost_or_inf(control):
                 runs = [warm]
         if not runs:
             runs = [_rounds(control, net, free, first_mass=False, **opts)]
@@ -489,9 +536,10 @@ def _chunk_optimise(data: dict, opts: dict, results: list) -> tuple:
     """The sweep extra: the optimum of every case of a solved chunk (made where the
     chunk was solved) and the findings of the optimal balances."""
     found = []
+    models = DispatchModels()
     for r in results:        # each case starts from the optimum of the one before
         start = found[-1].flows if found else None
-        found.append(optimise_result(r, start=start or None, **opts))
+        found.append(optimise_result(r, start=start or None, models=models, **opts))
     optima = [o.optimum for o in found if o.optimum is not None]
     blocks = chunk_findings(data, optima)
     return [o.lean() for o in found], blocks
