@@ -231,7 +231,9 @@ def network_png(model, case, *, dpi: int = 110, verdicts: dict | None = None) ->
     ax.set_xlim(left, right)
     ax.set_ylim(bottom, top)
     buf = io.BytesIO()
-    fig.savefig(buf, format="png", dpi=dpi, metadata={"Software": None})
+    # the fastest zlib level: the drawing is a tenth larger and encodes in half the time
+    fig.savefig(buf, format="png", dpi=dpi, metadata={"Software": None},
+                pil_kwargs={"compress_level": 1})
     return buf.getvalue()
 
 
