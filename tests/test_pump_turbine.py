@@ -173,3 +173,43 @@ def test_random_networks_with_a_pump_turbine_pass_the_independent_check(seed):
     eq.loc[pick, "power_kw"] *= 1.001                     # the check sees a wrong power
     bad = dataclasses.replace(r, equipment=eq)
     assert any("pump it drives" in p for p in check_case(model, bad))
+
+
+def test_cheapest_dispatch_holds_the_pump_turbine_to_the_water_it_pumps():
+    """The dispatch programme moves the load from B1 (2 % blowdown) to a cheaper boiler
+    with 10 % blowdown: more feedwater is pumped, and the pump-driving turbine's flow in
+    the programme's answer is the one its pump then needs, v dP / eta_pump x (feedwater
+    + spray) / (eta_m dh), recomputed from CoolProp's IF97 backend at the enthalpies of
+    the programme (the header and spray enthalpies of the balance it starts from)."""
+    from steamnet.solver.dispatch import solve_dispatch
+    text = NET.replace('mode = "fixed"\nsteam = "40 t/h"',
+                       'mode = "swing"\npriority = 1\nmax_steam = "80 t/h"\n'
+                       'fuel_price = "12 EUR/GJ"', 1) + """
+[[boiler]]
+name = "B2"
+header = "HP"
+steam_temperature = "420 degC"
+feedwater = "BFW"
+efficiency = "90 %"
+blowdown = "10 %"
+mode = "swing"
+priority = 2
+max_steam = "80 t/h"
+fuel_price = "6 EUR/GJ"
+"""
+    r = solve(text, None)
+    sol = r.solution
+    lp = solve_dispatch(sol.net, sol.co, list(sol.h))
+    assert lp.status == "optimal"
+    x = {(v.kind, v.item): lp.x[v.index] for v in sol.net.vars}
+    assert x[("boiler", "B2")] > x[("boiler", "B1")]     # precondition: the load moved
+    w, h_w = _pump()
+    p_hp, p_lp = barg(40), barg(3)
+    h_hp = ref.h_pt(p_hp, degc(420))
+    h_set = ref.h_pt(p_lp, ref.sat(p_lp).t + 15)
+    spray = x[("letdown", "L1")] * (h_hp - h_set) / (h_set - h_w)
+    fw = x[("boiler", "B1")] / (1 - 0.02) + x[("boiler", "B2")] / (1 - 0.10)
+    dh = 0.55 * (h_hp - ref.h_ps(p_lp, ref.s_ph(p_hp, h_hp)))
+    assert close(x[("turbine", "TP")], w * (fw + spray) / (0.96 * dh), rel=1e-7)
+    # and not the flow of the balance it started from (the load moved)
+    assert not close(x[("turbine", "TP")], kg_s(equip(r, "TP").flow_t_h), rel=1e-3)

@@ -41,7 +41,8 @@ from .assembly import Plan
 from .findings import (cold_findings, derived_findings, exhausted_findings, sequence_amounts,
                        slack_findings)
 from .network import (INF, Coeffs, ItemPropertyError, Net, build, coefficients,
-                      header_inflows, pump_power, pump_weights)
+                      header_inflows, pump_flow_line, pump_power,
+                      pump_weights)
 from .network import group_bounds as _group_bounds, power_row
 from .slack import beyond_limits, min_slack, slack_tolerance
 
@@ -90,9 +91,8 @@ def _pumps_consistent(net: Net, co: Coeffs, h, pumps, x, solve, rounds: int = 20
         moved = False
         for k, t in pumps:
             c = co.turb[k]
-            power = pump_power(net, t["pump"], h, xs)
-            flow = c["m0"] + c["k"] * power if c["willans"] \
-                else power / (t["eta_mg"] * c["dh"])
+            a0, a1 = pump_flow_line(t, c)
+            flow = a0 + a1 * pump_power(net, t["pump"], h, xs)
             if abs(flow - c["flow"]) > _PUMP_TOL:
                 c["flow"] = flow
                 moved = True
@@ -128,16 +128,7 @@ def _pump_solve(net: Net, co: Coeffs, h, pumps, a: np.ndarray, b: np.ndarray,
     x0, e = sol[:, 0], sol[:, 1:]
     f0 = np.array([co.turb[k]["flow"] for k, _ in pumps])
     w = np.array([pump_weights(net, t["pump"], h) for _, t in pumps])
-    a0, a1 = [], []
-    for k, t in pumps:
-        c = co.turb[k]
-        if c["willans"]:
-            a0.append(c["m0"])
-            a1.append(c["k"])
-        else:
-            a0.append(0.0)
-            a1.append(1.0 / (t["eta_mg"] * c["dh"]))
-    a0, a1 = np.array(a0), np.array(a1)
+    a0, a1 = np.array([pump_flow_line(t, co.turb[k]) for k, t in pumps]).T
     we = w @ e
     rhs_f = a0 + a1 * (w @ x0 - we @ f0)
     if len(rows) == 1:                  # one such turbine (the usual plant): a division

@@ -11,7 +11,8 @@ over the flows the optimiser may move (:func:`movable`): every swing, auto and s
 element, every vent and swing export, and every element marked ``dispatchable``; the
 others keep the values the balance gives them. The shares of the swing groups do not
 hold (the optimiser replaces the control philosophy); every element's range, the
-extraction turbines' joint limits, each desuperheater's ``max_spray`` (a bound on its
+extraction turbines' joint limits, each pump-driving turbine's flow as its pump needs
+it for the water the dispatch pumps (a row), each desuperheater's ``max_spray`` (a bound on its
 let-down's steam at the present spray ratio), the export cap and the caps the caller
 gives (the let-down valves' travel, :func:`steamnet.studies.optimise.station_caps`) do. Boilers marked
 ``can_stop`` either run within their range or stop: a mixed-integer programme
@@ -216,7 +217,7 @@ def solve_dispatch(net: Net, co: Coeffs, h: list[float], *,
     pr, site = model.prices, model.site
     n, nh = len(net.vars), len(net.headers)
     free = movable(net)
-    lo, hi = flow_bounds(net, co, free)
+    lo, hi = flow_bounds(net, co, free, pumps=True)
     own_lo, own_hi = lo.copy(), hi.copy()
     # a desuperheater's spray cap bounds its let-down's steam at the spray ratio
     spray_capped: dict[int, str] = {}
@@ -246,7 +247,7 @@ def solve_dispatch(net: Net, co: Coeffs, h: list[float], *,
                 hi[vi] = max(min(hi[vi], xc[vi] + radius), lo[vi])
     c, pw, p0 = cost_terms(net, co)
     hrows, users = (duty_header_rows(net, co, h) if energy else header_rows(net, co))
-    eq = equality_rows(net, co, h, shares=False, free=free)
+    eq = equality_rows(net, co, h, shares=False, free=free, pumps=True)
     ex = exhaust_rows(net)
     # columns: flows (n), then power at the site (own use, sold) with a power demand,
     # then one on/off column per boiler that may stop
@@ -405,7 +406,7 @@ def _infeasible(net, co, h, free, lo, hi, why: str = "",
     at which that balance holds its flows."""
     n, nh = len(net.vars), len(net.headers)
     hrows, users = duty_header_rows(net, co, h)
-    eq = equality_rows(net, co, h, shares=False, free=free)
+    eq = equality_rows(net, co, h, shares=False, free=free, pumps=True)
     nc = n + 2 * nh
     rows_eq = [list(t) + [(n + i, 1.0), (n + nh + i, -1.0)] for i, t in enumerate(hrows)]
     rows_eq += [t for t, _ in eq]

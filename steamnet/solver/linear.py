@@ -25,7 +25,8 @@ import math
 import numpy as np
 import scipy.sparse as sp
 
-from .network import Coeffs, Net, header_inflows, power_row
+from .network import (Coeffs, Net, header_inflows, power_row, pump_flow_line,
+                      pump_weights)
 from .reference import _da_rows, _header_terms
 
 __all__ = ["ENERGY_SCALE", "header_rows", "duty_header_rows", "equality_rows",
@@ -91,12 +92,14 @@ def duty_header_rows(net: Net, co: Coeffs, h: list[float]):
 
 
 def equality_rows(net: Net, co: Coeffs, h: list[float], *, shares: bool = True,
-                  free: frozenset = frozenset()):
+                  free: frozenset = frozenset(), pumps: bool = False):
     """Equality rows ``(terms, rhs)`` besides the header balances: the deaerator's mass
     and energy rows (the energy row over :data:`ENERGY_SCALE`; these two first, when
-    there is a deaerator), the shares of the swing groups (with ``shares``), and the
+    there is a deaerator), the shares of the swing groups (with ``shares``), the
     fixed-power extraction turbines at their shaft power (those whose throttle flow is
-    not in ``free``)."""
+    not in ``free``), and with ``pumps`` each pump-driving turbine's flow as its pump
+    needs it for the water the flows pump (:func:`pump_rows`; give
+    :func:`flow_bounds` the same ``pumps``)."""
     eq: list[tuple[list[tuple[int, float]], float]] = []
     if net.deaerator is not None:
         (mass, r_mass), (energy, r_energy) = _da_rows(net, co, h)
@@ -114,7 +117,35 @@ def equality_rows(net: Net, co: Coeffs, h: list[float], *, shares: bool = True,
             terms = [(t["in_var"], sum(dh))]
             terms += [(e["var"], -sum(dh[i + 1:])) for i, e in enumerate(t["exts"])]
             eq.append((terms, rhs))
+    if pumps:
+        eq += pump_rows(net, co, h)
     return eq
+
+
+def pump_rows(net: Net, co: Coeffs, h: list[float]):
+    """Per pump-driving turbine (not in a sequence): ``x_t - a1 w.x = a0``, its steam
+    flow as the power of its pump needs it, the power linear in the flows of the
+    boilers and sprays the pump feeds at the enthalpies ``h``
+    (:func:`~steamnet.solver.network.pump_flow_line`,
+    :func:`~steamnet.solver.network.pump_weights`)."""
+    held = _held(net)
+    rows = []
+    for t, c in zip(net.turbines, co.turb):
+        if t["mode"] != "pump" or t["var"] in held:
+            continue
+        a0, a1 = pump_flow_line(t, c)
+        w = pump_weights(net, t["pump"], h)
+        terms = [(t["var"], 1.0)] + [(i, -a1 * wi) for i, wi in enumerate(w.tolist())
+                                     if wi != 0.0]
+        rows.append((terms, a0))
+    return rows
+
+
+def _held(net: Net) -> set:
+    """Flows in a swing group or absorbing in a sequence."""
+    held = {vi for hs in net.swing for g in hs.groups for vi in g.members}
+    held.update(vi for hs in net.swing for vi in hs.absorbers)
+    return held
 
 
 def exhaust_rows(net: Net):
@@ -164,17 +195,19 @@ def own_range(net: Net, vi: int) -> tuple[float, float]:
     return lo, math.inf if hi is None else hi
 
 
-def flow_bounds(net: Net, co: Coeffs, free: frozenset = frozenset()):
+def flow_bounds(net: Net, co: Coeffs, free: frozenset = frozenset(),
+                pumps: bool = False):
     """Bounds of every flow: its own limits, fixed flows fixed, fixed-power turbines at
     their power flow (held within their range: a power the range cannot give is a
     finding of its own), extraction-turbine throttle flows within their range, and
     the flows the balance holds at zero (boilers, transfers and let-downs that are
     neither fixed nor in a sequence). A flow in ``free`` takes its element's own range
-    (:func:`own_range`) instead, whatever its mode."""
+    (:func:`own_range`) instead, whatever its mode. Pump-driving turbines are held at
+    the flow of the coefficients ``co``, or with ``pumps`` (their flow a row of the
+    programme, :func:`pump_rows`) within their own range."""
     lo = np.array([v.lo for v in net.vars], dtype=float)
     hi = np.array([v.hi for v in net.vars], dtype=float)
-    held = {vi for hs in net.swing for g in hs.groups for vi in g.members}
-    held.update(vi for hs in net.swing for vi in hs.absorbers)
+    held = _held(net)
     for v in net.vars:
         if v.fixed is not None:
             lo[v.index] = hi[v.index] = v.fixed
@@ -184,7 +217,10 @@ def flow_bounds(net: Net, co: Coeffs, free: frozenset = frozenset()):
         if t["mode"] in ("fixed_power", "pump") and t["var"] not in held:
             it = t["item"]
             top = math.inf if it.max_flow is None else it.max_flow
-            lo[t["var"]] = hi[t["var"]] = min(max(c["flow"], it.min_flow), top)
+            if pumps and t["mode"] == "pump":
+                lo[t["var"]], hi[t["var"]] = it.min_flow, top
+            else:
+                lo[t["var"]] = hi[t["var"]] = min(max(c["flow"], it.min_flow), top)
     for t in net.xturbines:
         it, vi = t["item"], t["in_var"]
         if net.vars[vi].fixed is None:

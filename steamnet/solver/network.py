@@ -592,6 +592,15 @@ def pump_power(net: Net, supply: dict, h: list[float], x) -> float:
                                              pump_ratios(net, supply, h))
 
 
+def pump_flow_line(t: dict, c: dict) -> tuple[float, float]:
+    """(a0, a1) of a pump-driving turbine ``t`` (a Net entry) at its coefficients ``c``:
+    its steam flow is ``a0 + a1 * power`` of the pump it drives (its Willans line, or
+    power / (mechanical efficiency x enthalpy drop)) [kg/s], [kg/s per W]."""
+    if c["willans"]:
+        return c["m0"], c["k"]
+    return 0.0, 1.0 / (t["eta_mg"] * c["dh"])
+
+
 def pump_weights(net: Net, supply: dict, h: list[float]) -> np.ndarray:
     """The power of the pump of ``supply`` per kg/s of every flow at the header
     enthalpies ``h``: :func:`pump_power` is ``pump_weights(...) @ x`` [W per kg/s]."""

@@ -449,7 +449,7 @@ def _rounds(control: CaseResult, net, free, *, first_mass: bool, tol: float,
 def _own_bounds(net, co, free):
     """The flows' ranges as the programme holds them (without a trust region)."""
     from ..solver.linear import flow_bounds
-    return flow_bounds(net, co, free)
+    return flow_bounds(net, co, free, pumps=True)
 
 
 def optimise_result(control: CaseResult, *, tol: float = DISPATCH_TOL,
