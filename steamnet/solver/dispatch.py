@@ -131,54 +131,69 @@ def supplied_header(net: Net, vi: int) -> tuple[str, int] | None:
     return None
 
 
-def cost_terms(net: Net, co: Coeffs):
-    """The linear parts of the operating cost at the coefficients ``co``: the cost per
-    kg/s of each flow besides its power [currency/s per kg/s], and the net electric
-    power (generators less pumps) as terms per kg/s and a constant [W per kg/s], [W].
-    ``cost = c @ x - value(power @ x + p0)`` (:func:`steamnet.solver.results.case_cost`)."""
+def cost_parts(net: Net, co: Coeffs) -> dict:
+    """The linear parts of the operating cost at the coefficients ``co``, apart: per
+    kg/s of each flow, ``fuel`` (at the fuel price), ``carbon`` (the fuel's CO2),
+    ``water`` (make-up and external water) and ``trade`` (imported less exported
+    steam) [currency/s per kg/s]; the electric power of the generators ``power_gen``
+    and of the motor-driven pumps ``power_pump`` (drawn: negative) [W per kg/s]; and
+    the constant of the generators' power ``p0`` [W]. :func:`cost_terms` adds them up."""
     model = net.model
     pr = model.prices
     n = len(net.vars)
-    c = np.zeros(n)
-    pw = np.zeros(n)
+    fuel, carbon, water, trade = (np.zeros(n) for _ in range(4))
+    gen, pump = np.zeros(n), np.zeros(n)
     p0 = 0.0
     for b in net.boilers:
-        fuel = _boiler(b, 1.0).fuel                 # linear in the steam, no intercept
+        f = _boiler(b, 1.0).fuel                    # linear in the steam, no intercept
         ef = b["item"].emission_factor or 0.0
-        c[b["var"]] += fuel * (b["fuel_price"] + ef * pr.carbon)
+        fuel[b["var"]] += f * b["fuel_price"]
+        carbon[b["var"]] += f * ef * pr.carbon
         fw = 1.0 / (1.0 - b["bd"])
         if "pump_turbine" not in b["supply"]:    # a steam-driven pump draws no power
-            pw[b["var"]] -= fw * b["supply"]["pump_work"]
+            pump[b["var"]] -= fw * b["supply"]["pump_work"]
         if not b["supply"]["from_da"]:
-            c[b["var"]] += fw * pr.makeup_water
+            water[b["var"]] += fw * pr.makeup_water
     for s, k in zip(net.letdowns, co.ld):
         ds = s["ds"]
         if ds is None or not k["r"] > 0:
             continue
         if "pump_turbine" not in ds["supply"]:
-            pw[s["var"]] -= k["r"] * ds["supply"]["pump_work"]
+            pump[s["var"]] -= k["r"] * ds["supply"]["pump_work"]
         if not ds["supply"]["from_da"]:
-            c[s["var"]] += k["r"] * pr.makeup_water
+            water[s["var"]] += k["r"] * pr.makeup_water
     if net.deaerator is not None:
-        c[net.deaerator["makeup_var"]] += pr.makeup_water
+        water[net.deaerator["makeup_var"]] += pr.makeup_water
     for t in net.transfers:
-        c[t["var"]] += t["price"] if t["dir"] == "import" else -t["price"]
+        trade[t["var"]] += t["price"] if t["dir"] == "import" else -t["price"]
     for t, k in zip(net.turbines, co.turb):
         if t["item"].drive != "generator":
             continue
         if k["willans"]:           # output (m - m0) / k above the no-load steam
-            pw[t["var"]] += 1.0 / k["k"]
+            gen[t["var"]] += 1.0 / k["k"]
             p0 -= k["m0"] / k["k"]
         else:
-            pw[t["var"]] += k["dh"] * t["eta_mg"]
+            gen[t["var"]] += k["dh"] * t["eta_mg"]
     for t, k in zip(net.xturbines, co.xturb):
         if t["item"].drive != "generator":
             continue
         dh = k["dh"]
-        pw[t["in_var"]] += sum(dh) * t["eta_mg"]
+        gen[t["in_var"]] += sum(dh) * t["eta_mg"]
         for i, e in enumerate(t["exts"]):
-            pw[e["var"]] -= sum(dh[i + 1:]) * t["eta_mg"]
-    return c, pw, p0
+            gen[e["var"]] -= sum(dh[i + 1:]) * t["eta_mg"]
+    return {"fuel": fuel, "carbon": carbon, "water": water, "trade": trade,
+            "power_gen": gen, "power_pump": pump, "p0": p0}
+
+
+def cost_terms(net: Net, co: Coeffs):
+    """The linear parts of the operating cost at the coefficients ``co``: the cost per
+    kg/s of each flow besides its power [currency/s per kg/s], and the net electric
+    power (generators less pumps) as terms per kg/s and a constant [W per kg/s], [W].
+    ``cost = c @ x - value(power @ x + p0)`` (:func:`steamnet.solver.results.case_cost`;
+    the parts apart: :func:`cost_parts`)."""
+    p = cost_parts(net, co)
+    return (p["fuel"] + p["carbon"] + p["water"] + p["trade"],
+            p["power_gen"] + p["power_pump"], p["p0"])
 
 
 def _label(net: Net, vi: int) -> str:
@@ -200,6 +215,97 @@ def _bound_name(net: Net, vi: int, upper: bool, spray_capped) -> str:
         return spray_capped[vi]
     lo, hi = _LIMIT_WORDS.get(v.kind, ("min_flow", "max_flow"))
     return hi if upper else lo
+
+
+@dataclass
+class Programme:
+    """One programme of the balance at fixed enthalpies, in the form of
+    :func:`steamnet.solver.lp.solve_lp`. Columns: the flows (``n``), then, with the
+    site's power demand, the power used at the site and the power sold (in MW), then
+    one on/off column per boiler that may stop (from ``col_on``). Rows: the header
+    rows first (``net.headers`` order), then the equality rows given, then the power
+    row; inequality rows as given, then two per boiler that may stop. ``cost`` is per
+    second of the scaled columns (``x = res.x * scale``), ``const`` the cost's
+    constant [currency/s]."""
+
+    cost: np.ndarray
+    const: float
+    a_eq: np.ndarray
+    b_eq: list
+    a_ub: np.ndarray | None
+    b_ub: list
+    lo: np.ndarray
+    hi: np.ndarray
+    scale: np.ndarray
+    n: int
+    nc: int
+    col_on: int
+
+
+def assemble(net: Net, co: Coeffs, h: list[float], lo: np.ndarray, hi: np.ndarray,
+             eq: list, rows_ub: list, b_ub: list, *, energy: bool = True,
+             stoppable: list = ()) -> Programme:
+    """The programme of least operating cost (:func:`cost_terms`, the power valued as
+    :func:`steamnet.solver.results.case_cost` values it) over the flows within ``lo``
+    and ``hi`` [kg/s], subject to the header rows (:func:`~steamnet.solver.linear.
+    duty_header_rows`, or with ``energy`` False the mass rows), the equality rows
+    ``eq`` and the inequality rows ``rows_ub``, ``b_ub`` (``(terms, rhs)``; the lists
+    are extended), and for each boiler of ``stoppable`` its on/off column."""
+    model = net.model
+    pr, site = model.prices, model.site
+    n = len(net.vars)
+    c, pw, p0 = cost_terms(net, co)
+    hrows, users = (duty_header_rows(net, co, h) if energy else header_rows(net, co))
+    # columns: flows (n), then power at the site (own use, sold) with a power demand,
+    # then one on/off column per boiler that may stop
+    demand = site.power_demand
+    p_el = pr.electricity
+    p_exp = p_el if pr.electricity_export is None else pr.electricity_export
+    n_pw = 2 if demand is not None else 0
+    col_on = n + n_pw
+    nc = col_on + len(stoppable)
+    cost = np.zeros(nc)
+    cost[:n] = c
+    const = 0.0
+    rows_eq = [list(t) for t in hrows] + [t for t, _ in eq]
+    b_eq = list(users) + [r for _, r in eq]
+    if demand is None:
+        cost[:n] -= p_el * pw
+        const -= p_el * p0
+    else:
+        cost[n], cost[n + 1] = -p_el, -p_exp
+        rows_eq.append([(n, 1.0), (n + 1, 1.0)] + [(vi, -w) for vi, w in enumerate(pw)
+                                                     if w != 0.0])
+        b_eq.append(p0)
+    lo_all = np.concatenate([lo, np.zeros(nc - n)])
+    hi_all = np.concatenate([hi, np.full(nc - n, math.inf)])
+    if demand is not None:
+        lo_all[n], hi_all[n] = -math.inf, demand
+        if site.max_power_export is not None:
+            hi_all[n + 1] = site.max_power_export
+    for j, b in enumerate(stoppable):
+        vi, col = b["var"], col_on + j
+        rows_ub.append([(vi, 1.0), (col, -hi[vi])])      # steam <= max x on
+        b_ub.append(0.0)
+        rows_ub.append([(vi, -1.0), (col, lo[vi])])      # steam >= min x on
+        b_ub.append(0.0)
+        lo_all[vi] = 0.0
+        hi_all[col] = 1.0
+    # power in MW and cost per hour: coefficients of the size of the flows'
+    scale = np.ones(nc)
+    if demand is not None:
+        scale[n:n + 2] = 1e6
+    a_eq = dense_rows(rows_eq, nc)
+    a_ub = dense_rows(rows_ub, nc) if rows_ub else None
+    if demand is not None:
+        # the power columns and the power row in MW
+        a_eq[:, n:n + 2] *= 1e6
+        a_eq[-1] *= 1e-6
+        b_eq[-1] = p0 / 1e6
+        cost = cost * scale
+        lo_all, hi_all = lo_all / scale, hi_all / scale
+    return Programme(cost, const, a_eq, b_eq, a_ub, b_ub, lo_all, hi_all, scale, n, nc,
+                     col_on)
 
 
 def solve_dispatch(net: Net, co: Coeffs, h: list[float], *,
@@ -245,60 +351,16 @@ def solve_dispatch(net: Net, co: Coeffs, h: list[float], *,
             if vi not in skip:
                 lo[vi] = min(max(lo[vi], xc[vi] - radius), hi[vi])
                 hi[vi] = max(min(hi[vi], xc[vi] + radius), lo[vi])
-    c, pw, p0 = cost_terms(net, co)
-    hrows, users = (duty_header_rows(net, co, h) if energy else header_rows(net, co))
     eq = equality_rows(net, co, h, shares=False, free=free, pumps=True)
     ex = exhaust_rows(net)
-    # columns: flows (n), then power at the site (own use, sold) with a power demand,
-    # then one on/off column per boiler that may stop
-    demand = site.power_demand
-    p_el = pr.electricity
-    p_exp = p_el if pr.electricity_export is None else pr.electricity_export
-    n_pw = 2 if demand is not None else 0
-    col_on = n + n_pw
-    nc = col_on + len(stoppable)
-    cost = np.zeros(nc)
-    cost[:n] = c
-    const = 0.0
-    rows_eq = [list(t) for t in hrows] + [t for t, _ in eq]
-    b_eq = list(users) + [r for _, r in eq]
-    if demand is None:
-        cost[:n] -= p_el * pw
-        const -= p_el * p0
-    else:
-        cost[n], cost[n + 1] = -p_el, -p_exp
-        rows_eq.append([(n, 1.0), (n + 1, 1.0)] + [(vi, -w) for vi, w in enumerate(pw)
-                                                     if w != 0.0])
-        b_eq.append(p0)
     rows_ub, b_ub = exhaust_inequalities(net)
-    lo_all = np.concatenate([lo, np.zeros(nc - n)])
-    hi_all = np.concatenate([hi, np.full(nc - n, math.inf)])
-    if demand is not None:
-        lo_all[n], hi_all[n] = -math.inf, demand
-        if site.max_power_export is not None:
-            hi_all[n + 1] = site.max_power_export
-    for j, b in enumerate(stoppable):
-        vi, col = b["var"], col_on + j
-        rows_ub.append([(vi, 1.0), (col, -hi[vi])])      # steam <= max x on
-        b_ub.append(0.0)
-        rows_ub.append([(vi, -1.0), (col, lo[vi])])      # steam >= min x on
-        b_ub.append(0.0)
-        lo_all[vi] = 0.0
-        hi_all[col] = 1.0
-    # power in MW and cost per hour: coefficients of the size of the flows'
-    scale = np.ones(nc)
-    if demand is not None:
-        scale[n:n + 2] = 1e6
-    a_eq = dense_rows(rows_eq, nc)
-    a_ub = dense_rows(rows_ub, nc) if rows_ub else None
+    pg = assemble(net, co, h, lo, hi, eq, rows_ub, b_ub, energy=energy,
+                  stoppable=stoppable)
+    cost, const, a_eq, a_ub, b_eq, b_ub = pg.cost, pg.const, pg.a_eq, pg.a_ub, \
+        pg.b_eq, pg.b_ub
+    lo_all, hi_all, scale, nc, col_on = pg.lo, pg.hi, pg.scale, pg.nc, pg.col_on
+    demand = site.power_demand
     hours = 3600.0
-    if demand is not None:
-        # the power columns and the power row in MW
-        a_eq[:, n:n + 2] *= 1e6
-        a_eq[-1] *= 1e-6
-        b_eq[-1] = p0 / 1e6
-        cost = cost * scale
-        lo_all, hi_all = lo_all / scale, hi_all / scale
     bounds = list(zip(_none(lo_all), _none(hi_all)))
     if lo_all.size and (lo_all > hi_all + 1e-12).any():
         return _infeasible(net, co, h, free, lo, hi, "a flow's range is empty",

@@ -91,11 +91,12 @@ def duty_header_rows(net: Net, co: Coeffs, h: list[float]):
     return rows, const
 
 
-def equality_rows(net: Net, co: Coeffs, h: list[float], *, shares: bool = True,
+def equality_rows(net: Net, co: Coeffs, h: list[float], *, shares=True,
                   free: frozenset = frozenset(), pumps: bool = False):
     """Equality rows ``(terms, rhs)`` besides the header balances: the deaerator's mass
     and energy rows (the energy row over :data:`ENERGY_SCALE`; these two first, when
-    there is a deaerator), the shares of the swing groups (with ``shares``), the
+    there is a deaerator), the shares of the swing groups (with ``shares`` True; a
+    list of groups: of those only), the
     fixed-power extraction turbines at their shaft power (those whose throttle flow is
     not in ``free``), and with ``pumps`` each pump-driving turbine's flow as its pump
     needs it for the water the flows pump (:func:`pump_rows`; give
@@ -106,11 +107,11 @@ def equality_rows(net: Net, co: Coeffs, h: list[float], *, shares: bool = True,
         eq.append((mass, r_mass))
         eq.append(([(vi, c / ENERGY_SCALE) for vi, c in energy], r_energy / ENERGY_SCALE))
     if shares:
-        for hs in net.swing:
-            for g in hs.groups:
-                first = g.members[0]
-                for vi, w in zip(g.members[1:], g.weights[1:]):
-                    eq.append(([(vi, 1.0), (first, -w / g.weights[0])], 0.0))
+        groups = [g for hs in net.swing for g in hs.groups] if shares is True else shares
+        for g in groups:
+            first = g.members[0]
+            for vi, w in zip(g.members[1:], g.weights[1:]):
+                eq.append(([(vi, 1.0), (first, -w / g.weights[0])], 0.0))
     for t, c in zip(net.xturbines, co.xturb):
         if t["mode"] == "fixed_power" and t["in_var"] not in free:
             dh, rhs = power_row(t, c)

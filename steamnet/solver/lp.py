@@ -98,6 +98,18 @@ class LPResult:
         that bound).
     mip_gap : float
         Relative gap of a mixed-integer programme (0 for a linear one).
+    eq_up : numpy.ndarray or None
+        With ``ranging``: per equality row, the right-hand side up to which the
+        optimal basis holds, so the duals stay as they are (HiGHS's row bound ranging;
+        infinite where no limit ends it).
+    eq_up_leaving : list or None
+        With ``ranging``: per equality row, what reaches its bound there: ``("col",
+        j)`` a column, ``("ub", i)`` an inequality row, ``("eq", i)`` an equality
+        row, None for none.
+    eq_response : dict or None
+        With ``respond``: equality row -> the change of every column per unit added
+        to its right-hand side, at the optimal basis (zero for the columns outside
+        the basis, which stay at their bounds).
     """
 
     status: int
@@ -109,6 +121,9 @@ class LPResult:
     lower: Marginals | None = None
     upper: Marginals | None = None
     mip_gap: float = 0.0
+    eq_up: np.ndarray | None = None
+    eq_up_leaving: list | None = None
+    eq_response: dict | None = None
 
 
 def _rows(a, n: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -136,11 +151,15 @@ def _bounds(bounds, n: int) -> tuple[np.ndarray, np.ndarray]:
 
 
 def solve_lp(c, A_ub=None, b_ub=None, A_eq=None, b_eq=None, bounds=None, *,
-             lo=None, hi=None, integrality=None) -> LPResult:
+             lo=None, hi=None, integrality=None, ranging: bool = False,
+             respond=None) -> LPResult:
     """Minimise ``c @ x`` subject to ``A_ub @ x <= b_ub``, ``A_eq @ x == b_eq`` and the
     bounds (a list of ``(low, high)`` pairs, None for no bound, as for
     ``scipy.optimize.linprog``; or the arrays ``lo`` and ``hi``, infinite for none).
-    ``integrality`` (1 for an integer column) makes it a mixed-integer programme."""
+    ``integrality`` (1 for an integer column) makes it a mixed-integer programme;
+    ``ranging`` asks a linear one how far each equality row's right-hand side may rise
+    with the same basis (``eq_up``, ``eq_up_leaving``); ``respond`` (equality rows)
+    how the columns answer a rise of each one's right-hand side (``eq_response``)."""
     import highspy
     c = np.asarray(c, dtype=float)
     n = c.size
@@ -200,4 +219,48 @@ def solve_lp(c, A_ub=None, b_ub=None, A_eq=None, b_eq=None, bounds=None, *,
         res.eqlin = Marginals(row[m_ub:])
         res.lower = Marginals(np.where(at_lo, col, 0.0))
         res.upper = Marginals(np.where(at_hi, col, 0.0))
+        if ranging:
+            _ranging(h, res, n, m_ub, beq, inf)
+        if respond is not None:
+            res.eq_response = _responses(h, n, m_ub, len(starts) - 1, respond)
     return res
+
+
+def _responses(h, n: int, m_ub: int, m: int, rows) -> dict:
+    """Per equality row of ``rows``: the columns' change per unit rise of its
+    right-hand side, B^-1 e_row at the optimal basis (HiGHS's basic variables: a
+    column's index, or -1 - row for a row's own variable)."""
+    _, basic = h.getBasicVariables()
+    cols = np.asarray(basic) >= 0
+    out = {}
+    for i in rows:
+        e = np.zeros(m)
+        e[m_ub + i] = 1.0
+        _, d = h.getBasisSolve(e)
+        dx = np.zeros(n)
+        dx[np.asarray(basic)[cols]] = np.asarray(d)[cols]
+        out[i] = dx
+    return out
+
+
+def _ranging(h, res: LPResult, n: int, m_ub: int, beq: np.ndarray, inf: float) -> None:
+    """HiGHS's ranging of the equality rows' right-hand sides upward, into ``res``.
+    HiGHS numbers what leaves the basis: columns first, then the rows."""
+    status, rng = h.getRanging()
+    m_eq = beq.size
+    if not getattr(rng, "valid", True) or str(status) != "HighsStatus.kOk":
+        res.eq_up, res.eq_up_leaving = np.full(m_eq, np.nan), [None] * m_eq
+        return
+    up = np.array(rng.row_bound_up.value_, dtype=float)[m_ub:]
+    res.eq_up = np.where(np.abs(up) >= inf, np.inf, up)
+    out = []
+    for k in list(rng.row_bound_up.ou_var_)[m_ub:]:
+        if k < 0:
+            out.append(None)
+        elif k < n:
+            out.append(("col", int(k)))
+        elif k - n < m_ub:
+            out.append(("ub", int(k - n)))
+        else:
+            out.append(("eq", int(k - n - m_ub)))
+    res.eq_up_leaving = out

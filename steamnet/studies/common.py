@@ -125,13 +125,15 @@ OPTIONS = {"header": "option --header", "demand": "option --demand",
            "condensate_temperature": "option --return-temperature"}
 
 
-def solve(model: Model, start: dict | None = None, *, probe: bool = False) -> CaseResult:
+def solve(model: Model, start: dict | None = None, *, probe: bool = False,
+          tables: bool = True) -> CaseResult:
     """One balance of ``model`` as it stands (already validated), without the stream
     table; ``start`` is a warm start from :func:`warm`. A ``probe`` of a search (it
     only needs to know whether the case balances, and which header ends it) leaves out
     the imbalance under the control sequences and the result tables (its findings are
-    read from the solution)."""
-    return solve_case(model, start=start, streams=False, tables=not probe,
+    read from the solution); without ``tables`` only the result tables are left out
+    (a study that reads the summary, the water balance and the solution)."""
+    return solve_case(model, start=start, streams=False, tables=tables and not probe,
                       sequence_shortfall=not probe)
 
 
