@@ -205,3 +205,25 @@ def test_help_documents_the_exit_codes():
                     "marginal", "cases"):
         r = _run(command, "--help")
         assert "Exit codes:" in r.stdout, command
+
+
+@pytest.mark.parametrize("demand,code", [("2 t/h", 0), ("5.5 t/h", 1)])
+def test_report_with_a_new_user_exits_on_what_the_addition_changes(tmp_path, demand,
+                                                                   code):
+    """On a plant whose checks all pass, `report --new-user` exits 1 when the addition
+    makes a check fail (5.5 t/h on LP opens PRV1 below its desuperheater's rated
+    minimum: the headroom test above puts the start at 30 - 25 = 5 t/h), as `add-user`
+    does, and 0 when it does not; the line before the verdict says what the addition
+    changes."""
+    p = tmp_path / "trickle.toml"
+    p.write_text(TRICKLE)
+    r = _run("report", p, "--out", tmp_path / "r.xlsx", "--studies", "none",
+             "--new-user", f"LP={demand}")
+    a = _run("add-user", p, "--header", "LP", "--demand", demand)
+    assert (r.returncode, a.returncode) == (code, code), r.stdout + r.stderr
+    last = r.stdout.strip().splitlines()
+    if code:
+        assert last[-2] == "the new user: 1 check(s) fail because of the addition"
+        assert last[-1] == "verdict: 1 check(s) fail because of the new user -> exit 1"
+    else:
+        assert last[-1].startswith("verdict: every case balances and no check fails")

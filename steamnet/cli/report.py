@@ -42,9 +42,10 @@ def report(ctx, model: str, out: str, csv_folder: str | None, cases: tuple[str, 
 
     \b
     Exit codes: 0 when every case balances and no check fails; 1 when a case is
-    infeasible, did not converge or could not be computed, or a check fails (the
-    workbook is still written and shows it); 2 for bad input; 3 when a file cannot be
-    written (the previous file is left as it was).
+    infeasible, did not converge or could not be computed, or a check fails, or the
+    --new-user addition leaves a case unbalanced or makes a check fail that passed
+    without it (the workbook is still written and shows it); 2 for bad input; 3 when a
+    file cannot be written (the previous file is left as it was).
     """
     from ..model.load import load_model
     from ..sweep import solve_cases
@@ -86,7 +87,7 @@ def report(ctx, model: str, out: str, csv_folder: str | None, cases: tuple[str, 
         click.echo(f"wrote {out} ({len(study.cases)} cases, {solved} balanced)")
         if csv_folder:
             click.echo(f"wrote the tables as CSV files into {csv_folder}")
-    finish_evaluation(ctx, study, ev)
+    finish_evaluation(ctx, study, ev, addition=studies.get("New consumer"))
 
 
 #: The options of ``report`` that give the new user's fields.

@@ -13,7 +13,8 @@ import click
 
 from ..errors import ModelError
 from . import EXIT_FAIL, EXIT_OK, main, parallel_options
-from .verdict import EXIT_CODES_HELP, finish, finish_evaluation, print_findings
+from .verdict import (EXIT_CODES_HELP, addition_effect, finish, finish_evaluation,
+                      print_findings)
 from .verdict import word as _word
 from ..status import CaseStatus
 
@@ -333,15 +334,8 @@ def add_user_command(ctx, model, header, demand, duty, ret, return_temperature, 
                               "duty": duty, "condensate_return": ret,
                               "condensate_temperature": return_temperature},
                      "rows": df}, quiet)
-    fd = df[df["section"] == "finding"]
-    made_fail = fd[(fd["verdict_with"] == "fail") & (fd["verdict_without"] != "fail")
-                   & (fd["quantity"] != "balance")]
-    cases_bad = df.drop_duplicates("case")
-    infeasible = [c for c, s0, s1 in zip(cases_bad["case"], cases_bad["status_without"],
-                                         cases_bad["status_with"])
-                  if s1 != CaseStatus.SOLVED]
-    finish(ctx, not_balanced=infeasible, fails=len(made_fail),
-           warns=int(((fd["verdict_with"] == "warn") & (fd["effect"] == "created")).sum()),
+    infeasible, made, warns = addition_effect(df)
+    finish(ctx, not_balanced=infeasible, fails=made, warns=warns,
            what="because of the addition")
 
 

@@ -86,10 +86,39 @@ def finish(ctx, *, not_balanced: list[str], fails: int, warns: int = 0,
     ctx.exit(EXIT_FAIL if (not_balanced or fails) else EXIT_OK)
 
 
-def finish_evaluation(ctx, study, evaluation, what: str = "") -> None:
-    """:func:`finish` for a study and its evaluation."""
+def addition_effect(df) -> tuple[list[str], int, int]:
+    """What a new user changes, from the table of
+    :func:`steamnet.studies.consumer.new_consumer_impact`: the cases that do not balance
+    with it, the checks that fail with it and did not without it, and the warnings it
+    creates."""
+    from ..status import CaseStatus
+    if df is None or not len(df):
+        return [], 0, 0
+    fd = df[df["section"] == "finding"]
+    made_fail = fd[(fd["verdict_with"] == "fail") & (fd["verdict_without"] != "fail")
+                   & (fd["quantity"] != "balance")]
+    cases = df.drop_duplicates("case")
+    infeasible = [c for c, s1 in zip(cases["case"], cases["status_with"])
+                  if s1 != CaseStatus.SOLVED]
+    warns = int(((fd["verdict_with"] == "warn") & (fd["effect"] == "created")).sum())
+    return infeasible, len(made_fail), warns
+
+
+def finish_evaluation(ctx, study, evaluation, what: str = "", addition=None) -> None:
+    """:func:`finish` for a study and its evaluation; with ``addition`` (the table of a
+    new user's impact) also what the addition changes: a case it leaves unbalanced or a
+    check it makes fail is said on a line of its own and makes the exit code 1."""
     bad = [c.case for c in study.cases if not c.ok]
     f = evaluation.findings
     fails = int(((f["status"] == "fail") & (f["check"] != "balance")).sum()) \
         if len(f) else 0
+    if addition is not None:
+        inf, made, _ = addition_effect(addition)
+        if inf or made:
+            click.echo("the new user: " + verdict_line(
+                not_balanced=inf, fails=made, what="because of the addition"
+            ).removeprefix("verdict: ").removesuffix(" -> exit 1"))
+            if not (bad or fails):
+                finish(ctx, not_balanced=inf, fails=made, what="because of the new user")
+                return
     finish(ctx, not_balanced=bad, fails=fails, warns=evaluation.count("warn"), what=what)
