@@ -1,7 +1,7 @@
 """The fast basic equations of steamnet._if97fast against iapws's, and the property layer
 built on them against the same layer run on iapws's equations.
 
-iapws (an independent transcription of IAPWS R7-97(2012)) is the reference; the
+iapws (an independent implementation of IAPWS R7-97(2012)) is the reference; the
 verification tables of the release are checked in test_properties.py.
 
 Tolerance: 1e-12 relative. h and s pass through zero near the triple point (IF97 sets

@@ -6,7 +6,7 @@ Sources
   Thermodynamic Properties of Water and Steam: the computer-program verification tables
   named beside each check. The digits below were written down from the release (from
   memory) and then compared digit for digit with several independent public
-  transcriptions of the same tables; they are kept as strings so that the number of
+  copies of the same tables; they are kept as strings so that the number of
   printed digits, and so the comparison tolerance, is exact.
 * CoolProp's IF97 backend (``IF97::Water``), an independent implementation of the same
   formulation.
