@@ -559,14 +559,25 @@ def coefficients(net: Net, h: list[float], x: list[float] | None) -> Coeffs:
     return Coeffs(turb=turb, xturb=xturb, ld=ld, user_flow=uf, user_starved=starved)
 
 
+def supply_weights(net: Net, name: str, ratios) -> np.ndarray:
+    """Water drawn from supply ``name`` per kg/s of every flow: the feedwater of the
+    boilers it feeds, 1 / (1 - blowdown), and the spray of the let-downs it feeds
+    (``ratios``: every let-down's spray per unit steam, r, in ``net.letdowns`` order)
+    [-]."""
+    w = np.zeros(len(net.vars))
+    for b in net.boilers:
+        if b["supply"]["name"] == name:
+            w[b["var"]] += 1 / (1 - b["bd"])
+    for s, r in zip(net.letdowns, ratios):
+        if s["ds"] is not None and s["ds"]["supply"]["name"] == name:
+            w[s["var"]] += r
+    return w
+
+
 def supply_flow(net: Net, name: str, x, ratios) -> float:
-    """Water drawn from supply ``name`` at the flows ``x`` [kg/s]: the feedwater of the
-    boilers it feeds and the spray of the let-downs it feeds (``ratios``: every
-    let-down's spray per unit steam, r, in ``net.letdowns`` order)."""
-    m = sum(x[b["var"]] / (1 - b["bd"]) for b in net.boilers if b["supply"]["name"] == name)
-    m += sum(x[s["var"]] * r for s, r in zip(net.letdowns, ratios)
-             if s["ds"] is not None and s["ds"]["supply"]["name"] == name)
-    return m
+    """Water drawn from supply ``name`` at the flows ``x`` [kg/s]
+    (:func:`supply_weights`)."""
+    return float(supply_weights(net, name, ratios) @ np.asarray(x, dtype=float))
 
 
 def pump_ratios(net: Net, supply: dict, h: list[float]) -> list[float]:
@@ -604,16 +615,8 @@ def pump_flow_line(t: dict, c: dict) -> tuple[float, float]:
 def pump_weights(net: Net, supply: dict, h: list[float]) -> np.ndarray:
     """The power of the pump of ``supply`` per kg/s of every flow at the header
     enthalpies ``h``: :func:`pump_power` is ``pump_weights(...) @ x`` [W per kg/s]."""
-    w = np.zeros(len(net.vars))
-    ratios = pump_ratios(net, supply, h)
-    name = supply["name"]
-    for b in net.boilers:
-        if b["supply"]["name"] == name:
-            w[b["var"]] += 1 / (1 - b["bd"])
-    for s, r in zip(net.letdowns, ratios):
-        if s["ds"] is not None and s["ds"]["supply"]["name"] == name:
-            w[s["var"]] += r
-    return supply["pump_work"] * w
+    return supply["pump_work"] * supply_weights(net, supply["name"],
+                                                pump_ratios(net, supply, h))
 
 
 # ------------------------------------------------------------------ header inflows
