@@ -30,7 +30,7 @@ import numpy as np
 
 from .balance import Solution, _extraction_bounds
 from .dispatch import _label, assemble, cost_parts
-from .linear import equality_rows, exhaust_rows
+from .linear import equality_rows, exhaust_rows, own_range
 from .lp import solve_lp
 from .results import _boiler
 
@@ -97,14 +97,10 @@ def moving_flows(sol: Solution) -> tuple[dict, list]:
             free[net.deaerator[key]] = (0.0, math.inf)
     for t in net.xturbines:
         if t["mode"] == "fixed_power":
-            it = t["item"]
-            free[t["in_var"]] = (it.min_flow, math.inf if it.max_flow is None
-                                 else it.max_flow)
+            free[t["in_var"]] = own_range(net, t["in_var"])
     for t in net.turbines:      # its flow follows the water its pump delivers (a row)
         if t["mode"] == "pump":
-            it = t["item"]
-            free[t["var"]] = (it.min_flow, math.inf if it.max_flow is None
-                              else it.max_flow)
+            free[t["var"]] = own_range(net, t["var"])
     return free, groups
 
 

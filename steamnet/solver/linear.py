@@ -219,7 +219,7 @@ def flow_bounds(net: Net, co: Coeffs, free: frozenset = frozenset(),
             it = t["item"]
             top = math.inf if it.max_flow is None else it.max_flow
             if pumps and t["mode"] == "pump":
-                lo[t["var"]], hi[t["var"]] = it.min_flow, top
+                lo[t["var"]], hi[t["var"]] = own_range(net, t["var"])
             else:
                 lo[t["var"]] = hi[t["var"]] = min(max(c["flow"], it.min_flow), top)
     for t in net.xturbines:
