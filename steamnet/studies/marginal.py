@@ -215,8 +215,9 @@ def _choose(row: dict, fd: float, fd_parts: dict, dual_parts: dict | None, why: 
                 f"the step (until {row['dual_limit'] or 'a limit'}): a change of "
                 "operating mode within the step")
     elif not agree(row["dual_marginal_cost_per_t"], fd):
-        note = (f"the dual differs from the finite difference by "
-                f"{100 * (row['dual_marginal_cost_per_t'] / fd - 1):+.2g} %: the step "
+        diff = row["dual_marginal_cost_per_t"] - fd
+        by = f"{100 * diff / fd:+.2g} %" if fd else f"{diff:+.3g} per t"
+        note = (f"the dual differs from the finite difference by {by}: the step "
                 "moves the header enthalpies, which the dual holds")
     else:
         method, figure, parts, note = DUAL, row["dual_marginal_cost_per_t"], dual_parts, ""
