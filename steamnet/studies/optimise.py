@@ -371,7 +371,8 @@ def _rounds(control: CaseResult, net, free, *, first_mass: bool, tol: float,
     when the re-solved balance costs less than the last accepted one; a rejected round
     shrinks the trust region around the accepted dispatch to a quarter of its move.
     Settled when the programme moves the dispatch by less than ``tol``, the trust
-    region is smaller than that, or :data:`MAX_REJECTED` rounds in a row were rejected. With ``first_mass`` the first programme holds the
+    region is smaller than that, or :data:`MAX_REJECTED` rounds in a row were rejected.
+    With ``first_mass`` the first programme holds the
     duty users' flows (a longer first step, see :func:`optimise_result`). With
     ``start`` (moved flows by kind and name, the optimum of a similar case) that
     dispatch, balanced for this case, is the first accepted point when it costs less
@@ -383,6 +384,14 @@ def _rounds(control: CaseResult, net, free, *, first_mass: bool, tol: float,
     best = _cost(control) if control.status == CaseStatus.SOLVED else math.inf
     order = sorted(free)
     radius = math.inf
+    caps_at: dict = {}          # the station caps of the enthalpies met (a rejected
+                                # round leaves them as they were)
+
+    def caps(h_now):
+        key = tuple(h_now)
+        if key not in caps_at:
+            caps_at[key] = station_caps(net, h_now)
+        return caps_at[key]
     rejected = 0
     run = _Run()
     if start is not None:
@@ -400,7 +409,7 @@ def _rounds(control: CaseResult, net, free, *, first_mass: bool, tol: float,
     for run.rounds in range(1, max_rounds + 1):
         around = None if math.isinf(radius) else (x, radius)
         lp = solve_dispatch(net, co, h, energy=not (first_mass and run.rounds == 1),
-                            around=around, caps=station_caps(net, h))
+                            around=around, caps=caps(h))
         if lp.status != "optimal":
             if around is None and run.res is None:
                 run.failed = CaseOptimum(control.case, lp.status if lp.status ==
@@ -436,7 +445,7 @@ def _rounds(control: CaseResult, net, free, *, first_mass: bool, tol: float,
     if run.lp is None or run.res is None or run.move >= tol:
         # settled by a shrunk trust region (or nothing lowered the cost): the
         # programme held around the accepted dispatch gives its duals and limits
-        run.lp = solve_dispatch(net, co, h, around=(x, tol), caps=station_caps(net, h))
+        run.lp = solve_dispatch(net, co, h, around=(x, tol), caps=caps(h))
         if run.lp.status == "optimal":
             run.move = float(np.abs(run.lp.x[order] - x[order]).max(initial=0.0))
     if run.res is None:
