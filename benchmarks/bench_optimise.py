@@ -58,7 +58,8 @@ def run_one(what: str, hours: int, workers: int) -> dict:
         from steamnet.studies import optimise as opt
         counts = {"lp": 0, "balance": 0}
         if workers == 1:                     # counted in this process only
-            lp, rs = opt.solve_dispatch, opt._resolve
+            # programmes solved, and fixed-dispatch balances (trial ones too)
+            lp, rs = opt.solve_prepared, opt.solve_model
 
             def count_lp(*a, **k):
                 counts["lp"] += 1
@@ -67,7 +68,7 @@ def run_one(what: str, hours: int, workers: int) -> dict:
             def count_rs(*a, **k):
                 counts["balance"] += 1
                 return rs(*a, **k)
-            opt.solve_dispatch, opt._resolve = count_lp, count_rs
+            opt.solve_prepared, opt.solve_model = count_lp, count_rs
         res = steamnet.optimise(model, cs, workers=workers)
         y = res.year
         out.update({"optimal_hours": y["optimal_hours"], "saving": y["saving"],

@@ -190,17 +190,21 @@ def solve_case(model: Model, case: str | None = None, *, start: dict | None = No
 def solve_model(m: Model, name: str, *, start: dict | None = None, tables: bool = True,
                 streams: bool = True, max_iter: int = 200,
                 tol_h: float | None = None, like=None,
-                reference: bool = False, sequence_shortfall: bool = True) -> CaseResult:
+                reference: bool = False, sequence_shortfall: bool = True,
+                tol_x: float | None = None) -> CaseResult:
     """Solve an already validated model (one case) under the case name ``name``.
 
     ``like`` is the Net of a similar case (the previous one of a sweep), from which the
     Net of this one is made with less work (:func:`steamnet.solver.network.build`);
-    ``reference`` selects the reference assembly (see :func:`solve_case`).
+    ``reference`` selects the reference assembly (see :func:`solve_case`); ``tol_h``
+    and ``tol_x`` are :func:`steamnet.solver.balance.solve_net`'s (its defaults when
+    None).
     """
     from .errors import PropertyRangeError
     try:
         net = build(m, like=None if reference else like)
         sol = solve_net(net, start=start, max_iter=max_iter, tol_h=tol_h,
+                        **({} if tol_x is None else {"tol_x": tol_x}),
                         reference=reference, sequence_shortfall=sequence_shortfall)
     except ItemPropertyError as exc:
         return CaseResult.failed(name, CaseStatus.ERROR, f"outside IAPWS-IF97: {exc}")

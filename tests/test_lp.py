@@ -90,3 +90,40 @@ def test_no_banner_on_standard_output():
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
                          check=True).stdout
     assert out.strip() == "x 1.0"
+
+
+@pytest.mark.parametrize("seed", range(10))
+def test_solve_bounds_as_a_new_linprog(seed):
+    """A programme kept in HiGHS and solved again with tighter bounds (from its last
+    basis) gives what scipy.optimize.linprog gives for those bounds, solved anew."""
+    from steamnet.solver.lp import solve_bounds
+    c, a_ub, b_ub, a_eq, b_eq, bounds = _random_lp(seed)
+    first = solve_lp(c, A_ub=a_ub, b_ub=b_ub, A_eq=a_eq, b_eq=b_eq, bounds=bounds,
+                     keep=True)
+    assert first.status == OPTIMAL and first.kept is not None
+    # a box around the middle of the optimum and the programme's inner point x0 holds
+    # a feasible point (the middle itself), and the optimum moves inside it
+    rng = np.random.default_rng(seed)
+    n = rng.integers(3, 9)
+    rng.integers(1, 5), rng.integers(1, 3)
+    x0 = rng.uniform(1, 5, n)                    # as _random_lp draws it
+    mid = (first.x + x0) / 2
+    lo, hi = np.clip(mid - 0.3, 0.0, 10.0), np.clip(mid + 0.3, 0.0, 10.0)
+    again = solve_bounds(first.kept, lo, hi)
+    ref = linprog(c, A_ub=a_ub, b_ub=b_ub, A_eq=a_eq, b_eq=b_eq,
+                  bounds=list(zip(lo, hi)), method="highs")
+    assert again is not None
+    assert ref.status == 0 and again.status == OPTIMAL
+    assert again.fun > first.fun + 1e-6              # the bounds moved the optimum
+    assert again.fun == pytest.approx(ref.fun, rel=1e-9, abs=1e-9)
+    assert np.allclose(again.eqlin.marginals, ref.eqlin.marginals, atol=1e-7)
+    assert (again.x >= lo - 1e-9).all() and (again.x <= hi + 1e-9).all()
+
+
+def test_solve_bounds_after_another_programme_asks_for_a_new_solve():
+    from steamnet.solver.lp import solve_bounds
+    c, a_ub, b_ub, a_eq, b_eq, bounds = _random_lp(3)
+    first = solve_lp(c, A_ub=a_ub, b_ub=b_ub, A_eq=a_eq, b_eq=b_eq, bounds=bounds,
+                     keep=True)
+    solve_lp([1.0], bounds=[(1.0, 2.0)])          # HiGHS now holds another programme
+    assert solve_bounds(first.kept, np.zeros(c.size), np.full(c.size, 10.0)) is None

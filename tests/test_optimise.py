@@ -515,3 +515,44 @@ def test_cost_parts_add_up_with_carbon_and_export_above_the_site_demand():
              + s["import_cost_per_h"] + s["power_bought_per_h"]
              - s["export_credit_per_h"] - s["power_credit_per_h"])
     assert s["cost_per_h"] == pytest.approx(parts, rel=1e-12)
+
+
+def test_trial_balances_and_quick_models_leave_the_answers_as_they_were(monkeypatch):
+    """The speed paths of the rounds (docs/performance.md, "Fourth round") against the
+    plain method on the demo's first 30 hours: a round's balance solved only in full
+    (no trial at looser tolerances) and every fixed-dispatch model made and validated
+    by Model.with_changes gives the same table, exactly; and the fast paths were
+    taken (rounds rejected on their trial, models made from items validated before)."""
+    from conftest import DEMO, ROOT
+    from steamnet.model.load import load_model
+    from steamnet.studies import optimise as opt
+    from steamnet.studies import read_case_table
+    m = load_model(DEMO)
+    cs = read_case_table(ROOT / "cases" / "orlewick_hourly.csv", m, base="winter")
+    cs = cs.select(list(cs)[:30])
+    taken = {"rejected on trial": 0, "quick models": 0}
+    resolve, quick = opt._resolve, opt.DispatchModels._with_flows
+
+    def counting_resolve(*a, **k):
+        r = resolve(*a, **k)
+        taken["rejected on trial"] += r is None
+        return r
+
+    def counting_quick(self, base, changes):
+        got = quick(self, base, changes)
+        if got is not None:
+            taken["quick models"] += 1
+            full = base.with_changes(changes)
+            assert got.items == full.items and got.raw == full.raw
+        return got
+    with monkeypatch.context() as mp:
+        mp.setattr(opt, "_resolve", counting_resolve)
+        mp.setattr(opt.DispatchModels, "_with_flows", counting_quick)
+        fast = optimise(m, cs).table
+    assert taken["rejected on trial"] > 10 and taken["quick models"] > 10, taken
+    with monkeypatch.context() as mp:
+        mp.setattr(opt, "_resolve",                         # no trial balance
+                   lambda *a, above=None, **k: resolve(*a, **k))
+        mp.setattr(opt.DispatchModels, "_with_flows", lambda self, base, ch: None)
+        plain = optimise(m, cs).table
+    assert fast.equals(plain)

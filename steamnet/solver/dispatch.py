@@ -32,12 +32,13 @@ import numpy as np
 
 from .linear import (duty_header_rows, equality_rows, exhaust_inequalities, exhaust_rows,
                      dense_rows, flow_bounds, header_rows)
-from .lp import solve_lp
+from .lp import solve_bounds, solve_lp
 from .network import Coeffs, Net
 from .slack import slack_costs
 from .results import _boiler
 
-__all__ = ["DispatchLP", "movable", "cost_terms", "solve_dispatch", "supplied_header",
+__all__ = ["DispatchLP", "Prepared", "movable", "cost_terms", "solve_dispatch",
+           "prepare_dispatch", "solve_prepared", "supplied_header",
            "FLOW_TOL"]
 
 #: A flow within this of a bound is at the bound [kg/s]
@@ -308,20 +309,33 @@ def assemble(net: Net, co: Coeffs, h: list[float], lo: np.ndarray, hi: np.ndarra
                      col_on)
 
 
-def solve_dispatch(net: Net, co: Coeffs, h: list[float], *,
-                   stop: bool = True, energy: bool = True,
-                   around: tuple | None = None, caps: dict | None = None) -> DispatchLP:
-    """The cheapest dispatch at the coefficients ``co`` of header enthalpies ``h``
-    (see the module docstring). ``stop`` lets ``can_stop`` boilers stop; without
-    ``energy`` every header has its mass row (the duty users' flows held), the
-    programme of a first, longer step. ``around = (x, radius)`` keeps every moved flow
-    (but a boiler's that may stop) within ``radius`` of ``x`` [kg/s]: a trust region,
-    never reported as a binding limit. ``caps`` (flow -> (largest flow, limit name))
-    adds limits found elsewhere, such as a station check's fail limit written as a
-    bound [kg/s]."""
-    model = net.model
-    pr, site = model.prices, model.site
-    n, nh = len(net.vars), len(net.headers)
+@dataclass(eq=False)
+class Prepared:
+    """The programme of one dispatch before a trust region (:func:`prepare_dispatch`):
+    the flows' ranges and the limits that named them, the programme, and the copy of
+    it HiGHS holds after its last solve (``kept``), which a solve with only other
+    bounds (a trust region) starts from."""
+
+    net: Net
+    co: Coeffs
+    h: list
+    free: frozenset
+    lo: np.ndarray
+    hi: np.ndarray
+    own_lo: np.ndarray
+    own_hi: np.ndarray
+    spray_capped: dict
+    stoppable: list
+    ex: list
+    pg: Programme
+    kept: object = None
+
+
+def prepare_dispatch(net: Net, co: Coeffs, h: list[float], *, stop: bool = True,
+                     energy: bool = True, caps: dict | None = None) -> Prepared:
+    """The programme of :func:`solve_dispatch` at the coefficients ``co`` of header
+    enthalpies ``h``, without a trust region: :func:`solve_prepared` solves it, with
+    one or without, as often as needed."""
     free = movable(net)
     lo, hi = flow_bounds(net, co, free, pumps=True)
     own_lo, own_hi = lo.copy(), hi.copy()
@@ -344,50 +358,88 @@ def solve_dispatch(net: Net, co: Coeffs, h: list[float], *,
         for b in net.boilers:
             if b["var"] in free and b["item"].can_stop and lo[b["var"]] > 0:
                 stoppable.append(b)
-    if around is not None:
-        xc, radius = around
-        skip = {b["var"] for b in stoppable}
-        for vi in free:
-            if vi not in skip:
-                lo[vi] = min(max(lo[vi], xc[vi] - radius), hi[vi])
-                hi[vi] = max(min(hi[vi], xc[vi] + radius), lo[vi])
     eq = equality_rows(net, co, h, shares=False, free=free, pumps=True)
     ex = exhaust_rows(net)
     rows_ub, b_ub = exhaust_inequalities(net)
     pg = assemble(net, co, h, lo, hi, eq, rows_ub, b_ub, energy=energy,
                   stoppable=stoppable)
+    return Prepared(net, co, list(h), free, lo, hi, own_lo, own_hi, spray_capped, stoppable, ex, pg)
+
+
+def solve_dispatch(net: Net, co: Coeffs, h: list[float], *,
+                   stop: bool = True, energy: bool = True,
+                   around: tuple | None = None, caps: dict | None = None) -> DispatchLP:
+    """The cheapest dispatch at the coefficients ``co`` of header enthalpies ``h``
+    (see the module docstring). ``stop`` lets ``can_stop`` boilers stop; without
+    ``energy`` every header has its mass row (the duty users' flows held), the
+    programme of a first, longer step. ``around = (x, radius)`` keeps every moved flow
+    (but a boiler's that may stop) within ``radius`` of ``x`` [kg/s]: a trust region,
+    never reported as a binding limit. ``caps`` (flow -> (largest flow, limit name))
+    adds limits found elsewhere, such as a station check's fail limit written as a
+    bound [kg/s]. (:func:`prepare_dispatch` and :func:`solve_prepared` apart.)"""
+    return solve_prepared(prepare_dispatch(net, co, h, stop=stop, energy=energy,
+                                           caps=caps), around=around)
+
+
+def solve_prepared(prep: Prepared, *, around: tuple | None = None) -> DispatchLP:
+    """The programme ``prep`` solved, within the trust region ``around`` (see
+    :func:`solve_dispatch`). A linear programme solved before goes back to HiGHS with
+    only the new bounds, from its last basis (:func:`steamnet.solver.lp.solve_bounds`):
+    the same optimum as a solve anew, found in fewer steps."""
+    net, free, pg = prep.net, prep.free, prep.pg
+    site = net.model.site
+    n, nh = len(net.vars), len(net.headers)
+    lo, hi = prep.lo.copy(), prep.hi.copy()
+    lo_all, hi_all = pg.lo.copy(), pg.hi.copy()
+    if around is not None:
+        xc, radius = around
+        skip = {b["var"] for b in prep.stoppable}
+        for vi in free:
+            if vi not in skip:
+                lo[vi] = min(max(lo[vi], xc[vi] - radius), hi[vi])
+                hi[vi] = max(min(hi[vi], xc[vi] + radius), lo[vi])
+                # the flows' columns are not scaled
+                lo_all[vi], hi_all[vi] = lo[vi], hi[vi]
     cost, const, a_eq, a_ub, b_eq, b_ub = pg.cost, pg.const, pg.a_eq, pg.a_ub, \
         pg.b_eq, pg.b_ub
-    lo_all, hi_all, scale, nc, col_on = pg.lo, pg.hi, pg.scale, pg.nc, pg.col_on
+    scale, nc, col_on = pg.scale, pg.nc, pg.col_on
+    spray_capped, own_lo, own_hi = prep.spray_capped, prep.own_lo, prep.own_hi
     demand = site.power_demand
     hours = 3600.0
-    bounds = list(zip(_none(lo_all), _none(hi_all)))
     if lo_all.size and (lo_all > hi_all + 1e-12).any():
-        return _infeasible(net, co, h, free, lo, hi, "a flow's range is empty",
-                           spray_capped)
+        return _infeasible(net, prep.co, prep.h, free, lo, hi,
+                           "a flow's range is empty", spray_capped)
     gap = 0.0
     stopped: list[str] = []
-    if stoppable:
+    res = None
+    if prep.stoppable:
         integrality = np.zeros(nc)
         integrality[col_on:] = 1
         res = solve_lp(cost * hours, A_ub=a_ub, b_ub=b_ub or None, A_eq=a_eq,
                        b_eq=np.array(b_eq), lo=lo_all, hi=hi_all,
                        integrality=integrality)
         if res.status == 2:
-            return _infeasible(net, co, h, free, lo, hi, named=spray_capped)
+            return _infeasible(net, prep.co, prep.h, free, lo, hi,
+                               named=spray_capped)
         if res.x is None:
             return DispatchLP("failed", f"the mixed-integer programme failed: "
                               f"{res.message}", np.full(n, np.nan))
         gap = float(getattr(res, "mip_gap", 0.0) or 0.0)
         on = np.round(res.x[col_on:])
-        for j, b in enumerate(stoppable):
-            bounds[col_on + j] = (on[j], on[j])
+        for j, b in enumerate(prep.stoppable):
+            lo_all[col_on + j] = hi_all[col_on + j] = on[j]
             if on[j] == 0:
                 stopped.append(b["name"])
-    res = solve_lp(cost * hours, A_ub=a_ub, b_ub=b_ub or None, A_eq=a_eq,
-                   b_eq=np.array(b_eq), bounds=bounds)
+        res = None
+    else:
+        res = solve_bounds(prep.kept, lo_all, hi_all)
+    if res is None:
+        res = solve_lp(cost * hours, A_ub=a_ub, b_ub=b_ub or None, A_eq=a_eq,
+                       b_eq=np.array(b_eq), lo=lo_all, hi=hi_all, keep=True)
+    prep.kept = res.kept
     if res.status == 2:
-        return _infeasible(net, co, h, free, lo, hi, named=spray_capped)
+        return _infeasible(net, prep.co, prep.h, free, lo, hi,
+                           named=spray_capped)
     if res.status == 3:
         open_ = [_label(net, vi) for vi in sorted(free) if not math.isfinite(hi[vi])]
         return DispatchLP("unbounded", "the cost falls without end: a flow without a "
@@ -411,7 +463,7 @@ def solve_dispatch(net: Net, co: Coeffs, h: list[float], *,
                             "value": site.max_power_export / 1e6, "unit": "MW",
                             "worth_per_h": -float(res.upper.marginals[n + 1])})
     k = 0
-    for ti, (terms, vmin, vmax) in enumerate(ex):
+    for ti, (terms, vmin, vmax) in enumerate(prep.ex):
         for side, lim in (("min_exhaust_flow", vmin), ("max_exhaust_flow", vmax)):
             if side == "max_exhaust_flow" and not math.isfinite(vmax):
                 continue

@@ -21,7 +21,7 @@ from dataclasses import dataclass
 import numpy as np
 from scipy import sparse
 
-__all__ = ["LPResult", "solve_lp", "OPTIMAL", "INFEASIBLE", "UNBOUNDED", "FAILED"]
+__all__ = ["LPResult", "Kept", "solve_lp", "solve_bounds", "OPTIMAL", "INFEASIBLE", "UNBOUNDED", "FAILED"]
 
 #: Status numbers, as scipy.optimize.linprog gives them
 OPTIMAL, FAILED, INFEASIBLE, UNBOUNDED = 0, 1, 2, 3
@@ -130,6 +130,7 @@ class LPResult:
     eq_up: np.ndarray | None = None
     eq_up_leaving: list | None = None
     eq_response: dict | None = None
+    kept: "Kept | None" = None
 
 
 def _rows(a, n: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -156,17 +157,32 @@ def _bounds(bounds, n: int) -> tuple[np.ndarray, np.ndarray]:
     return lo, hi
 
 
+@dataclass(eq=False)
+class Kept:
+    """A linear programme left in this thread's HiGHS object by :func:`solve_lp`
+    (``keep=True``), to be solved again with other column bounds
+    (:func:`solve_bounds`)."""
+
+    n: int
+    m_ub: int
+    m: int
+    beq: np.ndarray
+
+
 def solve_lp(c, A_ub=None, b_ub=None, A_eq=None, b_eq=None, bounds=None, *,
              lo=None, hi=None, integrality=None, ranging: bool = False,
-             respond=None) -> LPResult:
+             respond=None, keep: bool = False) -> LPResult:
     """Minimise ``c @ x`` subject to ``A_ub @ x <= b_ub``, ``A_eq @ x == b_eq`` and the
     bounds (a list of ``(low, high)`` pairs, None for no bound, as for
     ``scipy.optimize.linprog``; or the arrays ``lo`` and ``hi``, infinite for none).
     ``integrality`` (1 for an integer column) makes it a mixed-integer programme;
     ``ranging`` asks a linear one how far each equality row's right-hand side may rise
     with the same basis (``eq_up``, ``eq_up_leaving``); ``respond`` (equality rows)
-    how the columns answer a rise of each one's right-hand side (``eq_response``)."""
+    how the columns answer a rise of each one's right-hand side (``eq_response``).
+    With ``keep`` a linear programme stays in HiGHS: the answer's ``kept`` is for
+    :func:`solve_bounds`."""
     import highspy
+    _local.kept = None
     c = np.asarray(c, dtype=float)
     n = c.size
     if lo is None:
@@ -198,6 +214,39 @@ def solve_lp(c, A_ub=None, b_ub=None, A_eq=None, b_eq=None, bounds=None, *,
     h.setOptionValue("presolve", "on" if mip or n >= PRESOLVE_FROM else "off")
     h.passModel(lp)
     h.run()
+    kept = Kept(n, m_ub, len(starts) - 1, beq) if keep and not mip else None
+    _local.kept = kept
+    res = _answer(h, n, m_ub, len(starts) - 1, beq, mip, ranging, respond)
+    res.kept = kept
+    return res
+
+
+def solve_bounds(kept: Kept, lo, hi) -> LPResult | None:
+    """The programme ``kept`` (:func:`solve_lp` with ``keep``) solved again with the
+    column bounds ``lo`` and ``hi`` (infinite for none), from the basis of its last
+    solve (HiGHS's dual simplex: the basis stays dual feasible when only bounds
+    change). None when this thread's HiGHS object holds another programme by now;
+    the caller then solves it anew."""
+    import highspy
+    if kept is None or getattr(_local, "kept", None) is not kept:
+        return None
+    h = _highs()
+    inf = highspy.kHighsInf
+    lo, hi = np.asarray(lo, dtype=float), np.asarray(hi, dtype=float)
+    h.changeColsBounds(kept.n, np.arange(kept.n, dtype=np.int32),
+                       np.where(np.isfinite(lo), lo, -inf),
+                       np.where(np.isfinite(hi), hi, inf))
+    h.run()
+    res = _answer(h, kept.n, kept.m_ub, kept.m, kept.beq, False, False, None)
+    res.kept = kept
+    return res
+
+
+def _answer(h, n: int, m_ub: int, m: int, beq, mip: bool, ranging: bool,
+            respond) -> LPResult:
+    """The answer of the programme HiGHS ``h`` has just solved."""
+    import highspy
+    inf = highspy.kHighsInf
     st = h.getModelStatus()
     S = highspy.HighsModelStatus
     if st == S.kOptimal:
@@ -229,7 +278,7 @@ def solve_lp(c, A_ub=None, b_ub=None, A_eq=None, b_eq=None, bounds=None, *,
         if ranging:
             _ranging(h, res, n, m_ub, beq, inf)
         if respond is not None:
-            res.eq_response = _responses(h, n, m_ub, len(starts) - 1, respond)
+            res.eq_response = _responses(h, n, m_ub, m, respond)
     return res
 
 

@@ -47,7 +47,8 @@ from ..model.cases import CaseSet, sweep_specs
 from ..model.schema import SI
 from ..model.validate import validate_model
 from ..solve import CaseResult, StudyResult, solve_model
-from ..solver.dispatch import DispatchLP, movable, solve_dispatch, supplied_header
+from ..solver.dispatch import (DispatchLP, movable, prepare_dispatch, solve_prepared,
+                               supplied_header)
 from ..solver.network import coefficients
 from ..status import CaseStatus
 from .common import Progress, resolve_cases
@@ -270,31 +271,106 @@ class DispatchModels:
     flows (a fixed flow above its maximum, a Willans line at the fixed flow) pass for
     such flows when they passed for the element swinging over that range. ``net`` is the
     last Net solved, the template of the next (:func:`steamnet.solver.network.build`).
+
+    An element whose item is the one met before (the hours of a profile share the items
+    they do not change) with the same modes is not validated again either: its item is
+    the one validated then with the new flows set (:meth:`_with_flows`), a flow field
+    reading an SI value as the number itself; the item's checks across fields run on it.
     """
 
     def __init__(self):
         self._valid: dict = {}
+        #: (table, item, its mode changes, its flow fields) -> (the item changed, the
+        #: item validated with the changes)
+        self._items: dict = {}
         self.net = None
 
     def model(self, base, changes: dict, origin: str):
-        m = base.with_changes(changes, origin=origin)
         modes = tuple(sorted((k, str(v)) for k, v in changes.items()
                              if k.rsplit(".", 1)[-1] not in _FLOW_FIELDS))
         key = (id(base.graph), modes)
+        if key in self._valid:
+            m = self._with_flows(base, changes)
+            if m is not None:
+                return m
+        m = base.with_changes(changes, origin=origin)
         if key not in self._valid:
             validate_model(m)
             self._valid[key] = base.graph       # kept, so that the id stays its own
+        for (table, item), (ik, _, _) in _by_item(changes).items():
+            self._items[ik] = (base.items[table][item], m.items[table][item])
         return m
+
+    def _with_flows(self, base, changes: dict):
+        """``base.with_changes(changes)`` from the items validated before, or None
+        when an item changed is not one met before with the same modes."""
+        from ..model.fields import set_path
+        from ..model.model import _copy_raw
+        items, raw = dict(base.items), dict(base.raw)
+        copied: set = set()
+        for (table, item), (ik, flows, every) in _by_item(changes).items():
+            hit = self._items.get(ik)
+            if hit is None or hit[0] is not base.items[table][item]:
+                return None
+            new = _set_flows(hit[1], flows)
+            try:
+                new.check()
+            except ValueError:
+                return None
+            if table not in copied:
+                items[table], raw[table] = dict(items[table]), dict(raw[table])
+                copied.add(table)
+            items[table][item] = new
+            raw[table][item] = r = _copy_raw(raw[table][item])
+            for path, v, k in every:
+                set_path(r, list(path), v, key=k, file=base.source, origin="")
+        return replace(base, items=items, raw=raw)
+
+
+def _by_item(changes: dict) -> dict:
+    """(table, item) -> (the key of its validated item in :class:`DispatchModels`,
+    its flow changes as (field path, value), and all its changes as (field path,
+    value, change key) in their order)."""
+    out: dict = {}
+    for k, v in changes.items():
+        table, item, *path = k.split(".")
+        parts = out.setdefault((table, item), ([], [], []))
+        parts[path[-1] in _FLOW_FIELDS].append((tuple(path), v))
+        parts[2].append((tuple(path), v, k))
+    return {ti: ((ti[0], ti[1], tuple(sorted((p, str(v)) for p, v in modes)),
+                  tuple(sorted(p for p, _ in flows))), flows, every)
+            for ti, (modes, flows, every) in out.items()}
+
+
+def _set_flows(item, flows):
+    """``item`` with the flow fields of ``flows`` ((path, value) pairs: ``flow``,
+    ``steam`` or ``extractions.<header>.flow``) set to the values [kg/s]."""
+    top = {p[-1]: float(v) for p, v in flows if len(p) == 1}
+    ext = {p[1]: float(v) for p, v in flows if len(p) == 3 and p[0] == "extractions"}
+    if ext:
+        top["extractions"] = [e.model_copy(update={"flow": ext[e.header]})
+                              if e.header in ext else e for e in item.extractions]
+    return item.model_copy(update=top)
 
 
 def _resolve(control: CaseResult, net, x, lo, hi, free, tables: bool, h_start,
-             models: DispatchModels | None = None):
-    """The ordinary balance of the case with the dispatch ``x`` as fixed flows."""
+             models: DispatchModels | None = None, *, above: float | None = None):
+    """The ordinary balance of the case with the dispatch ``x`` as fixed flows. With
+    ``above`` (the cost to beat [currency/h]) a trial balance first: None when the
+    dispatch costs more than that (see :data:`ROUGH_TOL_X`)."""
     closing = _closing(net, x, lo, hi, free)
     changes = fixed_dispatch_changes(net, x, closing)
     models = models or DispatchModels()
     m = models.model(net.model, changes, f"optimal dispatch of case '{control.case}'")
-    r = solve_model(m, control.case, start={"h": h_start, "modes": []}, tables=tables,
+    start = {"h": h_start, "modes": []}
+    if above is not None and math.isfinite(above):
+        rough = solve_model(m, control.case, start=start, tables=False, streams=False,
+                            like=models.net, tol_x=ROUGH_TOL_X, tol_h=ROUGH_TOL_H)
+        if rough.solution is not None:
+            models.net = rough.solution.net
+        if _cost(rough) > above + ROUGH_MARGIN_REL * abs(above):
+            return None
+    r = solve_model(m, control.case, start=start, tables=tables,
                     streams=False, like=models.net)
     if r.solution is not None:
         models.net = r.solution.net
@@ -320,6 +396,21 @@ class _Run:
 
 #: A round is accepted when the balance's cost falls by more than this fraction [-]
 _ACCEPT_REL = 1e-9
+#: A round's balance is first solved to these looser tolerances (largest change of a
+#: flow [kg/s] and of a header enthalpy [J/kg] between iterations, against 1e-9 kg/s
+#: and about 3e-4 J/kg): a dispatch that costs more than the accepted one by more
+#: than :data:`ROUGH_MARGIN_REL` there is rejected without the full balance, which
+#: would reject it too. Four iterations instead of six on the demo year, the trial's
+#: cost within 2e-4 EUR/h of the full balance's (1e-7 of it) in 192 rounds
+#: (docs/performance.md, "Fourth round"); a trial within the margin, or one that does
+#: not balance, goes on to the full balance, from the same start, so the answer is
+#: the one without the trial.
+ROUGH_TOL_X = 1e-4
+ROUGH_TOL_H = 1.0
+#: The margin by which a trial balance must cost more than the accepted one to be
+#: rejected, a fraction of the accepted cost: a hundred times the largest difference
+#: between trial and full costs measured (above) [-]
+ROUGH_MARGIN_REL = 1e-5
 
 
 #: Steam flow at which a let-down valve is sized to find its flow at the fail limit of
@@ -392,6 +483,15 @@ def _rounds(control: CaseResult, net, free, *, first_mass: bool, tol: float,
         if key not in caps_at:
             caps_at[key] = station_caps(net, h_now)
         return caps_at[key]
+    made: dict = {}             # the programmes of the coefficients met, by form: a
+                                # rejected round's next one differs in its bounds only
+
+    def dispatch(energy: bool = True, around=None) -> DispatchLP:
+        key = (id(co), energy)
+        if key not in made:
+            made.clear()
+            made[key] = (co, prepare_dispatch(net, co, h, energy=energy, caps=caps(h)))
+        return solve_prepared(made[key][1], around=around)
     rejected = 0
     run = _Run()
     if start is not None:
@@ -408,8 +508,7 @@ def _rounds(control: CaseResult, net, free, *, first_mass: bool, tol: float,
             co = coefficients(net, h, list(x))
     for run.rounds in range(1, max_rounds + 1):
         around = None if math.isinf(radius) else (x, radius)
-        lp = solve_dispatch(net, co, h, energy=not (first_mass and run.rounds == 1),
-                            around=around, caps=caps(h))
+        lp = dispatch(energy=not (first_mass and run.rounds == 1), around=around)
         if lp.status != "optimal":
             if around is None and run.res is None:
                 run.failed = CaseOptimum(control.case, lp.status if lp.status ==
@@ -422,8 +521,9 @@ def _rounds(control: CaseResult, net, free, *, first_mass: bool, tol: float,
         if run.move < tol:
             run.lp, run.settled = lp, True
             break
-        res = _resolve(control, net, lp.x, lp.lo, lp.hi, free, tables, h, models)
-        cost = _cost(res)
+        res = _resolve(control, net, lp.x, lp.lo, lp.hi, free, tables, h, models,
+                       above=best)
+        cost = _cost(res) if res is not None else math.inf
         if cost < best - _ACCEPT_REL * abs(best) or (math.isinf(best) and
                                                      math.isfinite(cost)):
             run.lp, run.res, best = lp, res, cost
@@ -445,7 +545,7 @@ def _rounds(control: CaseResult, net, free, *, first_mass: bool, tol: float,
     if run.lp is None or run.res is None or run.move >= tol:
         # settled by a shrunk trust region (or nothing lowered the cost): the
         # programme held around the accepted dispatch gives its duals and limits
-        run.lp = solve_dispatch(net, co, h, around=(x, tol), caps=caps(h))
+        run.lp = dispatch(around=(x, tol))
         if run.lp.status == "optimal":
             run.move = float(np.abs(run.lp.x[order] - x[order]).max(initial=0.0))
     if run.res is None:
