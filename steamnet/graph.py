@@ -24,8 +24,10 @@ _SOURCE_KINDS = ("boiler", "steam_transfer")
 #: Fields that :func:`build_graph` does not read, by table (``site`` and ``prices`` for
 #: their tables): a case that changes only these has the graph of the model it is based
 #: on, and :meth:`steamnet.model.Model.with_values` shares it instead of building it
-#: again. Keep in step with build_graph: a field it starts to read must leave this list
-#: (tests/test_speed_equivalence.py changes each of them and compares the graphs).
+#: again, and the station data (:func:`steamnet.model.stations.station_data`, which
+#: reads none of them either). Keep in step with both: a field either starts to read
+#: must leave this list (tests/test_speed_equivalence.py changes each of them and
+#: compares the graphs and the station data).
 GRAPH_FREE_FIELDS = {
     "site": frozenset({"name", "makeup_temperature"}),
     "prices": frozenset({"fuel", "electricity", "makeup_water"}),

@@ -531,7 +531,9 @@ def test_trial_balances_and_quick_models_leave_the_answers_as_they_were(monkeypa
     cs = read_case_table(ROOT / "cases" / "orlewick_hourly.csv", m, base="winter")
     cs = cs.select(list(cs)[:30])
     taken = {"rejected on trial": 0, "quick models": 0}
+    from steamnet.model.stations import station_data
     resolve, quick = opt._resolve, opt.DispatchModels._with_flows
+    model = opt.DispatchModels.model
 
     def counting_resolve(*a, **k):
         r = resolve(*a, **k)
@@ -545,9 +547,15 @@ def test_trial_balances_and_quick_models_leave_the_answers_as_they_were(monkeypa
             full = base.with_changes(changes)
             assert got.items == full.items and got.raw == full.raw
         return got
+
+    def checking_model(self, base, changes, origin):
+        got = model(self, base, changes, origin)
+        assert got.stations == station_data(got)     # the station data it shares
+        return got
     with monkeypatch.context() as mp:
         mp.setattr(opt, "_resolve", counting_resolve)
         mp.setattr(opt.DispatchModels, "_with_flows", counting_quick)
+        mp.setattr(opt.DispatchModels, "model", checking_model)
         fast = optimise(m, cs).table
     assert taken["rejected on trial"] > 10 and taken["quick models"] > 10, taken
     with monkeypatch.context() as mp:

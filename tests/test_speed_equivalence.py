@@ -23,6 +23,7 @@ import steamnet
 from steamnet import properties as props
 from steamnet.graph import GRAPH_FREE_FIELDS, build_graph
 from steamnet.model.schema import SI
+from steamnet.model.stations import station_data
 from steamnet.model.validate import validate_model
 from steamnet.solver import balance
 from steamnet.solver import reference as ref_module
@@ -225,7 +226,7 @@ def test_graph_free_fields_keep_the_graph(demo):
     """Every field listed as not read by build_graph, changed where the demo model has
     it: the graph that with_values shares is the graph built from the changed model."""
     base = demo.for_case("winter")
-    base.graph
+    base.graph, base.stations
     tried = 0
     for table, fields in GRAPH_FREE_FIELDS.items():
         for field in sorted(fields):
@@ -246,6 +247,8 @@ def test_graph_free_fields_keep_the_graph(demo):
             validate_model(m)
             assert m.graph is base.graph, key
             assert _graph_data(build_graph(m)) == _graph_data(base.graph), key
+            assert m.stations is base.stations, key
+            assert station_data(m) == base.stations, key
             tried += 1
     assert tried >= 15
 

@@ -336,6 +336,10 @@ class CaseModels:
         if m is None:
             m = self.bases[key] = make()
             m.graph                           # built once, shared by the cases on m
+            try:
+                m.stations                    # the same (with_values shares both)
+            except ModelError:
+                pass                          # reported where a case's checks read it
         return m
 
     def get(self, spec) -> tuple[Model, str]:

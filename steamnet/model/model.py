@@ -196,10 +196,13 @@ class Model:
         to a field the graph does not depend on (``steamnet.graph.GRAPH_FREE_FIELDS``:
         demands, duties, make-up temperature, heat losses, prices ...), as in the cases
         of an hourly profile. The result is the same model; only the graph is not built
-        again."""
+        again, nor the station data (:attr:`stations`), which reads none of those fields
+        either."""
         new = self.with_changes(changes, origin=origin)
-        if new is not self and "graph" in self.__dict__ and graph_free(changes):
-            new.__dict__["graph"] = self.__dict__["graph"]   # the cached_property's slot
+        if new is not self and graph_free(changes):
+            for slot in ("graph", "stations"):          # the cached_properties' slots
+                if slot in self.__dict__:
+                    new.__dict__[slot] = self.__dict__[slot]
         return new
 
     def with_item(self, table: str, data: dict, *, origin: str = "added item") -> "Model":

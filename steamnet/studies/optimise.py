@@ -276,6 +276,9 @@ class DispatchModels:
     they do not change) with the same modes is not validated again either: its item is
     the one validated then with the new flows set (:meth:`_with_flows`), a flow field
     reading an SI value as the number itself; the item's checks across fields run on it.
+    Every model shares the station data of ``base``
+    (:func:`~steamnet.model.stations.station_data`), which reads none of the fields a
+    dispatch changes (modes, priorities, flows).
     """
 
     def __init__(self):
@@ -284,8 +287,14 @@ class DispatchModels:
         #: item validated with the changes)
         self._items: dict = {}
         self.net = None
+        self.trial = None           # the last trial balance's (flows, enthalpies)
 
     def model(self, base, changes: dict, origin: str):
+        m = self._model(base, changes, origin)
+        m.__dict__["stations"] = base.stations          # the cached_property's slot
+        return m
+
+    def _model(self, base, changes: dict, origin: str):
         modes = tuple(sorted((k, str(v)) for k, v in changes.items()
                              if k.rsplit(".", 1)[-1] not in _FLOW_FIELDS))
         key = (id(base.graph), modes)
@@ -354,20 +363,34 @@ def _set_flows(item, flows):
 
 
 def _resolve(control: CaseResult, net, x, lo, hi, free, tables: bool, h_start,
-             models: DispatchModels | None = None, *, above: float | None = None):
-    """The ordinary balance of the case with the dispatch ``x`` as fixed flows. With
-    ``above`` (the cost to beat [currency/h]) a trial balance first: None when the
-    dispatch costs more than that (see :data:`ROUGH_TOL_X`)."""
+             models: DispatchModels | None = None, *, above: float | None = None,
+             x_start=None):
+    """The ordinary balance of the case with the dispatch ``x`` as fixed flows, from
+    the enthalpies ``h_start`` (of the dispatch ``x_start``). With ``above`` (the cost
+    to beat [currency/h]) a trial balance first: None when the dispatch costs more
+    than that (see :data:`ROUGH_TOL_X`)."""
     closing = _closing(net, x, lo, hi, free)
     changes = fixed_dispatch_changes(net, x, closing)
     models = models or DispatchModels()
     m = models.model(net.model, changes, f"optimal dispatch of case '{control.case}'")
     start = {"h": h_start, "modes": []}
     if above is not None and math.isfinite(above):
-        rough = solve_model(m, control.case, start=start, tables=False, streams=False,
+        # from the enthalpies of the nearer of the dispatches balanced before: the
+        # accepted one (h_start) or the last trial's (in the hours of a profile, the
+        # programme tends to propose the move it proposed the hour before)
+        trial_h = h_start
+        if models.trial is not None and x_start is not None \
+                and len(models.trial[0]) == len(x):
+            order = sorted(free)
+            if np.abs(models.trial[0][order] - x[order]).max(initial=0.0) < \
+                    np.abs(np.asarray(x_start)[order] - x[order]).max(initial=0.0):
+                trial_h = models.trial[1]
+        rough = solve_model(m, control.case, start={"h": trial_h, "modes": []},
+                            tables=False, streams=False,
                             like=models.net, tol_x=ROUGH_TOL_X, tol_h=ROUGH_TOL_H)
         if rough.solution is not None:
             models.net = rough.solution.net
+            models.trial = (np.array(x, dtype=float), list(rough.solution.h))
         if _cost(rough) > above + ROUGH_MARGIN_REL * abs(above):
             return None
     r = solve_model(m, control.case, start=start, tables=tables,
@@ -400,15 +423,16 @@ _ACCEPT_REL = 1e-9
 #: flow [kg/s] and of a header enthalpy [J/kg] between iterations, against 1e-9 kg/s
 #: and about 3e-4 J/kg): a dispatch that costs more than the accepted one by more
 #: than :data:`ROUGH_MARGIN_REL` there is rejected without the full balance, which
-#: would reject it too. Four iterations instead of six on the demo year, the trial's
-#: cost within 2e-4 EUR/h of the full balance's (1e-7 of it) in 192 rounds
-#: (docs/performance.md, "Fourth round"); a trial within the margin, or one that does
-#: not balance, goes on to the full balance, from the same start, so the answer is
-#: the one without the trial.
+#: would reject it too. Three or four iterations instead of six on the demo's
+#: hours, the trial's cost within 2.4e-4 EUR/h of the full balance's (1.3e-7 of it)
+#: in the 540 trials of the first 480 hours (docs/performance.md, "Fourth round"); a
+#: trial within the margin, or one that does not balance, goes on to the full
+#: balance, from the accepted dispatch's enthalpies as without the trial, so the
+#: answer is the one without it.
 ROUGH_TOL_X = 1e-4
 ROUGH_TOL_H = 1.0
 #: The margin by which a trial balance must cost more than the accepted one to be
-#: rejected, a fraction of the accepted cost: a hundred times the largest difference
+#: rejected, a fraction of the accepted cost: 77 times the largest difference
 #: between trial and full costs measured (above) [-]
 ROUGH_MARGIN_REL = 1e-5
 
@@ -522,7 +546,7 @@ def _rounds(control: CaseResult, net, free, *, first_mass: bool, tol: float,
             run.lp, run.settled = lp, True
             break
         res = _resolve(control, net, lp.x, lp.lo, lp.hi, free, tables, h, models,
-                       above=best)
+                       above=best, x_start=x)
         cost = _cost(res) if res is not None else math.inf
         if cost < best - _ACCEPT_REL * abs(best) or (math.isinf(best) and
                                                      math.isfinite(cost)):
