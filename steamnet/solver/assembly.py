@@ -18,6 +18,8 @@ order and from the same floating-point operations, so the two systems are bit-id
 
 from __future__ import annotations
 
+import copy
+
 import numpy as np
 
 from .network import group_bounds, power_row
@@ -184,6 +186,14 @@ class Plan:
         self.out_ld_l, self.fw_ld_l = self.out_ld.tolist(), self.fwm_ld.tolist()
         self.h_da_pos = slots.get(("h_da",), [None])[0]
         self.h_mk_pos = slots.get(("h_mk",), [None])[0]
+
+    def refreshed(self, net) -> "Plan":
+        """This plan for ``net``, a Net of the same structure whose fixed flows may
+        differ (:func:`steamnet.solver.network.rebuild_flows`): the rows that hold
+        them made again, the rest shared."""
+        out = copy.copy(self)
+        out._tail(net)
+        return out
 
     # ------------------------------------------------------------ rows of every mode
     def _tail(self, net) -> None:

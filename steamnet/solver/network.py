@@ -125,6 +125,8 @@ def build(model, like: Net | None = None) -> Net:
     have the same structure (:func:`same_structure`); the result is the same."""
     if like is not None and same_structure(like.model, model):
         return rebuild(like, model)
+    if like is not None and same_structure(like.model, model, flows=True):
+        return rebuild_flows(like, model)
     on = lambda it: getattr(it, "in_service", True)  # noqa: E731
     headers = sorted(model.headers, key=lambda n: (-model.headers[n].pressure, n))
     hidx = {h: i for i, h in enumerate(headers)}
@@ -363,10 +365,37 @@ def _makeup_h(model, da: dict | None) -> float:
 _REBUILT_TABLES = frozenset({"user", "header"})
 
 
-def same_structure(a, b) -> bool:
+#: Fields that set a flow: the value of a fixed element (:func:`rebuild_flows`)
+FLOW_FIELDS = frozenset({"flow", "steam"})
+#: Tables whose items :func:`rebuild_flows` takes with other flows
+_FLOW_TABLES = frozenset({"boiler", "steam_transfer", "turbine", "extraction_turbine",
+                          "letdown"})
+
+
+def _same_but_flows(a, b) -> bool:
+    """Whether items ``a`` and ``b`` differ at most in their flow fields (and an
+    extraction turbine's in its extractions' flows)."""
+    if type(a) is not type(b):
+        return False
+    da, db = a.__dict__, b.__dict__
+    for k, v in da.items():
+        if k in FLOW_FIELDS:
+            continue
+        w = db[k]
+        if k == "extractions" and v is not w:
+            if len(v) != len(w) or not all(_same_but_flows(e, f) for e, f in zip(v, w)):
+                return False
+        elif v is not w and v != w:
+            return False
+    return True
+
+
+def same_structure(a, b, flows: bool = False) -> bool:
     """Whether models ``a`` and ``b`` build Nets that differ only in their users, header
     heat losses and make-up water: the same item objects in every other table, the
-    same headers at the same pressures and the same prices."""
+    same headers at the same pressures and the same prices. With ``flows``, items of
+    the tables of fixed flows (boilers, transfers, turbines, let-downs) may also differ
+    in their flow fields (:func:`rebuild_flows` builds such a Net)."""
     if a is b:
         return True
     if a.prices is not b.prices and a.prices != b.prices:
@@ -378,8 +407,12 @@ def same_structure(a, b) -> bool:
         ta, tb = a.table(t), b.table(t)
         if ta is tb:                          # a table the case did not change
             continue
-        if list(ta) != list(tb) or any(tb[n] is not it for n, it in ta.items()):
+        if list(ta) != list(tb):
             return False
+        for n, it in ta.items():
+            if tb[n] is not it and not (flows and t in _FLOW_TABLES
+                                        and _same_but_flows(it, tb[n])):
+                return False
     return True
 
 
@@ -393,6 +426,41 @@ def rebuild(like: Net, model) -> Net:
                    q_loss=[model.headers[h].heat_loss for h in like.headers],
                    makeup_h=_makeup_h(model, like.deaerator),
                    makeup_t=model.site.makeup_temperature)
+
+
+def rebuild_flows(like: Net, model) -> Net:
+    """The Net of ``model`` from the Net of a model whose items differ at most in their
+    flow fields (``same_structure(..., flows=True)``): :func:`rebuild`, with each such
+    element's item and fixed flow taken from ``model`` and the compiled assembly's
+    right-hand sides of the fixed flows made again. Equal to ``build(model)``."""
+    net = rebuild(like, model)
+    vars_ = list(net.vars)
+
+    def fixed(vi: int, value) -> None:
+        if vars_[vi].fixed is not None:
+            vars_[vi] = replace(vars_[vi], fixed=value)
+
+    lists = {}
+    for attr, table in (("boilers", "boiler"), ("transfers", "steam_transfer"),
+                        ("turbines", "turbine"), ("xturbines", "extraction_turbine"),
+                        ("letdowns", "letdown")):
+        items, out = model.table(table), []
+        for e in getattr(net, attr):
+            it = items[e["name"]]
+            if it is not e["item"]:
+                e = dict(e, item=it)
+                if attr == "xturbines":
+                    fixed(e["in_var"], it.flow)
+                    for x, ext in zip(e["exts"], it.extractions):
+                        fixed(x["var"], ext.flow)
+                else:
+                    fixed(e["var"], it.steam if attr == "boilers" else it.flow)
+            out.append(e)
+        lists[attr] = out
+    net = replace(net, vars=vars_, **lists)
+    if like.plan is not None:
+        net.plan = like.plan.refreshed(net)
+    return net
 
 
 def _liquid_h(item: str, t: float, p_min: float) -> float:

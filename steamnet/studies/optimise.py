@@ -269,8 +269,9 @@ class DispatchModels:
     the same modes on the same structure differs only in flows, each within the range
     its element allows (the programme's bounds lie inside it), and the checks that read
     flows (a fixed flow above its maximum, a Willans line at the fixed flow) pass for
-    such flows when they passed for the element swinging over that range. ``net`` is the
-    last Net solved, the template of the next (:func:`steamnet.solver.network.build`).
+    such flows when they passed for the element swinging over that range. ``nets``
+    holds the last Net solved with each set of modes, the template of the next
+    (:func:`steamnet.solver.network.build`).
 
     An element whose item is the one met before (the hours of a profile share the items
     they do not change) with the same modes is not validated again either: its item is
@@ -286,7 +287,11 @@ class DispatchModels:
         #: (table, item, its mode changes, its flow fields) -> (the item changed, the
         #: item validated with the changes)
         self._items: dict = {}
-        self.net = None
+        #: the last Net solved per set of modes (the template of the next one with
+        #: those modes: the models differ in flows, :func:`~steamnet.solver.network.
+        #: rebuild_flows`), and the key of the last model made
+        self.nets: dict = {}
+        self.key = None
         self.trial = None           # the last trial balance's (flows, enthalpies)
 
     def model(self, base, changes: dict, origin: str):
@@ -297,7 +302,7 @@ class DispatchModels:
     def _model(self, base, changes: dict, origin: str):
         modes = tuple(sorted((k, str(v)) for k, v in changes.items()
                              if k.rsplit(".", 1)[-1] not in _FLOW_FIELDS))
-        key = (id(base.graph), modes)
+        key = self.key = (id(base.graph), modes)
         if key in self._valid:
             m = self._with_flows(base, changes)
             if m is not None:
@@ -373,6 +378,7 @@ def _resolve(control: CaseResult, net, x, lo, hi, free, tables: bool, h_start,
     changes = fixed_dispatch_changes(net, x, closing)
     models = models or DispatchModels()
     m = models.model(net.model, changes, f"optimal dispatch of case '{control.case}'")
+    key = models.key
     start = {"h": h_start, "modes": []}
     if above is not None and math.isfinite(above):
         # from the enthalpies of the nearer of the dispatches balanced before: the
@@ -387,16 +393,17 @@ def _resolve(control: CaseResult, net, x, lo, hi, free, tables: bool, h_start,
                 trial_h = models.trial[1]
         rough = solve_model(m, control.case, start={"h": trial_h, "modes": []},
                             tables=False, streams=False,
-                            like=models.net, tol_x=ROUGH_TOL_X, tol_h=ROUGH_TOL_H)
+                            like=models.nets.get(key), tol_x=ROUGH_TOL_X,
+                            tol_h=ROUGH_TOL_H)
         if rough.solution is not None:
-            models.net = rough.solution.net
+            models.nets[key] = rough.solution.net
             models.trial = (np.array(x, dtype=float), list(rough.solution.h))
         if _cost(rough) > above + ROUGH_MARGIN_REL * abs(above):
             return None
     r = solve_model(m, control.case, start=start, tables=tables,
-                    streams=False, like=models.net)
+                    streams=False, like=models.nets.get(key))
     if r.solution is not None:
-        models.net = r.solution.net
+        models.nets[key] = r.solution.net
     return r
 
 
