@@ -68,16 +68,16 @@ def duty_header_rows(net: Net, co: Coeffs, h: list[float]):
         return rows, const              # a condensed header: keep the mass rows
     inflow = {k: {} for k in duty}      # header -> var -> sum of m (h_in - h_f)
     inmass = {k: {} for k in duty}      # header -> var -> inflow mass coefficient
-    unit = [0.0] * n
-    for vi in range(n):
-        unit[vi] = 1.0
-        ins = header_inflows(net, co, unit, labels=False)
-        unit[vi] = 0.0
-        for k in duty:
-            for _, f, hh in ins[k]:
-                if f:
-                    inflow[k][vi] = inflow[k].get(vi, 0.0) + f * (hh - net.sat[k].hf)
-                    inmass[k][vi] = inmass[k].get(vi, 0.0) + f
+    # the inflows are linear in the flows: with the unit vectors as the flows, each
+    # inflow's "flow" is its row of coefficients per flow (one pass for all flows)
+    ins = header_inflows(net, co, np.eye(n), labels=False)
+    for k in duty:
+        hf = net.sat[k].hf
+        for _, f, hh in ins[k]:
+            for vi in np.flatnonzero(f).tolist():
+                c = float(f[vi])
+                inflow[k][vi] = inflow[k].get(vi, 0.0) + c * (hh - hf)
+                inmass[k][vi] = inmass[k].get(vi, 0.0) + c
     for k in duty:
         terms: dict[int, float] = {}
         for vi, c in rows[k]:               # outflows: what the mass row has beyond

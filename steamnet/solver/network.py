@@ -690,7 +690,8 @@ def pump_weights(net: Net, supply: dict, h: list[float]) -> np.ndarray:
 # ------------------------------------------------------------------ header inflows
 def header_inflows(net: Net, co: Coeffs, x: "np.ndarray | list[float]", labels: bool = True):
     """Per header: list of (source label, flow, enthalpy) entering it (labels None when
-    not asked for, as in the iterations)."""
+    not asked for, as in the iterations). The flows are linear in ``x``: with the rows
+    of an identity matrix as ``x`` each "flow" is its row of coefficients."""
     ins: list[list[tuple[str | None, float, float]]] = [[] for _ in net.headers]
     for b in net.boilers:
         name = b["name"]
@@ -713,7 +714,7 @@ def header_inflows(net: Net, co: Coeffs, x: "np.ndarray | list[float]", labels: 
         label = f"extraction turbine '{t['name']}'" if labels else None
         for j, e in enumerate(t["exts"]):
             ins[e["header"]].append((label, x[e["var"]], c["h"][j + 1]))
-            rest -= x[e["var"]]
+            rest = rest - x[e["var"]]       # (not in place: x may be an array)
         if t["exhaust"] is not None:
             ins[t["exhaust"]].append((label and label + " exhaust", rest, c["h"][-1]))
     for s, c in zip(net.letdowns, co.ld):

@@ -404,7 +404,7 @@ def _resolve(control: CaseResult, net, x, lo, hi, free, tables: bool, h_start,
         rough = solve_model(m, control.case, start=trial_start,
                             tables=False, streams=False,
                             like=models.nets.get(key), tol_x=ROUGH_TOL_X,
-                            tol_h=ROUGH_TOL_H)
+                            tol_h=ROUGH_TOL_H, points=False)
         if rough.solution is not None:
             models.nets[key] = rough.solution.net
             models.trials[key] = (np.array(x, dtype=float), rough.solution)
