@@ -14,8 +14,18 @@ the balances, the dispatch of every hour, the re-solved optima and their finding
 
 Figures: wall time of each [s], CPU time of the process and its workers [s], the ratio
 optimise / cases of the wall times measured in the same run, the programmes and
-balances per hour, and the year's saving [EUR]. The machine is shared: compare the
-ratios of one run, not figures from different runs.
+balances per hour (trial balances counted), and the year's saving [EUR]. The machine is
+shared: compare the ratios of one run, not figures from different runs.
+
+With ``--commands N`` it times instead the two commands as a user types them, each a
+whole process (start-up, reading the model and the profile, the evaluation and the
+printed answer included), N times each, alternating:
+
+    steamnet cases cases/orlewick.toml cases/orlewick_hourly.csv --base winter
+    steamnet optimise cases/orlewick.toml --table cases/orlewick_hourly.csv --base winter
+
+(with ``--quiet --rows 1 --workers W``), and prints the best and the median of each and
+the ratio of the medians.
 """
 
 from __future__ import annotations
@@ -81,14 +91,41 @@ def run_one(what: str, hours: int, workers: int) -> dict:
     return out
 
 
+def time_commands(runs: int, workers: int) -> None:
+    """The two commands on the whole demo year as whole processes, alternating."""
+    import statistics
+    exe = Path(sys.executable).with_name("steamnet")
+    common = ["--base", "winter", "--quiet", "--rows", "1", "--workers", str(workers)]
+    cmds = {"cases": [str(exe), "cases", str(DEMO), str(PROFILE)] + common,
+            "optimise": [str(exe), "optimise", str(DEMO), "--table", str(PROFILE)]
+            + common}
+    times: dict = {k: [] for k in cmds}
+    for _ in range(runs):
+        for what, cmd in cmds.items():
+            t0 = time.perf_counter()
+            subprocess.run(cmd, cwd=ROOT, capture_output=True, text=True)
+            times[what].append(time.perf_counter() - t0)
+    med = {k: statistics.median(v) for k, v in times.items()}
+    print(f"commands on the demo year, workers {workers}, {runs} runs each: "
+          + "; ".join(f"{k} best {min(v):.1f} s, median {med[k]:.1f} s"
+                      for k, v in times.items())
+          + f"; optimise / cases {med['optimise'] / med['cases']:.2f} (medians)")
+
+
 def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--hours", type=int, default=8760)
     ap.add_argument("--workers", type=int, nargs="+", default=[1])
+    ap.add_argument("--commands", type=int, metavar="N",
+                    help="time the two commands on the year, N runs each")
     ap.add_argument("--one", choices=["cases", "optimise"], help=argparse.SUPPRESS)
     a = ap.parse_args()
     if a.one:
         print(json.dumps(run_one(a.one, a.hours, a.workers[0])))
+        return
+    if a.commands:
+        for w in a.workers:
+            time_commands(a.commands, w)
         return
     print(f"demo profile, {a.hours} hours on case 'winter'; each figure from a fresh "
           "process")

@@ -36,7 +36,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field, replace
-from functools import partial
+from functools import cached_property, partial
 
 import numpy as np
 import pandas as pd
@@ -722,9 +722,10 @@ class OptimiseResult:
     kind: str = "cases"
     timestamps: dict = field(default_factory=dict)
 
-    @property
+    @cached_property
     def table(self) -> pd.DataFrame:
-        """One row per case (:data:`CASE_COLUMNS`)."""
+        """One row per case (:data:`CASE_COLUMNS`), made once (the year and the months
+        read it too)."""
         rows = []
         for o in self.cases:
             s = o.saving_per_h
