@@ -24,8 +24,9 @@ printed answer included), N times each, alternating:
     steamnet cases cases/orlewick.toml cases/orlewick_hourly.csv --base winter
     steamnet optimise cases/orlewick.toml --table cases/orlewick_hourly.csv --base winter
 
-(with ``--quiet --rows 1 --workers W``), and prints the best and the median of each and
-the ratio of the medians.
+(with ``--workers W``, the progress bar and the printed answer as a user sees them, the
+output captured), and prints the best and the median of each and the ratio of the
+medians.
 """
 
 from __future__ import annotations
@@ -95,7 +96,7 @@ def time_commands(runs: int, workers: int) -> None:
     """The two commands on the whole demo year as whole processes, alternating."""
     import statistics
     exe = Path(sys.executable).with_name("steamnet")
-    common = ["--base", "winter", "--quiet", "--rows", "1", "--workers", str(workers)]
+    common = ["--base", "winter", "--workers", str(workers)]
     cmds = {"cases": [str(exe), "cases", str(DEMO), str(PROFILE)] + common,
             "optimise": [str(exe), "optimise", str(DEMO), "--table", str(PROFILE)]
             + common}
