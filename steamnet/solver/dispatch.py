@@ -96,7 +96,15 @@ def _dispatchable(net: Net, v) -> bool:
 def movable(net: Net) -> frozenset:
     """The flows the optimiser may move: swing group members, absorbers (vents, swing
     exports), swing extractions, and the flows of elements marked ``dispatchable``
-    (for an extraction turbine, its throttle flow) or ``can_stop``."""
+    (for an extraction turbine, its throttle flow) or ``can_stop``. Worked out once
+    per Net (a Net is never changed once built)."""
+    got = net.__dict__.get("_movable")
+    if got is None:
+        got = net.__dict__["_movable"] = _movable(net)
+    return got
+
+
+def _movable(net: Net) -> frozenset:
     out = {vi for hs in net.swing for g in hs.groups for vi in g.members}
     out.update(vi for hs in net.swing for vi in hs.absorbers)
     for v in net.vars:

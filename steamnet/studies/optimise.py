@@ -322,8 +322,6 @@ class DispatchModels:
     def _with_flows(self, base, changes: dict):
         """``base.with_changes(changes)`` from the items validated before, or None
         when an item changed is not one met before with the same modes."""
-        from ..model.fields import set_path
-        from ..model.model import _copy_raw
         items, raw = dict(base.items), dict(base.raw)
         copied: set = set()
         for (table, item), (ik, flows, every) in _by_item(changes).items():
@@ -339,9 +337,10 @@ class DispatchModels:
                 items[table], raw[table] = dict(items[table]), dict(raw[table])
                 copied.add(table)
             items[table][item] = new
-            raw[table][item] = r = _copy_raw(raw[table][item])
-            for path, v, k in every:
-                set_path(r, list(path), v, key=k, file=base.source, origin="")
+            r = raw[table][item]
+            for path, v, _ in every:
+                r = _raw_set(r, path, v)
+            raw[table][item] = r
         return replace(base, items=items, raw=raw)
 
 
@@ -358,6 +357,25 @@ def _by_item(changes: dict) -> dict:
     return {ti: ((ti[0], ti[1], tuple(sorted((p, str(v)) for p, v in modes)),
                   tuple(sorted(p for p, _ in flows))), flows, every)
             for ti, (modes, flows, every) in out.items()}
+
+
+def _raw_set(raw: dict, path: tuple, value) -> dict:
+    """A copy of the raw item ``raw`` (as read from the model file) with ``path`` set
+    to ``value``: a field, or ``extractions.<header>.<field>`` (the extraction to that
+    header); the parts not on the path are shared, as models share what they do not
+    change."""
+    out = dict(raw)
+    if len(path) == 1:
+        out[path[0]] = value
+        return out
+    _, header, name = path                      # extractions.<header>.<field>
+    exts = list(out.get("extractions", []))
+    for i, e in enumerate(exts):
+        if isinstance(e, dict) and e.get("header") == header:
+            exts[i] = {**e, name: value}
+            break
+    out["extractions"] = exts
+    return out
 
 
 def _set_flows(item, flows):
