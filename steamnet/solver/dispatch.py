@@ -31,7 +31,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from .linear import (duty_header_rows, equality_rows, exhaust_inequalities, exhaust_rows,
-                     dense_rows, flow_bounds, header_rows)
+                     dense_rows, flow_bounds, header_rows, held_flows)
 from .lp import solve_bounds, solve_lp
 from .network import Coeffs, Net
 from .slack import slack_costs
@@ -105,8 +105,7 @@ def movable(net: Net) -> frozenset:
 
 
 def _movable(net: Net) -> frozenset:
-    out = {vi for hs in net.swing for g in hs.groups for vi in g.members}
-    out.update(vi for hs in net.swing for vi in hs.absorbers)
+    out = held_flows(net)
     for v in net.vars:
         if v.kind in ("boiler", "transfer", "turbine", "letdown", "xt_in") \
                 and _dispatchable(net, v):
@@ -371,7 +370,8 @@ def prepare_dispatch(net: Net, co: Coeffs, h: list[float], *, stop: bool = True,
     rows_ub, b_ub = exhaust_inequalities(net)
     pg = assemble(net, co, h, lo, hi, eq, rows_ub, b_ub, energy=energy,
                   stoppable=stoppable)
-    return Prepared(net, co, list(h), free, lo, hi, own_lo, own_hi, spray_capped, stoppable, ex, pg)
+    return Prepared(net, co, list(h), free, lo, hi, own_lo, own_hi, spray_capped,
+                    stoppable, ex, pg)
 
 
 def solve_dispatch(net: Net, co: Coeffs, h: list[float], *,
@@ -419,7 +419,6 @@ def solve_prepared(prep: Prepared, *, around: tuple | None = None) -> DispatchLP
                            "a flow's range is empty", spray_capped)
     gap = 0.0
     stopped: list[str] = []
-    res = None
     if prep.stoppable:
         integrality = np.zeros(nc)
         integrality[col_on:] = 1
@@ -438,9 +437,8 @@ def solve_prepared(prep: Prepared, *, around: tuple | None = None) -> DispatchLP
             lo_all[col_on + j] = hi_all[col_on + j] = on[j]
             if on[j] == 0:
                 stopped.append(b["name"])
-        res = None
-    else:
-        res = solve_bounds(prep.kept, lo_all, hi_all)
+    # a linear programme solved before starts from its last basis
+    res = None if prep.stoppable else solve_bounds(prep.kept, lo_all, hi_all)
     if res is None:
         res = solve_lp(cost * hours, A_ub=a_ub, b_ub=b_ub or None, A_eq=a_eq,
                        b_eq=np.array(b_eq), lo=lo_all, hi=hi_all, keep=True)
@@ -536,12 +534,12 @@ def _infeasible(net, co, h, free, lo, hi, why: str = "",
     rows_ub, b_ub = exhaust_inequalities(net)
     cost = np.zeros(nc)
     cost[n:] = slack_costs(nh)
-    bounds = list(zip(_none(lo), _none(hi))) + [(0.0, None)] * (2 * nh)
     res = None
     if not (lo > hi + 1e-12).any():
         res = solve_lp(cost, A_ub=dense_rows(rows_ub, nc) if rows_ub else None,
                        b_ub=b_ub or None, A_eq=dense_rows(rows_eq, nc),
-                       b_eq=np.array(b_eq), bounds=bounds)
+                       b_eq=np.array(b_eq), lo=np.concatenate([lo, np.zeros(2 * nh)]),
+                       hi=np.concatenate([hi, np.full(2 * nh, math.inf)]))
     if res is None or res.status != 0:
         return DispatchLP("infeasible", "no dispatch meets every limit" +
                           (f" ({why})" if why else " (not even with header slack: the "
@@ -563,9 +561,4 @@ def _infeasible(net, co, h, free, lo, hi, why: str = "",
     return DispatchLP("infeasible", "no dispatch meets every limit: " +
                       ("; ".join(parts) or "the limits conflict"), res.x[:n],
                       short=short, long=long)
-
-
-def _none(a):
-    return [v if math.isfinite(v) else None for v in a]
-
 

@@ -30,6 +30,7 @@ from .network import (Coeffs, Net, header_inflows, power_row, pump_flow_line,
 from .reference import _da_rows, _header_terms
 
 __all__ = ["ENERGY_SCALE", "header_rows", "duty_header_rows", "equality_rows",
+           "held_flows", "pump_rows",
            "exhaust_rows",
            "exhaust_inequalities", "flow_bounds",
            "own_range", "sparse_rows", "dense_rows"]
@@ -129,7 +130,7 @@ def pump_rows(net: Net, co: Coeffs, h: list[float]):
     boilers and sprays the pump feeds at the enthalpies ``h``
     (:func:`~steamnet.solver.network.pump_flow_line`,
     :func:`~steamnet.solver.network.pump_weights`)."""
-    held = _held(net)
+    held = held_flows(net)
     rows = []
     for t, c in zip(net.turbines, co.turb):
         if t["mode"] != "pump" or t["var"] in held:
@@ -142,7 +143,7 @@ def pump_rows(net: Net, co: Coeffs, h: list[float]):
     return rows
 
 
-def _held(net: Net) -> set:
+def held_flows(net: Net) -> set:
     """Flows in a swing group or absorbing in a sequence."""
     held = {vi for hs in net.swing for g in hs.groups for vi in g.members}
     held.update(vi for hs in net.swing for vi in hs.absorbers)
@@ -208,7 +209,7 @@ def flow_bounds(net: Net, co: Coeffs, free: frozenset = frozenset(),
     programme, :func:`pump_rows`) within their own range."""
     lo = np.array([v.lo for v in net.vars], dtype=float)
     hi = np.array([v.hi for v in net.vars], dtype=float)
-    held = _held(net)
+    held = held_flows(net)
     for v in net.vars:
         if v.fixed is not None:
             lo[v.index] = hi[v.index] = v.fixed

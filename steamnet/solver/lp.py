@@ -29,7 +29,9 @@ OPTIMAL, FAILED, INFEASIBLE, UNBOUNDED = 0, 1, 2, 3
 #: Programmes with fewer columns than this are solved without HiGHS's presolve: on the
 #: programmes of a steam balance (tens of columns) presolve costs more than the solve it
 #: shortens, 0.44 ms against 0.19 ms a programme on the demo's (docs/performance.md,
-#: "Fourth round"); mixed-integer programmes keep it [-]
+#: "Fourth round"). The bound itself is a round number of ours, far above those tens
+#: of columns, not measured on larger programmes, which keep presolve as HiGHS
+#: defaults to; so do mixed-integer programmes [-]
 PRESOLVE_FROM = 1000
 
 _local = threading.local()
@@ -157,6 +159,12 @@ def _bounds(bounds, n: int) -> tuple[np.ndarray, np.ndarray]:
     return lo, hi
 
 
+def _highs_bounds(lo, hi, inf: float) -> tuple[np.ndarray, np.ndarray]:
+    """Column bounds as HiGHS takes them: no bound as its infinity ``inf``."""
+    lo, hi = np.asarray(lo, dtype=float), np.asarray(hi, dtype=float)
+    return np.where(np.isfinite(lo), lo, -inf), np.where(np.isfinite(hi), hi, inf)
+
+
 @dataclass(eq=False)
 class Kept:
     """A linear programme left in this thread's HiGHS object by :func:`solve_lp`
@@ -197,8 +205,7 @@ def solve_lp(c, A_ub=None, b_ub=None, A_eq=None, b_eq=None, bounds=None, *,
     lp = highspy.HighsLp()
     lp.num_col_, lp.num_row_ = n, len(starts) - 1
     lp.col_cost_ = c
-    lp.col_lower_ = np.where(np.isfinite(lo), lo, -inf)
-    lp.col_upper_ = np.where(np.isfinite(hi), hi, inf)
+    lp.col_lower_, lp.col_upper_ = _highs_bounds(lo, hi, inf)
     lp.row_lower_ = np.concatenate([np.full(m_ub, -inf), beq])
     lp.row_upper_ = np.concatenate([np.where(np.isfinite(bub), bub, inf), beq])
     lp.a_matrix_.format_ = highspy.MatrixFormat.kRowwise
@@ -232,10 +239,8 @@ def solve_bounds(kept: Kept, lo, hi) -> LPResult | None:
         return None
     h = _highs()
     inf = highspy.kHighsInf
-    lo, hi = np.asarray(lo, dtype=float), np.asarray(hi, dtype=float)
     h.changeColsBounds(kept.n, np.arange(kept.n, dtype=np.int32),
-                       np.where(np.isfinite(lo), lo, -inf),
-                       np.where(np.isfinite(hi), hi, inf))
+                       *_highs_bounds(lo, hi, inf))
     h.run()
     res = _answer(h, kept.n, kept.m_ub, kept.m, kept.beq, False, False, None)
     res.kept = kept

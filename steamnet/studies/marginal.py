@@ -66,7 +66,8 @@ DEFAULT_STEP = 1 / TH
 #: tonne of steam takes from feedwater), below what fuel prices and boiler
 #: efficiencies are known to.
 AGREEMENT = 5e-3
-#: ... or within this, for figures near nought [currency/t]
+#: ... or within this, for figures near nought: the hundredth to which the study
+#: prints its figures [currency/t]
 AGREEMENT_FLOOR = 0.01
 #: Words of the ``method`` column.
 DUAL, FINITE_DIFFERENCE = "dual", "finite difference"

@@ -49,7 +49,7 @@ from ..model.validate import validate_model
 from ..solve import CaseResult, StudyResult, solve_model
 from ..solver.dispatch import (DispatchLP, movable, prepare_dispatch, solve_prepared,
                                supplied_header)
-from ..solver.network import coefficients
+from ..solver.network import FLOW_FIELDS, coefficients
 from ..status import CaseStatus
 from ..sweep import warm_start_from
 from .common import Progress, resolve_cases
@@ -255,8 +255,6 @@ def _flows_by_name(sol) -> dict:
     return {(v.kind, v.item): float(sol.x[v.index]) for v in sol.net.vars}
 
 
-#: Fields of a fixed dispatch that set a flow (the others set a mode or a priority).
-_FLOW_FIELDS = ("flow", "steam")
 
 
 class DispatchModels:
@@ -305,7 +303,7 @@ class DispatchModels:
 
     def _model(self, base, changes: dict, origin: str):
         modes = tuple(sorted((k, str(v)) for k, v in changes.items()
-                             if k.rsplit(".", 1)[-1] not in _FLOW_FIELDS))
+                             if k.rsplit(".", 1)[-1] not in FLOW_FIELDS))
         key = self.key = (id(base.graph), modes)
         if key in self._valid:
             m = self._with_flows(base, changes)
@@ -352,7 +350,7 @@ def _by_item(changes: dict) -> dict:
     for k, v in changes.items():
         table, item, *path = k.split(".")
         parts = out.setdefault((table, item), ([], [], []))
-        parts[path[-1] in _FLOW_FIELDS].append((tuple(path), v))
+        parts[path[-1] in FLOW_FIELDS].append((tuple(path), v))
         parts[2].append((tuple(path), v, k))
     return {ti: ((ti[0], ti[1], tuple(sorted((p, str(v)) for p, v in modes)),
                   tuple(sorted(p for p, _ in flows))), flows, every)
@@ -466,10 +464,9 @@ _ACCEPT_REL = 1e-9
 #: would reject it too. Two iterations (three in one of six) instead of six on the
 #: demo's hours, the trial's cost within 9.4e-3 EUR/h of the full balance's (4.8e-6 of
 #: it) in the 2,252 trials of the first 2,000 hours (docs/performance.md, "Fourth
-#: round"); a trial
-#: within the margin, or one that does not balance, goes on to the full balance, from
-#: the accepted dispatch's enthalpies as without the trial, so the answer is the one
-#: without it.
+#: round"). A trial within the margin, or one that does not balance, goes on to the
+#: full balance, from the accepted dispatch's enthalpies as without the trial, so the
+#: answer is the one without it.
 ROUGH_TOL_X = 3e-3
 ROUGH_TOL_H = 30.0
 #: The margin by which a trial balance must cost more than the accepted one to be
@@ -528,8 +525,8 @@ def _rounds(control: CaseResult, net, free, *, first_mass: bool, tol: float,
     shrinks the trust region around the accepted dispatch to a quarter of its move.
     Settled when the programme moves the dispatch by less than ``tol``, the trust
     region is smaller than that, or :data:`MAX_REJECTED` rounds in a row were rejected.
-    With ``first_mass`` the first programme holds the
-    duty users' flows (a longer first step, see :func:`optimise_result`). With
+    With ``first_mass`` the first programme holds the duty users' flows (a longer first
+    step, see :func:`optimise_result`). With
     ``start`` (moved flows by kind and name, the optimum of a similar case) that
     dispatch, balanced for this case, is the first accepted point when it costs less
     than the control's; a start that does not is left. ``max_rejected`` (default
